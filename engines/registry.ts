@@ -1,0 +1,20 @@
+/**
+ * The only file that lists engines. Add an engine here (and nowhere else) to make it available to study
+ * files, the runner and the reports.
+ */
+import type { Engine } from "./contract.ts";
+import { pointVortexEngine } from "./point-vortex/mod.ts";
+
+// deno-lint-ignore no-explicit-any
+export const ENGINES: readonly Engine<any>[] = [pointVortexEngine];
+
+/** The engine with this id, or undefined. */
+// deno-lint-ignore no-explicit-any
+export function findEngine(id: string): Engine<any> | undefined {
+  return ENGINES.find((e) => e.id === id);
+}
+
+/** Engine ids, for messages and suggestions. */
+export function engineIds(): string[] {
+  return ENGINES.map((e) => e.id);
+}
