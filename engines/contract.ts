@@ -108,6 +108,8 @@ export interface EngineRunInput<P> {
   readonly controls: RunControls;
   /** The realisation's own seeded stream: the only source of randomness. */
   readonly rng: RandomStream;
+  /** Index of this realisation within its parameter point (0-based); engines that read data use it. */
+  readonly realisationIndex?: number;
 }
 
 /** Receives frames and events in time order. Throws `EngineFailure` to stop a run (e.g. NaN guard). */
@@ -135,8 +137,13 @@ export interface Engine<P = unknown> {
    * `.describe()`. Cross-field rules (e.g. odd vortex count with zero polarity) are refinements with a path.
    */
   readonly paramsSchema: z.ZodType<P>;
-  /** Runs one realisation synchronously, streaming frames into the sink. */
-  run(input: EngineRunInput<P>, sink: FrameSink): EngineRunSummary;
+  /** Physical scales observables need (e.g. the core parameter a₀ for the 3D ring-speed check). */
+  scales?(params: P): { readonly coreRadius?: number };
+  /**
+   * Runs one realisation, streaming frames into the sink in time order. Compute engines are synchronous;
+   * engines that read files may return a promise.
+   */
+  run(input: EngineRunInput<P>, sink: FrameSink): EngineRunSummary | Promise<EngineRunSummary>;
 }
 
 /** Why a realisation failed, as stored in the database. */

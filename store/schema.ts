@@ -135,5 +135,4 @@ CREATE TABLE IF NOT EXISTS ensemble_results (
 ) STRICT;
 
 CREATE INDEX IF NOT EXISTS realisations_by_point ON realisations(point_hash, status);
-CREATE INDEX IF NOT EXISTS series_by_name ON series(name);
 `;

@@ -1,0 +1,298 @@
+/**
+ * The spindrift command line. Thin: parse arguments, call the library, map errors to exit codes.
+ * Exit codes: 0 ok, 1 the work failed (bad study, failed realisations, missing database), 2 wrong usage,
+ * 130 interrupted, 70 internal error.
+ */
+import { Command, CommanderError, Option } from "@commander-js/extra-typings";
+import { dirname, join, resolve } from "node:path";
+import { loadStudy } from "../study/load.ts";
+import { formatProblems } from "../study/problems.ts";
+import { normalizeStudy, type NormalizedStudy } from "../study/normalize.ts";
+import { runStudy, type RunReport } from "../study/runner.ts";
+import { createProgress } from "../study/progress.ts";
+import { StoreError } from "../store/db.ts";
+import { studyStatus } from "../store/status.ts";
+import { writeReport } from "../reports/mod.ts";
+import { provenance, TOOL_VERSION } from "./provenance.ts";
+import { UserError } from "./errors.ts";
+import { openReadOnly, type QueryFormat, runQuery } from "./query.ts";
+import { type ExportFormat, exportRealisation } from "./export.ts";
+
+const REPO = new URL("../", import.meta.url);
+const DEMO_STUDY = new URL("examples/film-patch.yaml", REPO);
+
+function out(line = ""): void {
+  console.log(line);
+}
+
+function positiveInt(name: string) {
+  return (v: string): number => {
+    const n = Number(v);
+    if (!Number.isInteger(n) || n < 1) throw new UserError(`${name} must be a whole number ≥ 1, got '${v}'`);
+    return n;
+  };
+}
+
+function defaultWorkers(): number {
+  return navigator.hardwareConcurrency || 1;
+}
+
+/** Loads, validates and normalizes a study file, or throws a UserError listing every problem. */
+async function loadNormalized(path: string): Promise<NormalizedStudy> {
+  const loaded = await loadStudy(path);
+  if (!loaded.ok) {
+    const n = loaded.problems.length;
+    throw new UserError(
+      `${path}: ${n} problem${n === 1 ? "" : "s"}\n${formatProblems(loaded.problems)}`,
+      "fix the lines above and run: spindrift check " + path,
+    );
+  }
+  return normalizeStudy(loaded.study, { text: loaded.text, sourcePath: resolve(path) });
+}
+
+function defaultDbPath(studyPath: string, study: NormalizedStudy): string {
+  return join(dirname(studyPath), `${study.name}.sqlite`);
+}
+
+function defaultReportPath(dbPath: string): string {
+  return dbPath.replace(/\.(sqlite3?|db)$/i, "") + ".html";
+}
+
+function printRunReport(r: RunReport, dbPath: string): void {
+  const parts = [`${r.completed} computed`, `${r.skipped} already stored`];
+  if (r.failed) parts.push(`${r.failed} failed`);
+  out(`${r.interrupted ? "interrupted" : "finished"}: ${parts.join(", ")} of ${r.planned} realisations ` +
+    `in ${r.wallSeconds.toFixed(1)} s`);
+  if (r.discardedUnfinished) out(`  (${r.discardedUnfinished} unfinished realisation(s) from an earlier run were rerun)`);
+  for (const f of r.failures.slice(0, 10)) out(`  failed: ${f.pointLabel} #${f.index}: [${f.kind}] ${f.error}`);
+  if (r.failures.length > 10) out(`  … and ${r.failures.length - 10} more (see the report)`);
+  out(`database: ${dbPath}`);
+  if (r.interrupted) out("run the same command again to resume; finished realisations are kept");
+}
+
+/** Runs a study with Ctrl-C/SIGTERM handling; returns the run report. */
+async function runWithSignals(
+  study: NormalizedStudy,
+  dbPath: string,
+  opts: { workers: number; fresh: boolean; keepFailed: boolean; quiet: boolean },
+): Promise<RunReport> {
+  const controller = new AbortController();
+  const onSignal = () => {
+    console.error("\nstopping: finished realisations are kept; rerun the same command to resume");
+    controller.abort();
+  };
+  const signals: Deno.Signal[] = ["SIGINT", "SIGTERM"];
+  for (const s of signals) Deno.addSignalListener(s, onSignal);
+  try {
+    return await runStudy(study, {
+      dbPath,
+      workers: opts.workers,
+      fresh: opts.fresh,
+      keepFailed: opts.keepFailed,
+      progress: createProgress({ quiet: opts.quiet }),
+      provenance: provenance(),
+      signal: controller.signal,
+    });
+  } finally {
+    for (const s of signals) Deno.removeSignalListener(s, onSignal);
+  }
+}
+
+export function buildProgram(): Command {
+  const program = new Command()
+    .name("spindrift")
+    .description(
+      "Parameter studies of spreading quantized-vortex clouds: define a study once (YAML), run every\n" +
+        "realisation reproducibly on all cores, keep them in an SQLite database, and write report pages.",
+    )
+    .version(TOOL_VERSION, "-V, --version", "print the spindrift version")
+    .helpOption("-h, --help", "show help for a command")
+    .showSuggestionAfterError(true)
+    .showHelpAfterError("(add --help for usage)")
+    .configureHelp({ sortSubcommands: false })
+    .addHelpText(
+      "after",
+      `
+Typical session:
+  spindrift check my-study.yaml        validate the study file (every problem, with line numbers)
+  spindrift run my-study.yaml          run or resume it (database next to the study file)
+  spindrift report my-study.sqlite     write the HTML report page
+  spindrift query my-study.sqlite "SELECT status, COUNT(*) FROM realisations GROUP BY status"
+  spindrift demo                       run the bundled demo study and write its report`,
+    );
+
+  program.command("check")
+    .description("validate a study file and show what it would run (nothing is computed)")
+    .argument("<study>", "study file (YAML)")
+    .action(async (path) => {
+      const study = await loadNormalized(path);
+      const n = study.points.length;
+      out(`${path}: ok`);
+      out(`  engine ${study.engine.id} ${study.engine.version}; ${n} parameter point${n === 1 ? "" : "s"} × ` +
+        `${study.realisations} realisations = ${n * study.realisations} runs`);
+      for (const p of study.points.slice(0, 20)) out(`  point ${p.index}: ${p.label}`);
+      if (n > 20) out(`  … ${n - 20} more points`);
+      out(`  duration ${study.run.duration}, frame every ${study.run.sampleInterval}, tolerance ${study.run.tolerance}`);
+      out(`  observables: ${study.observables.record.join(", ")}`);
+    });
+
+  program.command("run")
+    .description("run a study, or resume it: stored realisations are kept, missing and failed ones run")
+    .argument("<study>", "study file (YAML)")
+    .option("--db <path>", "database file (default: <study name>.sqlite next to the study file)")
+    .addOption(
+      new Option("-w, --workers <n>", "parallel workers (default: the study's run.workers, else number of cores)")
+        .argParser(positiveInt("--workers")),
+    )
+    .option("--fresh", "delete this study's stored realisations and start over", false)
+    .option("--keep-failed", "do not rerun realisations that failed before", false)
+    .option("-q, --quiet", "no progress output", false)
+    .action(async (path, o) => {
+      const study = await loadNormalized(path);
+      const dbPath = o.db ?? defaultDbPath(path, study);
+      const report = await runWithSignals(study, dbPath, {
+        workers: o.workers ?? study.run.workers ?? defaultWorkers(),
+        fresh: o.fresh,
+        keepFailed: o.keepFailed,
+        quiet: o.quiet,
+      });
+      printRunReport(report, dbPath);
+      if (report.interrupted) Deno.exitCode = 130;
+      else if (report.failed) Deno.exitCode = 1;
+      if (!report.interrupted) out(`next: spindrift report ${dbPath}`);
+    });
+
+  program.command("report")
+    .description("write the study's report page (self-contained HTML, works offline) and SVG charts")
+    .argument("<database>", "study database written by 'spindrift run'")
+    .option("-o, --out <file>", "HTML file to write (default: next to the database)")
+    .action(async (dbPath, o) => {
+      openReadOnly(dbPath).close();
+      const res = await writeReport(dbPath, { out: o.out ?? defaultReportPath(dbPath) });
+      out(`report: ${res.html}`);
+      out(`charts as SVG: ${res.svgDir}`);
+    });
+
+  program.command("query")
+    .description("run one read-only SQL statement on a study database")
+    .argument("<database>", "study database")
+    .argument("<sql>", "SQL statement, e.g. \"SELECT * FROM realisations LIMIT 5\"")
+    .addOption(new Option("-f, --format <format>", "output format").choices(["table", "csv", "json"]).default("table"))
+    .action((dbPath, sql, o) => {
+      out(runQuery(dbPath, sql, o.format as QueryFormat));
+    });
+
+  program.command("export")
+    .description("write one realisation's frames: one row per vortex per frame (time, id, position, label)")
+    .argument("<database>", "study database")
+    .requiredOption("-r, --realisation <id>", "realisation id (column id of table realisations)")
+    .addOption(new Option("-f, --format <format>", "output format").choices(["csv", "jsonl"]).default("csv"))
+    .option("-o, --out <file>", "file to write (default: standard output)")
+    .action((dbPath, o) => {
+      const id = positiveInt("--realisation")(o.realisation);
+      const encoder = new TextEncoder();
+      const file = o.out ? Deno.openSync(o.out, { write: true, create: true, truncate: true }) : null;
+      const sinkFile = file ?? Deno.stdout;
+      try {
+        const rows = exportRealisation(dbPath, id, o.format as ExportFormat, (chunk) => {
+          const bytes = encoder.encode(chunk);
+          let off = 0;
+          while (off < bytes.length) off += sinkFile.writeSync(bytes.subarray(off));
+        });
+        if (o.out) out(`${rows} rows written to ${o.out}`);
+      } finally {
+        file?.close();
+      }
+    });
+
+  program.command("status")
+    .description("show per-point progress of a study database: done, failed, running, missing")
+    .argument("<database>", "study database")
+    .action((dbPath) => {
+      const db = openReadOnly(dbPath);
+      try {
+        const s = studyStatus(db);
+        if (!s) throw new UserError(`${dbPath} holds no study yet`, "run one with: spindrift run STUDY.yaml");
+        out(`study ${s.name} (last run ${s.lastRunAt ?? "never"})`);
+        const w = Math.max(5, ...s.points.map((p) => p.label.length));
+        out(`  ${"point".padEnd(w)}  done  failed  running  missing`);
+        for (const p of s.points) {
+          out(`  ${p.label.padEnd(w)}  ${String(p.done).padStart(4)}  ${String(p.failed).padStart(6)}  ` +
+            `${String(p.running).padStart(7)}  ${String(p.missing).padStart(7)}`);
+        }
+      } finally {
+        db.close();
+      }
+    });
+
+  program.command("demo")
+    .description("run the bundled demo study (a neutral vortex patch in a thin superfluid film) and its report")
+    .addOption(new Option("-w, --workers <n>", "parallel workers (default: number of cores)").argParser(
+      positiveInt("--workers"),
+    ))
+    .option("--out <dir>", "folder for the demo's database and report", "out/demo")
+    .option("--fresh", "recompute everything", false)
+    .action(async (o) => {
+      const studyPath = DEMO_STUDY.pathname;
+      const study = await loadNormalized(studyPath);
+      await Deno.mkdir(o.out, { recursive: true });
+      const dbPath = join(o.out, `${study.name}.sqlite`);
+      out(`demo study: ${studyPath}`);
+      out(`  ${study.description.trim().split("\n")[0]}`);
+      const report = await runWithSignals(study, dbPath, {
+        workers: o.workers ?? defaultWorkers(),
+        fresh: o.fresh,
+        keepFailed: false,
+        quiet: false,
+      });
+      printRunReport(report, dbPath);
+      if (report.interrupted) {
+        Deno.exitCode = 130;
+        return;
+      }
+      const res = await writeReport(dbPath, { out: defaultReportPath(dbPath) });
+      out(`report: ${res.html}`);
+      out(`charts as SVG: ${res.svgDir}`);
+      if (report.failed) Deno.exitCode = 1;
+    });
+
+  return program;
+}
+
+function fail(message: string, hint?: string, code = 1): void {
+  console.error(`spindrift: ${message}`);
+  if (hint) console.error(`hint: ${hint}`);
+  Deno.exitCode = code;
+}
+
+export async function main(args: string[]): Promise<void> {
+  const program = buildProgram();
+  program.exitOverride();
+  program.configureOutput({
+    writeErr: (s) => Deno.stderr.writeSync(new TextEncoder().encode(s)),
+    outputError: (s, write) => write(`spindrift: ${s.replace(/^error: /, "")}`),
+  });
+  try {
+    await program.parseAsync(args, { from: "user" });
+  } catch (e) {
+    if (e instanceof CommanderError) {
+      if (e.code === "commander.helpDisplayed" || e.code === "commander.version" || e.code === "commander.help") {
+        Deno.exitCode = 0;
+      } else Deno.exitCode = 2;
+    } else if (e instanceof UserError) fail(e.message, e.hint);
+    else if (e instanceof StoreError) fail(e.message);
+    else {
+      const err = e as Error;
+      fail(
+        `internal error: ${err?.message ?? String(e)}`,
+        "this is a bug in spindrift; rerun with SPINDRIFT_DEBUG=1 for details and report it",
+        70,
+      );
+      if (Deno.env.get("SPINDRIFT_DEBUG") === "1") console.error(err?.stack);
+    }
+  }
+}
+
+if (import.meta.main) {
+  await main(Deno.args);
+}

@@ -1,0 +1,50 @@
+/**
+ * Store write throughput: series rows per second through `finishRealisation` (one transaction, 100-row
+ * multi-row INSERTs). Run: deno bench -A store/db_bench.ts  (rows/s = 200 000 / time per iteration).
+ */
+import { StudyStore } from "./db.ts";
+
+const ROWS = 200_000;
+const SERIES = 20;
+const path = Deno.makeTempFileSync({ suffix: ".sqlite" });
+const store = StudyStore.open(path);
+store.recordStudy({
+  name: "bench",
+  description: "",
+  studyHash: "bench",
+  sourcePath: null,
+  text: "",
+  normalizedJson: "{}",
+  engineId: "e",
+  engineVersion: "1",
+  toolVersion: "0",
+  denoVersion: Deno.version.deno,
+  gitCommit: null,
+}, [{
+  pointIndex: 0,
+  pointHash: "p",
+  paramsHash: "q",
+  label: "base",
+  variedJson: "{}",
+  paramsJson: "{}",
+  controlsJson: "{}",
+}]);
+const perSeries = ROWS / SERIES;
+const t = Float64Array.from({ length: perSeries }, (_, k) => k * 0.01);
+const series = Object.fromEntries(
+  Array.from({ length: SERIES }, (_, j) => [`s${j}`, { t, v: t.map((x) => Math.sin(x + j)) }]),
+);
+let index = 0;
+
+Deno.bench(`store: ${ROWS} series rows in one realisation transaction`, () => {
+  const id = store.beginRealisation({
+    key: `k${index}`,
+    pointHash: "p",
+    index: index++,
+    seedHex: "0",
+    engineId: "e",
+    engineVersion: "1",
+    host: "bench",
+  });
+  store.finishRealisation(id, { status: "done", wallSeconds: 0, simTimeReached: 0, scalars: {}, series, events: [] });
+});

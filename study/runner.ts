@@ -1,0 +1,300 @@
+/**
+ * The runner: executes a study's plan on a pool of workers and stores every realisation.
+ *
+ * ```
+ *  study text ──load──▶ StudyFile ──normalize──▶ NormalizedStudy ──plan──▶ PlannedRealisation[]
+ *                                                                             │ skip keys already done
+ *                                                                             ▼
+ *   main thread (only writer)  ◀── frames / outcome ──  worker k: engine → classifier → observables
+ *        │ appendFrames (pending)        executeRealisation (study/execute.ts), one realisation at a time
+ *        │ finishRealisation (one transaction: frames, scalars, series, events, status)
+ *        ▼
+ *   SQLite study database (store/) ──▶ reports/
+ * ```
+ *
+ * Reproducibility: a realisation's numbers depend only on (engine id/version, normalized parameters, run
+ * controls, seed state derived from (master seed, parameter hash, index)), never on the worker that ran it or
+ * the order of completion, so 1 or N workers store bit-identical numbers.
+ *
+ * Resume: realisations whose key is stored as `done` are skipped; `failed` ones and those a crash left
+ * `running` are run again. `fresh` deletes the stored realisations of the study's points first.
+ */
+import { findEngine } from "../engines/registry.ts";
+import type { NormalizedStudy } from "./normalize.ts";
+import { planStudy, type PlannedRealisation } from "./plan.ts";
+import type { RealisationTask } from "./execute.ts";
+import type { FrameRow, RealisationOutcome } from "../store/db.ts";
+import { StudyStore } from "../store/db.ts";
+import { canonicalJson } from "./hash.ts";
+import type { Progress } from "./progress.ts";
+
+export interface Provenance {
+  readonly toolVersion: string;
+  readonly denoVersion: string;
+  readonly gitCommit: string | null;
+}
+
+export interface RunOptions {
+  readonly dbPath: string;
+  readonly workers: number;
+  readonly fresh?: boolean;
+  /** Keep failed realisations instead of running them again. */
+  readonly keepFailed?: boolean;
+  readonly progress: Progress;
+  readonly provenance: Provenance;
+  /** Aborting stops dispatching, terminates workers and keeps every finished realisation. */
+  readonly signal?: AbortSignal;
+}
+
+export interface FailureSummary {
+  readonly pointLabel: string;
+  readonly index: number;
+  readonly kind: string;
+  readonly error: string;
+}
+
+export interface RunReport {
+  readonly studyId: number;
+  readonly planned: number;
+  readonly skipped: number;
+  readonly completed: number;
+  readonly failed: number;
+  readonly interrupted: boolean;
+  readonly discardedUnfinished: number;
+  readonly failures: readonly FailureSummary[];
+  readonly wallSeconds: number;
+}
+
+/** Hostname for the realisation rows, or "unknown" without the permission. */
+function hostName(): string {
+  try {
+    return Deno.hostname();
+  } catch {
+    return "unknown";
+  }
+}
+
+/** Builds the worker task for one planned realisation. */
+export function taskFor(study: NormalizedStudy, r: PlannedRealisation): RealisationTask {
+  const point = study.points[r.pointIndex];
+  return {
+    engineId: study.engine.id,
+    engineVersion: study.engine.version,
+    params: point.params,
+    controls: {
+      duration: study.run.duration,
+      sampleInterval: study.run.sampleInterval,
+      tolerance: study.run.tolerance,
+      maxDistance: study.run.maxDistance,
+    },
+    seedState: r.seedState,
+    realisationIndex: r.index,
+    observables: study.observables,
+  };
+}
+
+/** Records the study and its points in the store; returns the study id. */
+export function recordStudy(store: StudyStore, study: NormalizedStudy, provenance: Provenance): number {
+  const controls = {
+    duration: study.run.duration,
+    sampleInterval: study.run.sampleInterval,
+    tolerance: study.run.tolerance,
+    maxDistance: study.run.maxDistance,
+    observables: study.observables,
+  };
+  const { text: _text, sourcePath: _sourcePath, ...normalized } = study;
+  return store.recordStudy(
+    {
+      name: study.name,
+      description: study.description,
+      studyHash: study.hash,
+      sourcePath: study.sourcePath,
+      text: study.text,
+      normalizedJson: canonicalJson(normalized),
+      engineId: study.engine.id,
+      engineVersion: study.engine.version,
+      toolVersion: provenance.toolVersion,
+      denoVersion: provenance.denoVersion,
+      gitCommit: provenance.gitCommit,
+    },
+    study.points.map((p) => ({
+      pointIndex: p.index,
+      pointHash: p.pointHash,
+      paramsHash: p.paramsHash,
+      label: p.label,
+      variedJson: canonicalJson(p.varied),
+      paramsJson: canonicalJson(p.params),
+      controlsJson: canonicalJson(controls),
+    })),
+  );
+}
+
+/** Runs (or resumes) a study into its database. */
+export async function runStudy(study: NormalizedStudy, opts: RunOptions): Promise<RunReport> {
+  const t0 = performance.now();
+  const engine = findEngine(study.engine.id);
+  if (!engine) throw new Error(`engine ${study.engine.id} is not registered`);
+  const store = StudyStore.open(opts.dbPath);
+  try {
+    const discardedUnfinished = store.discardUnfinished();
+    const studyId = recordStudy(store, study, opts.provenance);
+    if (opts.fresh) store.deleteRealisationsOf(study.points.map((p) => p.pointHash));
+    const plan = planStudy(study);
+    const statuses = store.realisationStatuses();
+    const todo = plan.filter((r) => {
+      const s = statuses.get(r.key);
+      return !(s === "done" || (s === "failed" && opts.keepFailed));
+    });
+    const skipped = plan.length - todo.length;
+    const result = await runPool(study, todo, store, opts, plan.length, skipped);
+    return {
+      studyId,
+      planned: plan.length,
+      skipped,
+      completed: result.completed,
+      failed: result.failures.length,
+      interrupted: result.interrupted,
+      discardedUnfinished,
+      failures: result.failures,
+      wallSeconds: (performance.now() - t0) / 1000,
+    };
+  } finally {
+    store.close();
+  }
+}
+
+interface PoolResult {
+  completed: number;
+  failures: FailureSummary[];
+  interrupted: boolean;
+}
+
+type WorkerMessage =
+  | { type: "frames"; id: number; frames: FrameRow[] }
+  | { type: "outcome"; id: number; outcome: RealisationOutcome };
+
+function runPool(
+  study: NormalizedStudy,
+  todo: readonly PlannedRealisation[],
+  store: StudyStore,
+  opts: RunOptions,
+  total: number,
+  skipped: number,
+): Promise<PoolResult> {
+  const host = hostName();
+  const failures: FailureSummary[] = [];
+  let completed = 0;
+  let next = 0;
+  let active = 0;
+  let interrupted = false;
+  const nWorkers = Math.max(1, Math.min(opts.workers, todo.length));
+  const workers: Worker[] = [];
+  const running = new Map<Worker, { id: number; r: PlannedRealisation; rowId: number }>();
+  opts.progress.start(total, skipped);
+
+  return new Promise<PoolResult>((resolve) => {
+    const finishAll = () => {
+      for (const w of workers) w.terminate();
+      opts.progress.stop();
+      opts.signal?.removeEventListener("abort", onAbort);
+      resolve({ completed, failures, interrupted });
+    };
+
+    const onAbort = () => {
+      if (interrupted) return;
+      interrupted = true;
+      // Finished realisations are committed; the ones in flight are discarded and rerun next time.
+      for (const w of workers) w.terminate();
+      running.clear();
+      store.discardUnfinished();
+      finishAll();
+    };
+    opts.signal?.addEventListener("abort", onAbort);
+
+    const record = (r: PlannedRealisation, outcome: RealisationOutcome) => {
+      if (outcome.status === "failed") {
+        failures.push({
+          pointLabel: study.points[r.pointIndex].label,
+          index: r.index,
+          kind: outcome.failureKind ?? "exception",
+          error: outcome.error ?? "",
+        });
+      } else completed++;
+      opts.progress.update(skipped + completed + failures.length, failures.length);
+    };
+
+    const dispatch = (w: Worker) => {
+      if (interrupted) return;
+      if (next >= todo.length) {
+        if (active === 0) finishAll();
+        return;
+      }
+      const r = todo[next];
+      const id = next++;
+      const rowId = store.beginRealisation({
+        key: r.key,
+        pointHash: r.pointHash,
+        index: r.index,
+        seedHex: r.seedHex,
+        engineId: study.engine.id,
+        engineVersion: study.engine.version,
+        host,
+      });
+      running.set(w, { id, r, rowId });
+      active++;
+      w.postMessage({ type: "task", id, task: taskFor(study, r) });
+    };
+
+    const spawn = (): Worker => {
+      const w = new Worker(new URL("./worker.ts", import.meta.url).href, { type: "module" });
+      w.onmessage = (ev: MessageEvent<WorkerMessage>) => {
+        if (interrupted) return;
+        const job = running.get(w);
+        if (!job || job.id !== ev.data.id) return;
+        if (ev.data.type === "frames") {
+          store.appendFrames(job.rowId, ev.data.frames);
+          return;
+        }
+        store.finishRealisation(job.rowId, ev.data.outcome);
+        running.delete(w);
+        active--;
+        record(job.r, ev.data.outcome);
+        dispatch(w);
+      };
+      w.onerror = (ev: ErrorEvent) => {
+        ev.preventDefault();
+        if (interrupted) return;
+        const job = running.get(w);
+        w.terminate();
+        const idx = workers.indexOf(w);
+        const replacement = spawn();
+        workers[idx] = replacement;
+        if (job) {
+          const outcome: RealisationOutcome = {
+            status: "failed",
+            failureKind: "exception",
+            error: `worker crashed: ${ev.message}`,
+            wallSeconds: 0,
+            simTimeReached: Number.NaN,
+            scalars: {},
+            series: {},
+            events: [],
+          };
+          store.finishRealisation(job.rowId, outcome);
+          running.delete(w);
+          active--;
+          record(job.r, outcome);
+        }
+        dispatch(replacement);
+      };
+      return w;
+    };
+
+    if (todo.length === 0) {
+      finishAll();
+      return;
+    }
+    for (let i = 0; i < nWorkers; i++) workers.push(spawn());
+    for (const w of workers) dispatch(w);
+  });
+}

@@ -1,0 +1,38 @@
+#!/bin/sh
+# The whole test suite: format check, lint, type check, tests. Ends with a plain "N passed, N failed" line.
+# Long physics validations run only with SPINDRIFT_LONG=1.
+set -u
+HERE=$(cd "$(dirname "$0")/.." && pwd)
+DENO="$HERE/tools/deno/node_modules/.bin/deno"
+export DENO_NO_UPDATE_CHECK=1
+cd "$HERE" || exit 1
+status=0
+step() {
+  echo "== $1" >&2
+}
+step "format check (deno fmt --check)"
+"$DENO" fmt --check || status=1
+step "lint (deno lint)"
+"$DENO" lint || status=1
+step "type check (deno check)"
+"$DENO" check --quiet . || status=1
+step "tests (deno test)"
+junit=$(mktemp)
+"$DENO" test --quiet --allow-all --parallel --reporter=dot --junit-path="$junit" "$@" || status=1
+passed=0
+failed=0
+if [ -s "$junit" ]; then
+  tests=$(grep -o '<testsuites [^>]*' "$junit" | grep -o ' tests="[0-9]*"' | grep -o '[0-9]*' | head -1)
+  failures=$(grep -o '<testsuites [^>]*' "$junit" | grep -o ' failures="[0-9]*"' | grep -o '[0-9]*' | head -1)
+  errors=$(grep -o '<testsuites [^>]*' "$junit" | grep -o ' errors="[0-9]*"' | grep -o '[0-9]*' | head -1)
+  skipped=$(grep -c '<skipped' "$junit" || true)
+  failed=$(( ${failures:-0} + ${errors:-0} ))
+  passed=$(( ${tests:-0} - failed - ${skipped:-0} ))
+fi
+rm -f "$junit"
+if [ "$status" -ne 0 ] && [ "$failed" -eq 0 ]; then
+  # fmt, lint or type check failed (or the test run itself broke): count it as a failure.
+  failed=1
+fi
+echo "${passed} passed, ${failed} failed"
+exit "$status"
