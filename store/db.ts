@@ -35,6 +35,8 @@ export interface StudyRecord {
   readonly toolVersion: string;
   readonly denoVersion: string;
   readonly gitCommit: string | null;
+  /** Notes for the report, e.g. observables skipped because the engine cannot provide what they need. */
+  readonly notes?: readonly { readonly kind: string; readonly id: string; readonly reason: string }[];
 }
 
 export interface PointRecord {
@@ -189,13 +191,13 @@ export class StudyStore {
       let id: number;
       if (existing) {
         id = existing.id;
-        this.db.prepare("UPDATE studies SET last_run_at = ?, source_path = ?, text = ? WHERE id = ?")
-          .run(now, study.sourcePath, study.text, id);
+        this.db.prepare("UPDATE studies SET last_run_at = ?, source_path = ?, text = ?, notes_json = ? WHERE id = ?")
+          .run(now, study.sourcePath, study.text, JSON.stringify(study.notes ?? []), id);
       } else {
         const r = this.db.prepare(
           `INSERT INTO studies (name, description, study_hash, source_path, text, normalized_json, engine_id,
-             engine_version, tool_version, deno_version, git_commit, created_at, last_run_at)
-           VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`,
+             engine_version, tool_version, deno_version, git_commit, notes_json, created_at, last_run_at)
+           VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`,
         ).run(
           study.name,
           study.description,
@@ -208,6 +210,7 @@ export class StudyStore {
           study.toolVersion,
           study.denoVersion,
           study.gitCommit,
+          JSON.stringify(study.notes ?? []),
           now,
           now,
         );

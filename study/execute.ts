@@ -5,10 +5,22 @@
  * The caller receives frames in batches through `emitFrames` (to stream them to the store) and the outcome
  * (scalars, series, events, failure) at the end.
  */
-import { type Engine, EngineFailure, type EngineEvent, type Frame, type FrameSink, type RunControls } from "../engines/contract.ts";
+import {
+  type Engine,
+  type EngineEvent,
+  EngineFailure,
+  type Frame,
+  type FrameSink,
+  type RunControls,
+} from "../engines/contract.ts";
 import { findEngine } from "../engines/registry.ts";
-import { RandomStream, type GeneratorState } from "../engines/random.ts";
-import type { ClassificationConfig, ObservableContext } from "../engines/observables/contract.ts";
+import { type GeneratorState, RandomStream } from "../engines/random.ts";
+import type {
+  Accumulator,
+  ClassificationConfig,
+  Classifier,
+  ObservableContext,
+} from "../engines/observables/contract.ts";
 import { applicableObservables, createClassifier } from "../engines/observables/mod.ts";
 import { type Column, encodeFrame } from "../store/frame_codec.ts";
 import type { EventRow, FrameRow, RealisationOutcome, SeriesData } from "../store/db.ts";
@@ -72,9 +84,13 @@ export async function executeRealisation(
   lookup: (id: string) => Engine<unknown> | undefined = findEngine,
 ): Promise<RealisationOutcome> {
   const started = performance.now();
+  const events: EngineEvent[] = [];
   const engine = lookup(task.engineId);
   if (!engine || engine.version !== task.engineVersion) {
-    return failed("exception", `engine ${task.engineId} ${task.engineVersion} is not available in this build`);
+    return failed(
+      "exception",
+      `engine ${task.engineId} ${task.engineVersion} is not available in this build`,
+    );
   }
   const ctx: ObservableContext = {
     capabilities: engine.capabilities,
@@ -82,11 +98,16 @@ export async function executeRealisation(
     classification: task.observables.classification,
     coreRadius: engine.scales?.(task.params).coreRadius,
   };
-  const classifier = createClassifier(ctx);
-  const { use } = applicableObservables(task.observables.record, engine.capabilities);
-  const accumulators = use.map((o) => o.create(ctx));
+  let classifier: Classifier;
+  let accumulators: Accumulator[];
+  try {
+    classifier = createClassifier(ctx);
+    const { use } = applicableObservables(task.observables.record, engine.capabilities);
+    accumulators = use.map((o) => o.create(ctx));
+  } catch (e) {
+    return failed("invalid-state", `cannot set up the observables: ${(e as Error).message}`);
+  }
   const diagnostics: Record<string, { t: number[]; v: number[] }> = {};
-  const events: EngineEvent[] = [];
   let batch: FrameRow[] = [];
   let batchBytes = 0;
   let lastT = Number.NaN;

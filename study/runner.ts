@@ -20,8 +20,9 @@
  * `running` are run again. `fresh` deletes the stored realisations of the study's points first.
  */
 import { findEngine } from "../engines/registry.ts";
+import { applicableObservables } from "../engines/observables/mod.ts";
 import type { NormalizedStudy } from "./normalize.ts";
-import { planStudy, type PlannedRealisation } from "./plan.ts";
+import { type PlannedRealisation, planStudy } from "./plan.ts";
 import type { RealisationTask } from "./execute.ts";
 import type { FrameRow, RealisationOutcome } from "../store/db.ts";
 import { StudyStore } from "../store/db.ts";
@@ -95,6 +96,8 @@ export function taskFor(study: NormalizedStudy, r: PlannedRealisation): Realisat
 
 /** Records the study and its points in the store; returns the study id. */
 export function recordStudy(store: StudyStore, study: NormalizedStudy, provenance: Provenance): number {
+  const engine = findEngine(study.engine.id);
+  const skipped = engine ? applicableObservables(study.observables.record, engine.capabilities).skipped : [];
   const controls = {
     duration: study.run.duration,
     sampleInterval: study.run.sampleInterval,
@@ -116,6 +119,7 @@ export function recordStudy(store: StudyStore, study: NormalizedStudy, provenanc
       toolVersion: provenance.toolVersion,
       denoVersion: provenance.denoVersion,
       gitCommit: provenance.gitCommit,
+      notes: skipped.map((s) => ({ kind: "observable-skipped", id: s.id, reason: s.reason })),
     },
     study.points.map((p) => ({
       pointIndex: p.index,
