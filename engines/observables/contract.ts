@@ -9,8 +9,19 @@
  *
  * and at the end each accumulator's `finish()` gives series, scalars and events for the store.
  * Accumulators keep O(objects) state, never O(frames × objects).
+ *
+ * The classifier's own events (kinds `evaporation`, `recapture`, `stray`: the per-object decision log with the
+ * criteria values, methods §4) arrive in `Classification.events`; the runner stores them as they come, like
+ * engine events. Observables do not repeat them.
  */
-import type { Dimension, EngineCapabilities, EngineEvent, Frame, FrameField, RunControls } from "../contract.ts";
+import type {
+  Dimension,
+  EngineCapabilities,
+  EngineEvent,
+  Frame,
+  FrameField,
+  RunControls,
+} from "../contract.ts";
 
 /** Classification thresholds from the study file (methods: evaporation criteria, sticky labels). */
 export interface ClassificationConfig {
@@ -22,7 +33,11 @@ export interface ClassificationConfig {
   readonly stickyFrames: number;
   /** Minimum cosine between the object's velocity and its outward direction. */
   readonly outwardCosine: number;
-  /** 2D: relative tolerance of the pair speed against κ/(2πd). 3D: factor on the ring-speed check. */
+  /**
+   * 2D: relative tolerance of the pair speed against κ/(2πd) (the direction must then lie within
+   * asin(speedTolerance) of the self-propulsion direction). 3D: the loop speed must lie within a factor
+   * (1 + speedTolerance) of the ring speed (κ/4πR_eff)[ln(8R_eff/a₀) − C].
+   */
   readonly speedTolerance: number;
 }
 
@@ -35,7 +50,11 @@ export interface ObservableContext {
   readonly coreRadius?: number;
 }
 
-/** Per-frame labels (one Uint8 per object, values from `Label`), plus events from the classifier. */
+/**
+ * Per-frame labels (one Uint8 per object, values from `Label`), plus events from the classifier.
+ * Like frame arrays, `labels` may be longer than `frame.n` and is overwritten by the next `classify` call:
+ * copy what you keep.
+ */
 export interface Classification {
   readonly labels: Uint8Array;
   /** Cluster centre used for this frame (length = dimension). */
@@ -71,7 +90,14 @@ export interface Observable {
   readonly id: string;
   readonly title: string;
   /** What the observable requires of the engine; the runner skips (and reports) observables whose needs fail. */
-  readonly needs: { readonly dimension?: Dimension; readonly fields: readonly FrameField[] };
+  readonly needs: {
+    readonly dimension?: Dimension;
+    readonly fields: readonly FrameField[];
+    /** Extra fields needed only when the engine's objects are of this kind (e.g. 3D MSD needs markers). */
+    readonly fieldsByObjects?: Readonly<
+      Partial<Record<EngineCapabilities["objects"], readonly FrameField[]>>
+    >;
+  };
   /** Series names it produces, with meaning and unit (documented in reports and DEVELOPERS.md). */
   readonly produces: Readonly<Record<string, string>>;
   create(ctx: ObservableContext): Accumulator;
