@@ -19,6 +19,7 @@ import { SCHEMA_SQL, SCHEMA_VERSION } from "./schema.ts";
 function makeDb(dir: string): string {
   const path = `${dir}/study.sqlite`;
   const db = new DatabaseSync(path);
+  db.exec("PRAGMA synchronous = OFF"); // a throw-away test file: no need to wait for the disk
   db.exec(SCHEMA_SQL);
   db.exec(`
     BEGIN;

@@ -26,7 +26,9 @@ function toyEngine(behaviour: "ok" | "nan" | "throw" | "failure" | "silent"): En
       for (let k = 0; k < 3; k++) {
         if (k === 2 && behaviour === "nan") x[1] = Number.NaN;
         if (k === 2 && behaviour === "throw") throw new TypeError("boom");
-        if (k === 2 && behaviour === "failure") throw new EngineFailure("step-underflow", "step too small", 0.2);
+        if (k === 2 && behaviour === "failure") {
+          throw new EngineFailure("step-underflow", "step too small", 0.2);
+        }
         sink.frame({
           index: k,
           t: k * 0.1,
@@ -61,7 +63,11 @@ function task(): RealisationTask {
 async function run(behaviour: Parameters<typeof toyEngine>[0]) {
   const frames: FrameRow[] = [];
   const engine = toyEngine(behaviour);
-  const outcome = await executeRealisation(task(), (f) => frames.push(...f), (id) => id === "toy" ? engine : undefined);
+  const outcome = await executeRealisation(
+    task(),
+    (f) => frames.push(...f),
+    (id) => id === "toy" ? engine : undefined,
+  );
   return { outcome, frames };
 }
 

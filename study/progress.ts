@@ -65,7 +65,9 @@ function plainProgress(intervalSeconds: number): Progress {
     const rate = (state.done - base) / elapsed;
     const eta = rate > 0 ? (total - state.done) / rate : Number.NaN;
     console.error(
-      `progress: ${state.done}/${total} realisations, ${state.failed} failed, elapsed ${formatSeconds(elapsed)}, ` +
+      `progress: ${state.done}/${total} realisations, ${state.failed} failed, elapsed ${
+        formatSeconds(elapsed)
+      }, ` +
         `ETA ${formatSeconds(eta)}`,
     );
   };

@@ -1,0 +1,451 @@
+/**
+ * The study report as one self-contained, offline HTML page: title, the study's question, parameters and
+ * parameter points, charts (Vega specs compiled in Deno, drawn in the browser by the inlined Vega runtime),
+ * scalar summaries, failures, the full study text and provenance.
+ *
+ * Safety: every piece of user or database text goes through `escapeHtml`; chart data travels as JSON inside a
+ * `<script type="application/json">` with `<`, `>`, `&`, U+2028 and U+2029 written as \u escapes; the inlined
+ * runtime has `</script` and `<!--` neutralised. So no study text can close a tag or run script.
+ *
+ * For automated checks the body carries `data-charts` (views to draw), `data-rendered` (views drawn so far),
+ * `data-errors` (script errors and console.error calls seen) and `data-state="ready"` once all views are drawn;
+ * each chart sits in `<div class="view" id="view-<chart id>">`.
+ *
+ * @example
+ * ```ts
+ * const html = renderReportHtml({ agg, charts, vegaRuntime, dbPath: "/runs/film.sqlite",
+ *   generatedAt: new Date().toISOString(), svgDirName: "film-report-svg" });
+ * await Deno.writeTextFile("film-report.html", html);
+ * ```
+ */
+import type * as vega from "vega";
+import type { StudyAggregate } from "./aggregate.ts";
+import type { MeanInterval } from "./intervals.ts";
+import type { ChartSpec } from "./specs.ts";
+
+/** A chart with its compiled Vega spec (null when the chart has no data). */
+export interface RenderedChart {
+  readonly chart: ChartSpec;
+  readonly vega: vega.Spec | null;
+}
+
+export interface ReportPageInput {
+  readonly agg: StudyAggregate;
+  readonly charts: readonly RenderedChart[];
+  /** Source of `vega.min.js`, inlined into the page. */
+  readonly vegaRuntime: string;
+  /** Database path shown under provenance. */
+  readonly dbPath: string;
+  /** ISO time the page was generated. */
+  readonly generatedAt: string;
+  /** Folder (relative to the page) holding `<chart id>.svg`; links are omitted when absent. */
+  readonly svgDirName?: string;
+}
+
+/** Escapes text for HTML element content and quoted attribute values. */
+export function escapeHtml(text: string): string {
+  return text.replace(/[&<>"']/g, (c) => ESCAPES[c]);
+}
+
+const ESCAPES: Record<string, string> = {
+  "&": "&amp;",
+  "<": "&lt;",
+  ">": "&gt;",
+  '"': "&quot;",
+  "'": "&#39;",
+};
+
+/** JSON that is safe inside `<script type="application/json">` (and parses back to the same value). */
+export function jsonForScript(value: unknown): string {
+  return JSON.stringify(value).replace(
+    /[<>&\u2028\u2029]/g,
+    (c) => `\\u${c.charCodeAt(0).toString(16).padStart(4, "0")}`,
+  );
+}
+
+/**
+ * JavaScript source made safe to place between `<script>` tags: `</script` becomes `<\/script` and `<!--`
+ * becomes `\x3C!--`; both spellings mean the same inside JavaScript strings, templates and regular expressions.
+ */
+export function inlineScriptSource(js: string): string {
+  return js.replace(/<\/(script)/gi, "<\\/$1").replace(/<!--/g, "\\x3C!--");
+}
+
+/** The full report page. */
+export function renderReportHtml(input: ReportPageInput): string {
+  const { agg } = input;
+  const s = agg.study;
+  const drawn = input.charts.filter((c) => c.vega !== null);
+  const title = `${s.name} — spindrift report`;
+  const specs = drawn.map((c) => ({ id: c.chart.id, spec: c.vega }));
+  const totals = studyTotals(agg);
+  return `<!doctype html>
+<html lang="en">
+<head>
+<meta charset="utf-8">
+<meta name="viewport" content="width=device-width, initial-scale=1">
+<meta name="generator" content="spindrift ${escapeHtml(s.toolVersion)}">
+<title>${escapeHtml(title)}</title>
+<style>${STYLE}</style>
+<script>${ERROR_HOOK}</script>
+</head>
+<body data-charts="${drawn.length}" data-rendered="0" data-errors="0" data-state="loading">
+<header>
+<p class="kicker">spindrift study report</p>
+<h1>${escapeHtml(s.name)}</h1>
+<p class="meta">revision #${s.id} · engine ${escapeHtml(s.engineId)} ${
+    escapeHtml(s.engineVersion)
+  } · created ${escapeHtml(s.createdAt)} · report generated ${escapeHtml(input.generatedAt)}</p>
+</header>
+<nav><a href="#question">Question</a> <a href="#parameters">Parameters</a> <a href="#results">Results</a> <a href="#failures">Failures${
+    totals.failed + totals.running > 0 ? ` (${totals.failed + totals.running})` : ""
+  }</a> <a href="#study-file">Study file</a> <a href="#provenance">Provenance</a></nav>
+<div id="page-errors" class="errors" hidden></div>
+<main>
+<section id="question">
+<h2>Question</h2>
+<p class="description">${escapeHtml(s.description.trim()) || "<em>(the study gives no description)</em>"}</p>
+<div class="tiles">
+${tile(String(agg.points.length), agg.points.length === 1 ? "parameter point" : "parameter points")}
+${tile(`${totals.done}${totals.planned !== null ? ` / ${totals.planned}` : ""}`, "realisations done")}
+${tile(String(totals.failed), "failed", totals.failed > 0 ? "bad" : "")}
+${tile(String(totals.running), "unfinished", totals.running > 0 ? "warn" : "")}
+${totals.missing ? tile(String(totals.missing), "not run yet", "warn") : ""}
+</div>
+</section>
+<section id="parameters">
+<h2>Parameters</h2>
+${settingsTable(agg)}
+<h3>Parameter points</h3>
+${pointsTable(agg)}
+<h3>Engine parameters</h3>
+<p class="note">Normalized parameters (defaults filled in). Values that differ between points are listed per point above.</p>
+${paramsTable(agg)}
+</section>
+<section id="results">
+<h2>Results</h2>
+${input.charts.map((c) => figure(c, input.svgDirName)).join("\n")}
+<h3>Scalars per point</h3>
+<p class="note">Mean over done realisations with the ${
+    pct(agg.level)
+  } Student-t confidence interval [low, high] and the number of realisations n.</p>
+${scalarsTable(agg)}
+</section>
+<section id="failures">
+<h2>Failures</h2>
+${failuresTable(agg)}
+</section>
+<section id="study-file">
+<h2>Study file</h2>
+<p class="note">${s.sourcePath ? `${escapeHtml(s.sourcePath)} — ` : ""}the text exactly as it was run.</p>
+<pre class="study-text">${escapeHtml(s.text)}</pre>
+</section>
+<section id="provenance">
+<h2>Provenance</h2>
+${provenanceTable(input)}
+</section>
+</main>
+<footer>Built by spindrift from the database alone; rebuilding it from the same database gives the same numbers.</footer>
+<script type="application/json" id="spindrift-specs">${jsonForScript(specs)}</script>
+<script>${inlineScriptSource(input.vegaRuntime)}</script>
+<script>${BOOT}</script>
+</body>
+</html>
+`;
+}
+
+interface Totals {
+  planned: number | null;
+  done: number;
+  failed: number;
+  running: number;
+  missing: number;
+}
+
+function studyTotals(agg: StudyAggregate): Totals {
+  let done = 0, failed = 0, running = 0, missing = 0;
+  for (const p of agg.points) {
+    done += p.counts.done;
+    failed += p.counts.failed;
+    running += p.counts.running;
+    missing += p.counts.missing ?? 0;
+  }
+  const planned = agg.overview.realisations === null ? null : agg.overview.realisations * agg.points.length;
+  return { planned, done, failed, running, missing };
+}
+
+function tile(value: string, label: string, cls = ""): string {
+  return `<div class="tile ${cls}"><span class="v">${escapeHtml(value)}</span><span class="l">${
+    escapeHtml(label)
+  }</span></div>`;
+}
+
+function settingsTable(agg: StudyAggregate): string {
+  const o = agg.overview;
+  const rows: [string, string][] = [
+    ["engine", `${agg.study.engineId} ${agg.study.engineVersion}`],
+    ["realisations per point", o.realisations === null ? "—" : String(o.realisations)],
+    ["master seed", o.seed ?? "—"],
+  ];
+  for (const [k, v] of Object.entries(o.run ?? {})) rows.push([`run.${k}`, formatValue(v)]);
+  const obs = o.observables ?? {};
+  for (const [k, v] of Object.entries(obs)) {
+    if (isRecord(v)) {
+      for (const [k2, v2] of Object.entries(v)) rows.push([`observables.${k}.${k2}`, formatValue(v2)]);
+    } else rows.push([`observables.${k}`, formatValue(v)]);
+  }
+  return `<table class="kv"><tbody>${
+    rows.map(([k, v]) => `<tr><th scope="row">${escapeHtml(k)}</th><td>${escapeHtml(v)}</td></tr>`).join("")
+  }</tbody></table>`;
+}
+
+function pointsTable(agg: StudyAggregate): string {
+  const head =
+    `<tr><th>#</th><th>label</th><th>swept values</th><th class="num">done</th><th class="num">failed</th>` +
+    `<th class="num">unfinished</th><th>evaporated at end</th><th>events (done runs)</th></tr>`;
+  const body = agg.points.map((p) => {
+    const c = p.counts;
+    const done = c.planned === null ? String(c.done) : `${c.done} / ${c.planned}`;
+    const varied = Object.entries(p.point.varied).map(([k, v]) => `${k} = ${formatValue(v)}`).join("; ") ||
+      "—";
+    const events = Object.entries(p.events).sort(([a], [b]) =>
+      a.localeCompare(b)
+    ).map(([k, n]) => `${k} ${n}`)
+      .join(" · ") || "—";
+    const evap = p.evaporated.source === "none" ? "—" : formatInterval(p.evaporated.interval);
+    const extra = c.extra > 0
+      ? ` <span class="note">(+${c.extra} stored beyond the plan, not used)</span>`
+      : "";
+    return `<tr><td>${p.point.index}</td><td>${escapeHtml(p.point.label)}</td><td>${
+      escapeHtml(varied)
+    }</td>` +
+      `<td class="num">${escapeHtml(done)}${extra}</td><td class="num${
+        c.failed ? " bad" : ""
+      }">${c.failed}</td>` +
+      `<td class="num${c.running ? " warn" : ""}">${c.running}</td><td>${escapeHtml(evap)}</td>` +
+      `<td>${escapeHtml(events)}</td></tr>`;
+  }).join("");
+  return `<div class="scroll"><table><thead>${head}</thead><tbody>${body}</tbody></table></div>`;
+}
+
+function paramsTable(agg: StudyAggregate): string {
+  const flat = agg.points.map((p) => flatten(p.point.params));
+  const paths = [...new Set(flat.flatMap((f) => [...f.keys()]))];
+  if (paths.length === 0) return `<p class="note">No parameters stored.</p>`;
+  const rows = paths.map((path) => {
+    const values = new Set(flat.map((f) => f.get(path) ?? "(absent)"));
+    const v = values.size === 1 ? [...values][0] : "varies — see parameter points";
+    return `<tr><th scope="row">${escapeHtml(path)}</th><td${values.size === 1 ? "" : ' class="note"'}>${
+      escapeHtml(v)
+    }</td></tr>`;
+  });
+  return `<table class="kv"><tbody>${rows.join("")}</tbody></table>`;
+}
+
+function figure(c: RenderedChart, svgDirName: string | undefined): string {
+  const id = c.chart.id;
+  const link = c.vega !== null && svgDirName !== undefined
+    ? ` <a class="svg-link" href="${
+      escapeHtml(`${encodeURIComponent(svgDirName)}/${encodeURIComponent(id)}.svg`)
+    }">SVG</a>`
+    : "";
+  const view = c.vega !== null
+    ? `<div class="view" id="view-${escapeHtml(id)}"></div>`
+    : `<div class="empty" id="view-${escapeHtml(id)}">${escapeHtml(c.chart.emptyReason ?? "No data.")}</div>`;
+  return `<figure class="chart" id="chart-${escapeHtml(id)}">
+<h3>${escapeHtml(c.chart.title)}</h3>
+${view}
+<figcaption>${escapeHtml(c.chart.caption)}${link}</figcaption>
+</figure>`;
+}
+
+function scalarsTable(agg: StudyAggregate): string {
+  const names = [...new Set(agg.points.flatMap((p) => [...p.scalars.keys()]))].sort();
+  if (names.length === 0) return `<p class="note">No scalars recorded by done realisations.</p>`;
+  const head = `<tr><th>scalar</th>${
+    agg.points.map((p) => `<th>${escapeHtml(p.point.label)}</th>`).join("")
+  }</tr>`;
+  const body = names.map((n) =>
+    `<tr><th scope="row">${escapeHtml(n)}</th>${
+      agg.points.map((p) => {
+        const ci = p.scalars.get(n);
+        return `<td>${ci ? escapeHtml(formatInterval(ci)) : "—"}</td>`;
+      }).join("")
+    }</tr>`
+  ).join("");
+  return `<div class="scroll"><table class="scalars"><thead>${head}</thead><tbody>${body}</tbody></table></div>`;
+}
+
+function failuresTable(agg: StudyAggregate): string {
+  if (agg.failures.length === 0) {
+    return `<p class="ok">No failed or unfinished realisations.</p>`;
+  }
+  const head =
+    `<tr><th>point</th><th class="num">realisation</th><th>status</th><th>kind</th><th>message</th>` +
+    `<th class="num">t reached</th><th class="num">wall time</th><th>seed</th></tr>`;
+  const body = agg.failures.map((f) =>
+    `<tr class="${f.status === "failed" ? "bad" : "warn"}"><td>${escapeHtml(f.pointLabel)}</td>` +
+    `<td class="num">${f.index}</td><td>${f.status === "running" ? "unfinished" : "failed"}</td>` +
+    `<td>${escapeHtml(f.kind ?? "—")}</td><td class="msg">${
+      escapeHtml(f.error ?? (f.status === "running" ? "still running, or interrupted by a crash" : "—"))
+    }</td>` +
+    `<td class="num">${f.simTimeReached === null ? "—" : escapeHtml(formatNumber(f.simTimeReached))}</td>` +
+    `<td class="num">${f.wallSeconds === null ? "—" : `${escapeHtml(formatNumber(f.wallSeconds))} s`}</td>` +
+    `<td><code>${escapeHtml(f.seed)}</code></td></tr>`
+  ).join("");
+  return `<div class="scroll"><table class="failures"><thead>${head}</thead><tbody>${body}</tbody></table></div>`;
+}
+
+function provenanceTable(input: ReportPageInput): string {
+  const s = input.agg.study;
+  const rows: [string, string][] = [
+    ["tool version", `spindrift ${s.toolVersion}`],
+    ["Deno version", s.denoVersion],
+    ["git commit", s.gitCommit ?? "(not recorded)"],
+    ["engine", `${s.engineId} ${s.engineVersion}`],
+    ["study revision", `#${s.id}`],
+    ["study hash", s.studyHash],
+    ["study created", s.createdAt],
+    ["last run", s.lastRunAt ?? "—"],
+    ["study file", s.sourcePath ?? "—"],
+    ["database", input.dbPath],
+    ["report generated", input.generatedAt],
+  ];
+  return `<table class="kv"><tbody>${
+    rows.map(([k, v]) =>
+      `<tr><th scope="row">${escapeHtml(k)}</th><td><code>${escapeHtml(v)}</code></td></tr>`
+    )
+      .join("")
+  }</tbody></table>`;
+}
+
+/** "5.00 [3.21, 6.79] (n = 8)", or "7 (n = 1, no interval)". */
+export function formatInterval(ci: MeanInterval): string {
+  if (ci.n === 0) return "— (n = 0)";
+  if (ci.lower === null || ci.upper === null) return `${formatNumber(ci.mean)} (n = ${ci.n}, no interval)`;
+  return `${formatNumber(ci.mean)} [${formatNumber(ci.lower)}, ${formatNumber(ci.upper)}] (n = ${ci.n})`;
+}
+
+/** Four significant digits; exponent form outside [1e-3, 1e5). */
+export function formatNumber(x: number): string {
+  if (Number.isNaN(x)) return "NaN";
+  if (!Number.isFinite(x)) return x > 0 ? "∞" : "−∞";
+  if (x === 0) return "0";
+  const a = Math.abs(x);
+  if (a >= 1e-3 && a < 1e5) return String(Number(x.toPrecision(4)));
+  return x.toExponential(3).replace(/\.?0+e/, "e");
+}
+
+function formatValue(v: unknown): string {
+  if (typeof v === "number") return String(v);
+  if (typeof v === "string") return v;
+  const json = JSON.stringify(v) ?? String(v);
+  return json.length > 240 ? `${json.slice(0, 240)}… (${json.length} characters)` : json;
+}
+
+/** Dotted paths of leaves (arrays are leaves) → display string. */
+function flatten(value: unknown, prefix = "", out = new Map<string, string>()): Map<string, string> {
+  if (isRecord(value)) {
+    for (const [k, v] of Object.entries(value)) flatten(v, prefix ? `${prefix}.${k}` : k, out);
+  } else if (prefix) {
+    out.set(prefix, formatValue(value));
+  }
+  return out;
+}
+
+function isRecord(v: unknown): v is Record<string, unknown> {
+  return typeof v === "object" && v !== null && !Array.isArray(v);
+}
+
+function pct(level: number): string {
+  return `${Math.round(level * 1000) / 10} %`;
+}
+
+/** Records uncaught errors, rejected promises and console.error calls in the page (runs first). */
+const ERROR_HOOK = `(function () {
+  function note(msg) {
+    var b = document.body;
+    if (!b) { (window.__spindriftEarly = window.__spindriftEarly || []).push(msg); return; }
+    b.setAttribute("data-errors", String(Number(b.getAttribute("data-errors") || "0") + 1));
+    var box = document.getElementById("page-errors");
+    if (box) { box.hidden = false; var p = document.createElement("p"); p.textContent = "Page error: " + msg; box.appendChild(p); }
+  }
+  window.__spindriftNote = note;
+  window.addEventListener("error", function (e) { note(e.message || String(e.error)); });
+  window.addEventListener("unhandledrejection", function (e) { note(String(e.reason && e.reason.message || e.reason)); });
+  var ce = console.error;
+  console.error = function () { note(Array.prototype.map.call(arguments, String).join(" ")); return ce.apply(console, arguments); };
+})();`;
+
+/** Draws every view from the inlined specs and counts them in data-rendered. */
+const BOOT = `(function () {
+  var note = window.__spindriftNote;
+  (window.__spindriftEarly || []).forEach(note);
+  var body = document.body;
+  var items = JSON.parse(document.getElementById("spindrift-specs").textContent);
+  var rendered = 0;
+  items.forEach(function (item) {
+    var el = document.getElementById("view-" + item.id);
+    try {
+      var view = new vega.View(vega.parse(item.spec), { renderer: "svg", container: el, hover: true });
+      view.runAsync().then(function () {
+        rendered += 1;
+        body.setAttribute("data-rendered", String(rendered));
+        if (rendered === items.length) body.setAttribute("data-state", "ready");
+      }, function (e) { note("chart " + item.id + ": " + (e && e.message || e)); });
+    } catch (e) {
+      note("chart " + item.id + ": " + (e && e.message || e));
+    }
+  });
+  if (items.length === 0) body.setAttribute("data-state", "ready");
+})();`;
+
+const STYLE = `
+:root { --fg: #1d2430; --muted: #5b6576; --line: #d9dee6; --bg: #ffffff; --soft: #f5f7fa; --accent: #2f6fb3;
+  --bad: #b3261e; --warn: #9a6700; }
+* { box-sizing: border-box; }
+body { margin: 0; color: var(--fg); background: var(--bg);
+  font: 15px/1.5 system-ui, -apple-system, "Segoe UI", Roboto, "Helvetica Neue", Arial, sans-serif; }
+header, nav, main, footer, .errors { max-width: 1000px; margin: 0 auto; padding: 0 24px; }
+header { padding-top: 28px; }
+.kicker { margin: 0; color: var(--accent); font-weight: 600; letter-spacing: .04em; text-transform: uppercase; font-size: 12px; }
+h1 { margin: 4px 0 4px; font-size: 30px; line-height: 1.2; overflow-wrap: anywhere; }
+h2 { margin: 36px 0 12px; font-size: 21px; border-bottom: 1px solid var(--line); padding-bottom: 6px; }
+h3 { margin: 24px 0 8px; font-size: 16px; }
+.meta, .note, figcaption, footer { color: var(--muted); font-size: 13px; }
+nav { position: sticky; top: 0; background: rgba(255,255,255,.95); border-bottom: 1px solid var(--line);
+  padding-top: 8px; padding-bottom: 8px; z-index: 2; }
+nav a { margin-right: 16px; color: var(--accent); text-decoration: none; font-size: 14px; }
+nav a:hover { text-decoration: underline; }
+.description { white-space: pre-wrap; font-size: 16px; background: var(--soft); border-left: 4px solid var(--accent);
+  padding: 12px 16px; margin: 0; overflow-wrap: anywhere; }
+.tiles { display: flex; flex-wrap: wrap; gap: 12px; margin-top: 16px; }
+.tile { border: 1px solid var(--line); border-radius: 8px; padding: 10px 16px; min-width: 130px; }
+.tile .v { display: block; font-size: 24px; font-weight: 650; }
+.tile .l { color: var(--muted); font-size: 13px; }
+.tile.bad .v, td.bad { color: var(--bad); }
+.tile.warn .v, td.warn { color: var(--warn); }
+table { border-collapse: collapse; font-size: 14px; width: 100%; }
+th, td { text-align: left; vertical-align: top; padding: 5px 10px; border-bottom: 1px solid var(--line); overflow-wrap: break-word; }
+thead th { background: var(--soft); font-weight: 600; white-space: nowrap; }
+table.kv th { width: 34%; font-weight: 500; color: var(--muted); }
+td.num, th.num { text-align: right; font-variant-numeric: tabular-nums; }
+tr.bad td:first-child { box-shadow: inset 3px 0 var(--bad); }
+tr.warn td:first-child { box-shadow: inset 3px 0 var(--warn); }
+td.msg { font-family: ui-monospace, SFMono-Regular, Menlo, Consolas, monospace; font-size: 13px; }
+.scroll { overflow-x: auto; }
+figure.chart { margin: 0 0 28px; padding: 12px 16px 14px; border: 1px solid var(--line); border-radius: 8px; }
+figure.chart h3 { margin-top: 4px; }
+.view { overflow-x: auto; min-height: 60px; }
+.empty { padding: 24px; background: var(--soft); color: var(--muted); border-radius: 6px; }
+figcaption { margin-top: 8px; }
+.svg-link { margin-left: 6px; color: var(--accent); }
+pre.study-text { background: var(--soft); border: 1px solid var(--line); border-radius: 6px; padding: 12px 14px;
+  overflow-x: auto; font-size: 13px; line-height: 1.45; }
+code { font-family: ui-monospace, SFMono-Regular, Menlo, Consolas, monospace; font-size: 13px; overflow-wrap: anywhere; }
+.ok { color: #1a7f37; }
+.errors { margin-top: 12px; }
+.errors p { color: var(--bad); background: #fdecea; border: 1px solid #f5c2c0; padding: 8px 12px; border-radius: 6px; }
+footer { padding-top: 24px; padding-bottom: 32px; }
+@media print { nav { display: none; } figure.chart { break-inside: avoid; } }
+`;

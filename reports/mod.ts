@@ -1,0 +1,98 @@
+/**
+ * Study reports: one offline HTML page per study revision, built from the database alone, plus each chart as
+ * an SVG file for slides.
+ *
+ *   database → aggregate (store reads + ensemble statistics) → Vega-Lite specs → Vega (compiled in Deno)
+ *            → HTML page with the Vega runtime inlined, and SVG files rendered in Deno
+ *
+ * @example
+ * ```ts
+ * import { writeReport } from "./reports/mod.ts";
+ * const { html, svgDir } = await writeReport("runs/film-patch.sqlite", {});
+ * // html   = "runs/film-patch-report.html"
+ * // svgDir = "runs/film-patch-report-svg"   (msd.svg, cluster-rms-radius.svg, …)
+ * ```
+ */
+import { basename, dirname, join, resolve } from "node:path";
+import { openStoreReadOnly } from "../store/reads.ts";
+import { aggregateStudy } from "./aggregate.ts";
+import { type RenderedChart, renderReportHtml } from "./html.ts";
+import { compileChart, readVegaRuntime, renderSvg } from "./render.ts";
+import { buildCharts, CHART_SERIES, type ChartOptions } from "./specs.ts";
+
+export { StoreReadError } from "../store/reads.ts";
+export { aggregateStudy, type StudyAggregate } from "./aggregate.ts";
+export { buildCharts, type ChartSpec } from "./specs.ts";
+export { escapeHtml, renderReportHtml } from "./html.ts";
+export { meanInterval, Welford } from "./intervals.ts";
+
+export interface WriteReportOptions {
+  /** Page path; default `<database folder>/<study name>-report.html` (`-r<id>` added when `studyId` is given). */
+  out?: string;
+  /** Study revision id; default the latest. */
+  studyId?: number;
+  /** Axis unit labels (e.g. from the engine's capabilities); default generic wording. */
+  units?: ChartOptions["units"];
+  /** Time stamp printed on the page; default now. */
+  generatedAt?: string;
+}
+
+/**
+ * Writes the report page and the SVG folder beside it; returns both paths. Throws `StoreReadError` when the
+ * database cannot be read (missing, not a spindrift database, unknown study id).
+ */
+export async function writeReport(
+  dbPath: string,
+  opts: WriteReportOptions = {},
+): Promise<{ html: string; svgDir: string }> {
+  const db = openStoreReadOnly(dbPath);
+  let charts: RenderedChart[];
+  let page: string;
+  let out: string;
+  try {
+    const agg = aggregateStudy(db, { studyId: opts.studyId, series: CHART_SERIES });
+    out = opts.out ?? join(
+      dirname(dbPath),
+      `${safeFileName(agg.study.name)}${opts.studyId === undefined ? "" : `-r${agg.study.id}`}-report.html`,
+    );
+    charts = buildCharts(agg, { units: opts.units }).map((chart) => ({
+      chart,
+      vega: chart.spec === null ? null : compileChart(chart.spec).vega,
+    }));
+    page = renderReportHtml({
+      agg,
+      charts,
+      vegaRuntime: await readVegaRuntime(),
+      dbPath: resolve(dbPath),
+      generatedAt: opts.generatedAt ?? new Date().toISOString(),
+      svgDirName: basename(svgDirFor(out)),
+    });
+  } finally {
+    db.close();
+  }
+  const svgDir = svgDirFor(out);
+  await Deno.mkdir(svgDir, { recursive: true });
+  for (const c of charts) {
+    const file = join(svgDir, `${c.chart.id}.svg`);
+    if (c.vega === null) await Deno.remove(file).catch(() => {});
+    else await writeAtomic(file, await renderSvg(c.vega));
+  }
+  await writeAtomic(out, page);
+  return { html: out, svgDir };
+}
+
+function svgDirFor(htmlPath: string): string {
+  return `${htmlPath.replace(/\.html?$/i, "")}-svg`;
+}
+
+/** Letters, digits, '-', '_' and '.' only (study names are identifier-like, but the database is not trusted). */
+function safeFileName(name: string): string {
+  const s = name.replace(/[^A-Za-z0-9._-]+/g, "_").replace(/^[._]+/, "").slice(0, 80);
+  return s === "" ? "study" : s;
+}
+
+async function writeAtomic(path: string, text: string): Promise<void> {
+  const tmp = `${path}.tmp-${Deno.pid}`;
+  await Deno.writeTextFile(tmp, text);
+  await Deno.rename(tmp, path);
+}
