@@ -124,6 +124,7 @@ ${paramsTable(agg)}
 </section>
 <section id="results">
 <h2>Results</h2>
+${notesList(s.notes)}
 ${input.charts.map((c) => figure(c, input.svgDirName)).join("\n")}
 <h3>Scalars per point</h3>
 <p class="note">Mean over done realisations with the ${
@@ -449,3 +450,14 @@ code { font-family: ui-monospace, SFMono-Regular, Menlo, Consolas, monospace; fo
 footer { padding-top: 24px; padding-bottom: 32px; }
 @media print { nav { display: none; } figure.chart { break-inside: avoid; } }
 `;
+
+/** Notes recorded by the runner (e.g. observables that could not apply to this engine), never silent. */
+function notesList(notes: readonly { kind: string; id: string; reason: string }[]): string {
+  if (notes.length === 0) return "";
+  const items = notes.map((n) =>
+    n.kind === "observable-skipped"
+      ? `<li>Observable <code>${escapeHtml(n.id)}</code> was not computed: ${escapeHtml(n.reason)}</li>`
+      : `<li>${escapeHtml(n.kind)} <code>${escapeHtml(n.id)}</code>: ${escapeHtml(n.reason)}</li>`
+  );
+  return `<div class="note notes"><p>Notes:</p><ul>${items.join("")}</ul></div>`;
+}

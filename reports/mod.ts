@@ -55,7 +55,7 @@ export async function writeReport(
       dirname(dbPath),
       `${safeFileName(agg.study.name)}${opts.studyId === undefined ? "" : `-r${agg.study.id}`}-report.html`,
     );
-    charts = buildCharts(agg, { units: opts.units }).map((chart) => ({
+    charts = buildCharts(agg, { units: opts.units ?? unitsOf(agg.study.units) }).map((chart) => ({
       chart,
       vega: chart.spec === null ? null : compileChart(chart.spec).vega,
     }));
@@ -95,4 +95,9 @@ async function writeAtomic(path: string, text: string): Promise<void> {
   const tmp = `${path}.tmp-${Deno.pid}`;
   await Deno.writeTextFile(tmp, text);
   await Deno.rename(tmp, path);
+}
+
+/** Axis units recorded with the study (from the engine's capabilities), if complete. */
+function unitsOf(units: Readonly<Record<string, string>>): ChartOptions["units"] {
+  return units.length && units.time ? { length: units.length, time: units.time } : undefined;
 }

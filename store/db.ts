@@ -37,6 +37,8 @@ export interface StudyRecord {
   readonly gitCommit: string | null;
   /** Notes for the report, e.g. observables skipped because the engine cannot provide what they need. */
   readonly notes?: readonly { readonly kind: string; readonly id: string; readonly reason: string }[];
+  /** The engine's units (length, time, circulation), for axis labels. */
+  readonly units?: Readonly<Record<string, string>>;
 }
 
 export interface PointRecord {
@@ -114,7 +116,9 @@ export class StudyStore {
     this.db = db;
     this.path = path;
     const placeholders = Array.from({ length: ROWS_PER_INSERT }, () => "(?, ?, ?, ?, ?)").join(", ");
-    this.#seriesBatch = db.prepare(`INSERT INTO series (realisation_id, name, k, t, value) VALUES ${placeholders}`);
+    this.#seriesBatch = db.prepare(
+      `INSERT INTO series (realisation_id, name, k, t, value) VALUES ${placeholders}`,
+    );
     this.#pendingInsert = db.prepare(
       "INSERT OR REPLACE INTO pending_frames (realisation_id, k, t, n, layout, data) VALUES (?, ?, ?, ?, ?, ?)",
     );
@@ -133,7 +137,9 @@ export class StudyStore {
       db.exec("PRAGMA journal_mode = WAL");
       db.exec("PRAGMA synchronous = NORMAL");
       db.exec("PRAGMA foreign_keys = ON");
-      const tables = db.prepare("SELECT name FROM sqlite_master WHERE type = 'table'").all() as { name: string }[];
+      const tables = db.prepare("SELECT name FROM sqlite_master WHERE type = 'table'").all() as {
+        name: string;
+      }[];
       const hasMeta = tables.some((t) => t.name === "meta");
       if (tables.length > 0 && !hasMeta) {
         throw new StoreError(
@@ -152,7 +158,9 @@ export class StudyStore {
         }
       }
       db.exec(SCHEMA_SQL);
-      db.prepare("INSERT OR IGNORE INTO meta (key, value) VALUES ('schema_version', ?)").run(String(SCHEMA_VERSION));
+      db.prepare("INSERT OR IGNORE INTO meta (key, value) VALUES ('schema_version', ?)").run(
+        String(SCHEMA_VERSION),
+      );
       return new StudyStore(db, path);
     } catch (e) {
       db.close();
@@ -191,13 +199,23 @@ export class StudyStore {
       let id: number;
       if (existing) {
         id = existing.id;
-        this.db.prepare("UPDATE studies SET last_run_at = ?, source_path = ?, text = ?, notes_json = ? WHERE id = ?")
-          .run(now, study.sourcePath, study.text, JSON.stringify(study.notes ?? []), id);
+        this.db.prepare(
+          "UPDATE studies SET last_run_at = ?, source_path = ?, text = ?, notes_json = ?, units_json = ? WHERE id = ?",
+        )
+          .run(
+            now,
+            study.sourcePath,
+            study.text,
+            JSON.stringify(study.notes ?? []),
+            JSON.stringify(study.units ?? {}),
+            id,
+          );
       } else {
         const r = this.db.prepare(
           `INSERT INTO studies (name, description, study_hash, source_path, text, normalized_json, engine_id,
-             engine_version, tool_version, deno_version, git_commit, notes_json, created_at, last_run_at)
-           VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`,
+             engine_version, tool_version, deno_version, git_commit, notes_json, units_json,
+             created_at, last_run_at)
+           VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`,
         ).run(
           study.name,
           study.description,
@@ -211,6 +229,7 @@ export class StudyStore {
           study.denoVersion,
           study.gitCommit,
           JSON.stringify(study.notes ?? []),
+          JSON.stringify(study.units ?? {}),
           now,
           now,
         );
@@ -225,7 +244,15 @@ export class StudyStore {
          VALUES (?, ?, ?, ?, ?)`,
       );
       for (const p of points) {
-        insPoint.run(p.pointHash, p.paramsHash, study.engineId, study.engineVersion, p.paramsJson, p.controlsJson, now);
+        insPoint.run(
+          p.pointHash,
+          p.paramsHash,
+          study.engineId,
+          study.engineVersion,
+          p.paramsJson,
+          p.controlsJson,
+          now,
+        );
         insLink.run(id, p.pointIndex, p.pointHash, p.label, p.variedJson);
       }
       return id;
@@ -297,8 +324,12 @@ export class StudyStore {
          SELECT realisation_id, k, t, n, layout, data FROM pending_frames WHERE realisation_id = ? ORDER BY k`,
       ).run(realisationId);
       const moved = db.prepare("DELETE FROM pending_frames WHERE realisation_id = ?").run(realisationId);
-      const insScalar = db.prepare("INSERT OR REPLACE INTO scalars (realisation_id, name, value) VALUES (?, ?, ?)");
-      for (const [name, value] of Object.entries(out.scalars)) insScalar.run(realisationId, name, real(value));
+      const insScalar = db.prepare(
+        "INSERT OR REPLACE INTO scalars (realisation_id, name, value) VALUES (?, ?, ?)",
+      );
+      for (const [name, value] of Object.entries(out.scalars)) {
+        insScalar.run(realisationId, name, real(value));
+      }
       this.#insertSeries(realisationId, out.series);
       const insEvent = db.prepare(
         "INSERT INTO events (realisation_id, seq, t, kind, ids_json, data_json) VALUES (?, ?, ?, ?, ?, ?)",
@@ -324,7 +355,9 @@ export class StudyStore {
 
   #insertSeries(realisationId: number, series: Readonly<Record<string, SeriesData>>): void {
     const buf: (number | string | null)[] = [];
-    const single = this.db.prepare("INSERT INTO series (realisation_id, name, k, t, value) VALUES (?, ?, ?, ?, ?)");
+    const single = this.db.prepare(
+      "INSERT INTO series (realisation_id, name, k, t, value) VALUES (?, ?, ?, ?, ?)",
+    );
     for (const [name, s] of Object.entries(series)) {
       for (let k = 0; k < s.v.length; k++) {
         buf.push(realisationId, name, k, s.t[k], real(s.v[k]));
@@ -334,6 +367,8 @@ export class StudyStore {
         }
       }
     }
-    for (let i = 0; i < buf.length; i += 5) single.run(buf[i], buf[i + 1], buf[i + 2], buf[i + 3], buf[i + 4]);
+    for (let i = 0; i < buf.length; i += 5) {
+      single.run(buf[i], buf[i + 1], buf[i + 2], buf[i + 3], buf[i + 4]);
+    }
   }
 }

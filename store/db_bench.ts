@@ -46,5 +46,12 @@ Deno.bench(`store: ${ROWS} series rows in one realisation transaction`, () => {
     engineVersion: "1",
     host: "bench",
   });
-  store.finishRealisation(id, { status: "done", wallSeconds: 0, simTimeReached: 0, scalars: {}, series, events: [] });
+  store.finishRealisation(id, {
+    status: "done",
+    wallSeconds: 0,
+    simTimeReached: 0,
+    scalars: {},
+    series,
+    events: [],
+  });
 });

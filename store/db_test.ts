@@ -67,11 +67,18 @@ Deno.test("StudyStore.finishRealisation makes frames, series, scalars and events
   assertEquals(count("pending_frames"), 0);
   assertEquals(count("frames"), 1);
   assertEquals(count("series"), n);
-  const last = store.db.prepare("SELECT t, value FROM series WHERE k = ?").get(n - 1) as { t: number; value: number };
+  const last = store.db.prepare("SELECT t, value FROM series WHERE k = ?").get(n - 1) as {
+    t: number;
+    value: number;
+  };
   assertEquals({ ...last }, { t: (n - 1) * 0.5, value: ((n - 1) * 0.5) ** 2 });
   const nan = store.db.prepare("SELECT value FROM scalars WHERE name = 'nan'").get() as { value: null };
   assertEquals(nan.value, null);
-  const f = store.db.prepare("SELECT layout, data, n FROM frames").get() as { layout: string; data: Uint8Array; n: number };
+  const f = store.db.prepare("SELECT layout, data, n FROM frames").get() as {
+    layout: string;
+    data: Uint8Array;
+    n: number;
+  };
   const dec = decodeFrame(f.layout, f.data, f.n);
   assertEquals(Array.from(dec.x), [0.1, Math.PI]);
   const row = store.db.prepare("SELECT status, frame_count FROM realisations WHERE id = ?").get(id);

@@ -69,7 +69,9 @@ export function decodeFrame(layout: string, data: Uint8Array, n: number): Record
     offset += bytes;
   }
   if (offset !== data.byteLength) {
-    throw new Error(`frame blob is ${data.byteLength} bytes but layout '${layout}' with n=${n} uses ${offset}`);
+    throw new Error(
+      `frame blob is ${data.byteLength} bytes but layout '${layout}' with n=${n} uses ${offset}`,
+    );
   }
   return out;
 }

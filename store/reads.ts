@@ -52,6 +52,10 @@ export interface StudyRecord {
   readonly gitCommit: string | null;
   readonly createdAt: string;
   readonly lastRunAt: string | null;
+  /** Notes recorded by the runner, e.g. observables skipped because the engine cannot provide their needs. */
+  readonly notes: readonly { readonly kind: string; readonly id: string; readonly reason: string }[];
+  /** The engine's units ({ length, time, circulation }), empty when unknown. */
+  readonly units: Readonly<Record<string, string>>;
 }
 
 /** A short line per study revision, for listings and messages. */
@@ -196,7 +200,8 @@ export function listStudies(db: DatabaseSync): StudySummary[] {
  */
 export function readStudy(db: DatabaseSync, opts: { studyId?: number } = {}): StudyRecord {
   const sql = `SELECT id, name, description, study_hash, source_path, text, normalized_json, engine_id,
-    engine_version, tool_version, deno_version, git_commit, created_at, last_run_at FROM studies`;
+    engine_version, tool_version, deno_version, git_commit, created_at, last_run_at, notes_json, units_json
+    FROM studies`;
   const row = opts.studyId === undefined
     ? db.prepare(`${sql} ORDER BY id DESC LIMIT 1`).get()
     : db.prepare(`${sql} WHERE id = ?`).get(opts.studyId);
@@ -225,6 +230,12 @@ export function readStudy(db: DatabaseSync, opts: { studyId?: number } = {}): St
     gitCommit: strOrNull(row.git_commit),
     createdAt: String(row.created_at),
     lastRunAt: strOrNull(row.last_run_at),
+    notes: (parseJson(row.notes_json ?? "[]", `studies.notes_json of study ${row.id}`) ?? []) as StudyRecord[
+      "notes"
+    ],
+    units: (parseJson(row.units_json ?? "{}", `studies.units_json of study ${row.id}`) ?? {}) as StudyRecord[
+      "units"
+    ],
   };
 }
 

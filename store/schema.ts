@@ -29,6 +29,7 @@ CREATE TABLE IF NOT EXISTS studies (
   deno_version    TEXT NOT NULL,
   git_commit      TEXT,
   notes_json      TEXT NOT NULL DEFAULT '[]',
+  units_json      TEXT NOT NULL DEFAULT '{}',
   created_at      TEXT NOT NULL,
   last_run_at     TEXT
 ) STRICT;

@@ -21,13 +21,17 @@ export interface StudyStatus {
 /** Status of the latest study revision (or the given one). */
 export function studyStatus(db: DatabaseSync, studyId?: number): StudyStatus | undefined {
   const study = (studyId === undefined
-    ? db.prepare("SELECT id, name, normalized_json, last_run_at FROM studies ORDER BY last_run_at DESC, id DESC LIMIT 1")
+    ? db.prepare(
+      "SELECT id, name, normalized_json, last_run_at FROM studies ORDER BY last_run_at DESC, id DESC LIMIT 1",
+    )
       .get()
     : db.prepare("SELECT id, name, normalized_json, last_run_at FROM studies WHERE id = ?").get(studyId)) as
       | Record<string, unknown>
       | undefined;
   if (!study) return undefined;
-  const planned = Number((JSON.parse(String(study.normalized_json)) as { realisations: number }).realisations);
+  const planned = Number(
+    (JSON.parse(String(study.normalized_json)) as { realisations: number }).realisations,
+  );
   const rows = db.prepare(
     `SELECT sp.point_index AS i, sp.label AS label,
        SUM(r.status = 'done') AS done, SUM(r.status = 'failed') AS failed, SUM(r.status = 'running') AS running

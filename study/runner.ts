@@ -120,6 +120,7 @@ export function recordStudy(store: StudyStore, study: NormalizedStudy, provenanc
       denoVersion: provenance.denoVersion,
       gitCommit: provenance.gitCommit,
       notes: skipped.map((s) => ({ kind: "observable-skipped", id: s.id, reason: s.reason })),
+      units: engine?.capabilities.units,
     },
     study.points.map((p) => ({
       pointIndex: p.index,
