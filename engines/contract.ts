@@ -110,6 +110,8 @@ export interface EngineRunInput<P> {
   readonly rng: RandomStream;
   /** Index of this realisation within its parameter point (0-based); engines that read data use it. */
   readonly realisationIndex?: number;
+  /** Folder of the study file: relative file paths in parameters resolve against it. */
+  readonly baseDirectory?: string;
 }
 
 /** Receives frames and events in time order. Throws `EngineFailure` to stop a run (e.g. NaN guard). */

@@ -33,6 +33,8 @@ export interface RealisationTask {
   readonly controls: RunControls;
   readonly seedState: GeneratorState;
   readonly realisationIndex: number;
+  /** Folder of the study file (relative paths in parameters resolve against it). */
+  readonly baseDirectory?: string;
   readonly observables: { readonly record: readonly string[]; readonly classification: ClassificationConfig };
 }
 
@@ -157,7 +159,13 @@ export async function executeRealisation(
   const rng = RandomStream.fromState(task.seedState);
   try {
     const summary = await engine.run(
-      { params: task.params, controls: task.controls, rng, realisationIndex: task.realisationIndex },
+      {
+        params: task.params,
+        controls: task.controls,
+        rng,
+        realisationIndex: task.realisationIndex,
+        baseDirectory: task.baseDirectory,
+      },
       sink,
     );
     flush();

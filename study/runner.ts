@@ -19,6 +19,7 @@
  * Resume: realisations whose key is stored as `done` are skipped; `failed` ones and those a crash left
  * `running` are run again. `fresh` deletes the stored realisations of the study's points first.
  */
+import { dirname } from "node:path";
 import { findEngine } from "../engines/registry.ts";
 import { applicableObservables } from "../engines/observables/mod.ts";
 import type { NormalizedStudy } from "./normalize.ts";
@@ -90,6 +91,7 @@ export function taskFor(study: NormalizedStudy, r: PlannedRealisation): Realisat
     },
     seedState: r.seedState,
     realisationIndex: r.index,
+    baseDirectory: study.sourcePath ? dirname(study.sourcePath) : undefined,
     observables: study.observables,
   };
 }
