@@ -1,24 +1,76 @@
 /**
  * `spindrift export`: one realisation's frames as CSV or JSON lines, one row per object per frame.
  *
- * 2D columns: t, id, x, y, circulation, label. 3D columns: t, id, x, y, z, loop, order, marker, label.
- * Numbers are written with the shortest decimal that round-trips to the same double (JavaScript `String`),
- * so importing an export gives back the same bits. Labels are names: main, evaporated, stray.
+ * CSV is exactly the format the imported-data engines read (engines/imported/export_format.ts): 2D columns
+ * t, id, x, y, circulation, label; 3D columns t, id, x, y, z, loop, order, marker, label; numbers as the shortest
+ * decimal that round-trips to the same double, so importing an export gives back the same bits. Labels are
+ * names: main, evaporated, stray. JSON lines carry the same fields, one object per row.
  */
 import { LABEL_NAMES } from "../engines/observables/labels.ts";
-import { findRealisation, iterateFrames } from "../store/frames.ts";
+import { type ByteWriter, type ExportFrame, writeFramesCsv } from "../engines/imported/mod.ts";
+import { findRealisation, iterateFrames, type StoredFrame } from "../store/frames.ts";
 import { openReadOnly } from "./query.ts";
 import { UserError } from "./errors.ts";
 
 export type ExportFormat = "csv" | "jsonl";
 
-/** Writes the export to `write` chunk by chunk; returns the number of rows. */
-export function exportRealisation(
+function toExportFrame(f: StoredFrame): ExportFrame {
+  const c = f.columns;
+  return {
+    t: f.t,
+    n: f.n,
+    id: c.id as Int32Array,
+    x: c.x as Float64Array,
+    y: c.y as Float64Array,
+    z: (c.z as Float64Array | undefined) ?? null,
+    circulation: (c.circulation as Float64Array | undefined) ?? null,
+    loop: (c.loop as Int32Array | undefined) ?? null,
+    marker: (c.marker as Uint8Array | undefined) ?? null,
+    label: (c.label as Uint8Array | undefined) ?? null,
+  };
+}
+
+function* jsonLines(frames: Iterable<ExportFrame>): Generator<string> {
+  for (const f of frames) {
+    const lines: string[] = [];
+    let order = 0;
+    for (let i = 0; i < f.n; i++) {
+      const label = f.label ? LABEL_NAMES[f.label[i]] ?? String(f.label[i]) : "main";
+      if (f.z) {
+        if (i > 0 && f.loop && f.loop[i] !== f.loop[i - 1]) order = 0;
+        lines.push(JSON.stringify({
+          t: f.t,
+          id: f.id[i],
+          x: f.x[i],
+          y: f.y[i],
+          z: f.z[i],
+          loop: f.loop?.[i] ?? 0,
+          order: order++,
+          marker: f.marker?.[i] ?? 0,
+          label,
+        }));
+      } else {
+        lines.push(JSON.stringify({
+          t: f.t,
+          id: f.id[i],
+          x: f.x[i],
+          y: f.y[i],
+          circulation: f.circulation?.[i] ?? 0,
+          label,
+        }));
+      }
+    }
+    if (lines.length) yield lines.join("\n") + "\n";
+  }
+}
+
+/** Writes the export to `writer`; returns the number of object rows. */
+export async function exportRealisation(
   dbPath: string,
   realisationId: number,
   format: ExportFormat,
-  write: (chunk: string) => void,
-): number {
+  writer: ByteWriter,
+): Promise<number> {
   const db = openReadOnly(dbPath);
   try {
     const ref = findRealisation(db, realisationId);
@@ -28,34 +80,24 @@ export function exportRealisation(
         `list them with: spindrift query ${dbPath} "SELECT id, point_hash, idx, status FROM realisations"`,
       );
     }
+    const first = iterateFrames(db, realisationId).next();
+    if (first.done) throw new UserError(`realisation ${realisationId} has no stored frames`);
+    const dimension = first.value.columns.z !== undefined ? 3 : 2;
+    const frames = (function* () {
+      for (const f of iterateFrames(db, realisationId)) yield toExportFrame(f);
+    })();
+    if (format === "csv") {
+      const res = await writeFramesCsv(frames, writer, {
+        dimension,
+        comments: [`spindrift export of realisation ${realisationId} (index ${ref.index}) from ${dbPath}`],
+      });
+      return res.rows;
+    }
+    const enc = new TextEncoder();
     let rows = 0;
-    let header = false;
-    for (const f of iterateFrames(db, realisationId)) {
-      const c = f.columns;
-      const threeD = c.z !== undefined;
-      const names = threeD
-        ? ["t", "id", "x", "y", "z", "loop", "order", "marker", "label"]
-        : ["t", "id", "x", "y", "circulation", "label"];
-      if (!header && format === "csv") {
-        write(names.join(",") + "\n");
-      }
-      header = true;
-      const lines: string[] = [];
-      let order = 0;
-      for (let i = 0; i < f.n; i++) {
-        const label = LABEL_NAMES[c.label?.[i] ?? 0] ?? String(c.label?.[i]);
-        let values: (string | number)[];
-        if (threeD) {
-          if (i > 0 && c.loop && c.loop[i] !== c.loop[i - 1]) order = 0;
-          values = [f.t, c.id[i], c.x[i], c.y[i], c.z[i], c.loop?.[i] ?? 0, order++, c.marker?.[i] ?? 0, label];
-        } else {
-          values = [f.t, c.id[i], c.x[i], c.y[i], c.circulation?.[i] ?? 0, label];
-        }
-        if (format === "csv") lines.push(values.map(String).join(","));
-        else lines.push(JSON.stringify(Object.fromEntries(names.map((n, j) => [n, values[j]]))));
-        rows++;
-      }
-      if (lines.length) write(lines.join("\n") + "\n");
+    for (const chunk of jsonLines(frames)) {
+      rows += chunk.split("\n").length - 1;
+      await writer.write(enc.encode(chunk));
     }
     return rows;
   } finally {

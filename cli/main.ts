@@ -188,17 +188,18 @@ Typical session:
     .requiredOption("-r, --realisation <id>", "realisation id (column id of table realisations)")
     .addOption(new Option("-f, --format <format>", "output format").choices(["csv", "jsonl"]).default("csv"))
     .option("-o, --out <file>", "file to write (default: standard output)")
-    .action((dbPath, o) => {
+    .action(async (dbPath, o) => {
       const id = positiveInt("--realisation")(o.realisation);
-      const encoder = new TextEncoder();
-      const file = o.out ? Deno.openSync(o.out, { write: true, create: true, truncate: true }) : null;
-      const sinkFile = file ?? Deno.stdout;
-      try {
-        const rows = exportRealisation(dbPath, id, o.format as ExportFormat, (chunk) => {
-          const bytes = encoder.encode(chunk);
+      const file = o.out ? await Deno.open(o.out, { write: true, create: true, truncate: true }) : null;
+      const target = file ?? Deno.stdout;
+      const writer = {
+        async write(chunk: Uint8Array) {
           let off = 0;
-          while (off < bytes.length) off += sinkFile.writeSync(bytes.subarray(off));
-        });
+          while (off < chunk.length) off += await target.write(chunk.subarray(off));
+        },
+      };
+      try {
+        const rows = await exportRealisation(dbPath, id, o.format as ExportFormat, writer);
         if (o.out) out(`${rows} rows written to ${o.out}`);
       } finally {
         file?.close();

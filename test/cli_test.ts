@@ -1,0 +1,147 @@
+/** End-to-end runs of the command line as a user would type it (subprocesses of the real launcher path). */
+import { DatabaseSync } from "node:sqlite";
+import { assert, assertEquals } from "./_assert.ts";
+import { countWhere, digestResults, loadNormalizedForTest, REPO, runForTest } from "./_study.ts";
+
+const DENO = Deno.execPath();
+const PERMS = ["--allow-read", "--allow-write", "--allow-env", "--allow-sys=hostname"];
+
+function cli(args: string[], opts: { cwd?: string } = {}): Deno.Command {
+  return new Deno.Command(DENO, {
+    args: ["run", "--quiet", "--no-prompt", ...PERMS, `${REPO}cli/main.ts`, ...args],
+    cwd: opts.cwd ?? REPO,
+    stdout: "piped",
+    stderr: "piped",
+    env: { DENO_NO_UPDATE_CHECK: "1", NO_COLOR: "1" },
+  });
+}
+
+async function runCli(args: string[]): Promise<{ code: number; stdout: string; stderr: string }> {
+  const out = await cli(args).output();
+  const dec = new TextDecoder();
+  return { code: out.code, stdout: dec.decode(out.stdout), stderr: dec.decode(out.stderr) };
+}
+
+function assertNoStackTrace(text: string): void {
+  assert(!/\n\s+at .+:\d+:\d+/.test(text), `a stack trace was printed:\n${text}`);
+}
+
+Deno.test("cli: --help lists the commands in plain words", async () => {
+  const r = await runCli(["--help"]);
+  assertEquals(r.code, 0);
+  for (const c of ["check", "run", "report", "query", "export", "status", "demo"]) {
+    assert(r.stdout.includes(`  ${c}`), `help lists ${c}`);
+  }
+});
+
+Deno.test("cli: a wrong flag gets a one-line message with a suggestion, exit code 2", async () => {
+  const r = await runCli(["run", "x.yaml", "--wokers", "2"]);
+  assertEquals(r.code, 2);
+  assert(r.stderr.includes("unknown option '--wokers'"), r.stderr);
+  assert(r.stderr.includes("--workers"), r.stderr);
+  assertNoStackTrace(r.stderr);
+});
+
+Deno.test("cli: check of a broken study lists problems with line numbers and no stack trace", async () => {
+  const dir = Deno.makeTempDirSync();
+  const path = `${dir}/bad.yaml`;
+  Deno.writeTextFileSync(
+    path,
+    "name: bad\ndescription: x\nengine: point-vortex-2d\nparameters:\n  initial: { kind: random-cloud, count: -4, radius: 1 }\n" +
+      "realisations: 0\nseed: 1\nrun: { duration: -1, sampleInterval: 0.1 }\n",
+  );
+  const r = await runCli(["check", path]);
+  assertEquals(r.code, 1);
+  assert(/bad\.yaml:\d+:\d+/.test(r.stderr), r.stderr);
+  assert(r.stderr.includes("realisations"), r.stderr);
+  assert(r.stderr.includes("run.duration"), r.stderr);
+  assertNoStackTrace(r.stderr);
+});
+
+Deno.test("cli: a missing database gets a clear message", async () => {
+  const r = await runCli(["query", "/nonexistent/x.sqlite", "SELECT 1"]);
+  assertEquals(r.code, 1);
+  assert(r.stderr.includes("does not exist"), r.stderr);
+  assertNoStackTrace(r.stderr);
+});
+
+const KILL_STUDY = `
+name: kill-test
+description: Resume after SIGKILL.
+engine: point-vortex-2d
+parameters:
+  initial: { kind: random-cloud, count: 24, polarity: 0, shape: uniform-disk, radius: 1.0, minSeparation: 0.05 }
+  annihilationDistance: 0.01
+sweep:
+  grid:
+    initial.count: [16, 24]
+realisations: 6
+seed: 99
+run: { duration: 1.5, sampleInterval: 0.05, tolerance: 1.0e-9 }
+`;
+
+Deno.test("cli: SIGKILL mid-run loses no finished realisation; resuming gives the uninterrupted database", async () => {
+  const dir = Deno.makeTempDirSync();
+  const studyPath = `${dir}/kill.yaml`;
+  Deno.writeTextFileSync(studyPath, KILL_STUDY);
+  const killedDb = `${dir}/killed.sqlite`;
+  const child = cli(["run", studyPath, "--db", killedDb, "--workers", "2", "--quiet"]).spawn();
+  // Wait until some realisations are committed, then kill without warning.
+  const deadline = Date.now() + 120_000;
+  let done = 0;
+  while (Date.now() < deadline) {
+    await new Promise((r) => setTimeout(r, 50));
+    try {
+      done = countWhere(killedDb, "SELECT COUNT(*) AS c FROM realisations WHERE status = 'done'");
+    } catch {
+      continue; // not created yet
+    }
+    if (done >= 2) break;
+  }
+  child.kill("SIGKILL");
+  const status = await child.status;
+  await child.stdout.cancel();
+  await child.stderr.cancel();
+  assert(done >= 2, "the run committed realisations before the kill");
+  assert(!status.success, "the run was killed before it finished");
+  const db = new DatabaseSync(killedDb);
+  const check = db.prepare("PRAGMA integrity_check").get() as Record<string, string>;
+  assertEquals(Object.values(check)[0], "ok");
+  const committed = Number((db.prepare("SELECT COUNT(*) AS c FROM realisations WHERE status = 'done'").get() as {
+    c: number;
+  }).c);
+  db.close();
+  assert(committed >= done, "no finished realisation was lost");
+
+  const resumed = await runCli(["run", studyPath, "--db", killedDb, "--workers", "2", "--quiet"]);
+  assertEquals(resumed.code, 0, resumed.stderr + resumed.stdout);
+  assert(resumed.stdout.includes("already stored"), resumed.stdout);
+
+  const cleanDb = `${dir}/clean.sqlite`;
+  const study = await loadNormalizedForTest(studyPath);
+  await runForTest(study, cleanDb, 1);
+  assertEquals(digestResults(killedDb), digestResults(cleanDb));
+});
+
+Deno.test("cli: run, status, query and export work together on a small study", async () => {
+  const dir = Deno.makeTempDirSync();
+  const studyPath = `${dir}/small.yaml`;
+  Deno.writeTextFileSync(studyPath, KILL_STUDY.replace("realisations: 6", "realisations: 2"));
+  const run = await runCli(["run", studyPath, "--workers", "2", "--quiet"]);
+  assertEquals(run.code, 0, run.stderr);
+  const dbPath = `${dir}/kill-test.sqlite`;
+  assert(run.stdout.includes(dbPath), run.stdout);
+  const status = await runCli(["status", dbPath]);
+  assert(/initial\.count=16\s+2\s+0\s+0\s+0/.test(status.stdout), status.stdout);
+  const q = await runCli(["query", dbPath, "SELECT COUNT(*) AS n FROM realisations WHERE status = 'done'", "-f", "json"]);
+  assertEquals(JSON.parse(q.stdout), [{ n: 4 }]);
+  const ex = await runCli(["export", dbPath, "--realisation", "1"]);
+  assertEquals(ex.code, 0, ex.stderr);
+  const lines = ex.stdout.trim().split("\n").filter((l) => !l.startsWith("#"));
+  assertEquals(lines[0], "t,id,x,y,circulation,label");
+  const frames = countWhere(dbPath, "SELECT COUNT(*) AS c FROM frames WHERE realisation_id = 1");
+  const objects = countWhere(dbPath, "SELECT SUM(n) AS c FROM frames WHERE realisation_id = 1");
+  assert(frames > 10);
+  assertEquals(lines.length - 1, objects);
+  assert(/^0,\d+,-?[\d.e-]+,-?[\d.e-]+,-?1,(main|evaporated|stray)$/.test(lines[1]), lines[1]);
+});
