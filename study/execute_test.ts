@@ -1,6 +1,6 @@
 import { assert, assertEquals } from "../test/_assert.ts";
 import { z } from "zod";
-import { type Engine, EngineFailure, type FrameSink } from "../engines/contract.ts";
+import { type Engine, EngineFailure, type EngineRunSummary, type FrameSink } from "../engines/contract.ts";
 import { DEFAULT_CLASSIFICATION } from "../engines/observables/mod.ts";
 import { executeRealisation, type RealisationTask } from "./execute.ts";
 import type { FrameRow } from "../store/db.ts";
@@ -20,7 +20,7 @@ function toyEngine(behaviour: "ok" | "nan" | "throw" | "failure" | "silent"): En
       units: { length: "ℓ", time: "ℓ²/κ", circulation: "κ" },
     },
     paramsSchema: z.object({}),
-    run(_input, sink: FrameSink) {
+    run(_input, sink: FrameSink): EngineRunSummary {
       if (behaviour === "silent") return { scalars: {} };
       const x = new Float64Array([0, 1]), y = new Float64Array([0, 0]);
       for (let k = 0; k < 3; k++) {

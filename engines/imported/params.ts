@@ -114,12 +114,12 @@ export type ColumnSpec<U extends string = never> =
   | { readonly name: string | number; readonly unit?: U; readonly scale?: number };
 
 const lengthQuantity = z.object({
-  value: positive().describe("Positive multiplier."),
+  value: positive().describe("Positive multiplier of the unit below (dimensionless)."),
   unit: lengthUnit.describe("Length unit: m, cm, mm, um (µm), nm, or xi (ξ, the healing length)."),
 }).strict();
 
 const timeQuantity = z.object({
-  value: positive().describe("Positive multiplier."),
+  value: positive().describe("Positive multiplier of the unit below (dimensionless)."),
   unit: timeUnit.describe("Time unit: s, ms, us (µs), ns."),
 }).strict();
 
@@ -179,10 +179,11 @@ const sourceSchema = z.object({
       "value is realisationValues[i] (default: i + realisationOffset).",
   ),
   realisationOffset: z.int().optional().describe(
-    "Value of the realisation column for realisation 0 (default 0; 1 if the file numbers runs from 1).",
+    "Value of the realisation column for realisation 0 (an integer label, dimensionless; default 0; 1 if the " +
+      "file numbers runs from 1).",
   ),
   realisationValues: z.array(z.int()).min(1).optional().describe(
-    "Explicit realisation-column value for each realisation index.",
+    "Explicit realisation-column value (an integer label, dimensionless) for each realisation index.",
   ),
   group: z.string().min(1).optional().describe(
     "HDF5 only: group holding the column datasets; may contain {index}/{number} (e.g. /runs/r{index}). " +

@@ -1,0 +1,174 @@
+/**
+ * Normalizing a validated study: defaults filled, the sweep expanded into parameter points, content hashes
+ * computed. The result is plain data (JSON-safe), stored with every run and the input of `planStudy`.
+ *
+ * Hashes (SHA-256 of canonical JSON, each with its own versioned domain prefix, see `hash.ts`):
+ * - `paramsHash` = H("spindrift-params-v1", { engine id, params }): realisation seeds derive from it, so
+ *   changing run controls, observables or the engine version keeps the initial conditions.
+ * - `pointHash` = H("spindrift-point-v1", { engine id and version, params, run controls except `workers`,
+ *   observables }): identifies stored results; anything that could change them changes it.
+ * - `hash` (the study) = H("spindrift-study-v1", { name, description, engine, realisations, seed, run controls
+ *   except `workers`, observables, the set of points as (pointHash, varied) pairs sorted by pointHash }).
+ *   It does not depend on the order of keys, of grid paths or of sweep values in the file, on comments, on
+ *   `workers`, or on where the file is.
+ *
+ * @example
+ * ```ts
+ * const loaded = await loadStudy("film.yaml");
+ * if (loaded.ok) {
+ *   const study = normalizeStudy(loaded.study, { text: loaded.text, sourcePath: "/abs/film.yaml" });
+ *   study.points.map((p) => p.label); // ["initial.count=24", "initial.count=48", …]
+ * }
+ * ```
+ */
+import type { Engine } from "../engines/contract.ts";
+import type { ClassificationConfig } from "../engines/observables/contract.ts";
+import { ENGINES } from "../engines/registry.ts";
+import { contentHash } from "./hash.ts";
+import { OBSERVABLE_IDS, type StudyFile } from "./schema.ts";
+import { applySetting, expandSweep, pointLabel } from "./sweep.ts";
+
+/** One parameter point: the engine parameters of one sweep setting. */
+export interface ParameterPoint {
+  /** Position in sweep order, from 0. */
+  readonly index: number;
+  /** "initial.count=64, friction.alpha=0.01", or "base" without a sweep. */
+  readonly label: string;
+  /** Swept path → value at this point (empty without a sweep). */
+  readonly varied: Readonly<Record<string, unknown>>;
+  /** Full engine parameters after defaults: the output of the engine's paramsSchema. */
+  readonly params: unknown;
+  /** Hash of engine id + params (seeds derive from it). */
+  readonly paramsHash: string;
+  /** Hash of engine id + version + params + run controls (except workers) + observables (identifies results). */
+  readonly pointHash: string;
+}
+
+/** Run controls after defaults. */
+export interface NormalizedRun {
+  readonly duration: number;
+  readonly sampleInterval: number;
+  readonly tolerance: number;
+  readonly maxDistance: number;
+  /** The study's default worker count, when it sets one (never part of a hash). */
+  readonly workers?: number;
+}
+
+/** A study ready to plan and run. */
+export interface NormalizedStudy {
+  readonly name: string;
+  /** The study's description, without leading and trailing white space. */
+  readonly description: string;
+  readonly engine: { readonly id: string; readonly version: string };
+  readonly realisations: number;
+  /** Master seed as text (integer seeds in decimal). */
+  readonly seed: string;
+  readonly run: NormalizedRun;
+  readonly observables: {
+    /** Observable ids in canonical order (that of `OBSERVABLE_IDS`). */
+    readonly record: readonly string[];
+    readonly classification: ClassificationConfig;
+  };
+  readonly points: readonly ParameterPoint[];
+  /** Content hash of the study (see the module comment). */
+  readonly hash: string;
+  /** The study file's text, as read. */
+  readonly text: string;
+  /** Where the study file was read from. */
+  readonly sourcePath: string;
+}
+
+/** Options of `normalizeStudy`. */
+export interface NormalizeOptions {
+  /** The study file's text (kept for provenance). */
+  readonly text: string;
+  /** Where it was read from (kept for provenance; not hashed). */
+  readonly sourcePath: string;
+  /** Engines to look the study's engine up in (default: every registered engine). */
+  // deno-lint-ignore no-explicit-any
+  readonly engines?: readonly Engine<any>[];
+}
+
+/**
+ * Fills defaults, expands the sweep and hashes. Pure: the same study gives the same result.
+ *
+ * @throws Error when the study did not come from a successful `loadStudy`/`parseStudyText` with the same
+ * engines (unknown engine, or parameters the engine's schema refuses): a programming error, not bad input.
+ */
+export function normalizeStudy(study: StudyFile, opts: NormalizeOptions): NormalizedStudy {
+  const engine = (opts.engines ?? ENGINES).find((e) => e.id === study.engine);
+  if (!engine) {
+    throw new Error(
+      `normalizeStudy: engine "${study.engine}" is not registered; load the study with loadStudy first`,
+    );
+  }
+  const run: NormalizedRun = {
+    duration: study.run.duration,
+    sampleInterval: study.run.sampleInterval,
+    tolerance: study.run.tolerance,
+    maxDistance: study.run.maxDistance,
+    ...(study.run.workers !== undefined ? { workers: study.run.workers } : {}),
+  };
+  const hashedRun = {
+    duration: run.duration,
+    sampleInterval: run.sampleInterval,
+    tolerance: run.tolerance,
+    maxDistance: run.maxDistance,
+  };
+  const record = OBSERVABLE_IDS.filter((id) => study.observables.record.includes(id));
+  const observables = { record, classification: { ...study.observables.classification } };
+  const engineRef = { id: engine.id, version: engine.version };
+
+  const points: ParameterPoint[] = expandSweep(study.sweep).map((setting, index) => {
+    const parsed = engine.paramsSchema.safeParse(applySetting(study.parameters, setting.varied));
+    if (!parsed.success) {
+      throw new Error(
+        `normalizeStudy: point ${index} (${pointLabel(setting.varied)}) fails the ${engine.id} parameter ` +
+          `schema; load the study with loadStudy first (${parsed.error.issues[0]?.message ?? "invalid"})`,
+      );
+    }
+    const params = parsed.data;
+    return {
+      index,
+      label: pointLabel(setting.varied),
+      varied: setting.varied,
+      params,
+      paramsHash: contentHash("spindrift-params-v1", { engine: engine.id, params }),
+      pointHash: contentHash("spindrift-point-v1", {
+        engine: engineRef,
+        params,
+        run: hashedRun,
+        observables,
+      }),
+    };
+  });
+
+  const seed = typeof study.seed === "number" ? String(study.seed) : study.seed;
+  const description = study.description.trim();
+  const hash = contentHash("spindrift-study-v1", {
+    name: study.name,
+    description,
+    engine: engineRef,
+    realisations: study.realisations,
+    seed,
+    run: hashedRun,
+    observables,
+    points: points
+      .map((p) => ({ pointHash: p.pointHash, varied: p.varied }))
+      .sort((a, b) => (a.pointHash < b.pointHash ? -1 : a.pointHash > b.pointHash ? 1 : 0)),
+  });
+
+  return {
+    name: study.name,
+    description,
+    engine: engineRef,
+    realisations: study.realisations,
+    seed,
+    run,
+    observables,
+    points,
+    hash,
+    text: opts.text,
+    sourcePath: opts.sourcePath,
+  };
+}
