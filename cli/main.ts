@@ -7,8 +7,8 @@ import { Command, CommanderError, Option } from "@commander-js/extra-typings";
 import { dirname, join, resolve } from "node:path";
 import { loadStudy } from "../study/load.ts";
 import { formatProblems } from "../study/problems.ts";
-import { normalizeStudy, type NormalizedStudy } from "../study/normalize.ts";
-import { runStudy, type RunReport } from "../study/runner.ts";
+import { type NormalizedStudy, normalizeStudy } from "../study/normalize.ts";
+import { type RunReport, runStudy } from "../study/runner.ts";
 import { createProgress } from "../study/progress.ts";
 import { StoreError } from "../store/db.ts";
 import { studyStatus } from "../store/status.ts";
@@ -61,10 +61,16 @@ function defaultReportPath(dbPath: string): string {
 function printRunReport(r: RunReport, dbPath: string): void {
   const parts = [`${r.completed} computed`, `${r.skipped} already stored`];
   if (r.failed) parts.push(`${r.failed} failed`);
-  out(`${r.interrupted ? "interrupted" : "finished"}: ${parts.join(", ")} of ${r.planned} realisations ` +
-    `in ${r.wallSeconds.toFixed(1)} s`);
-  if (r.discardedUnfinished) out(`  (${r.discardedUnfinished} unfinished realisation(s) from an earlier run were rerun)`);
-  for (const f of r.failures.slice(0, 10)) out(`  failed: ${f.pointLabel} #${f.index}: [${f.kind}] ${f.error}`);
+  out(
+    `${r.interrupted ? "interrupted" : "finished"}: ${parts.join(", ")} of ${r.planned} realisations ` +
+      `in ${r.wallSeconds.toFixed(1)} s`,
+  );
+  if (r.discardedUnfinished) {
+    out(`  (${r.discardedUnfinished} unfinished realisation(s) from an earlier run were rerun)`);
+  }
+  for (const f of r.failures.slice(0, 10)) {
+    out(`  failed: ${f.pointLabel} #${f.index}: [${f.kind}] ${f.error}`);
+  }
   if (r.failures.length > 10) out(`  … and ${r.failures.length - 10} more (see the report)`);
   out(`database: ${dbPath}`);
   if (r.interrupted) out("run the same command again to resume; finished realisations are kept");
@@ -110,6 +116,11 @@ export function buildProgram(): Command {
     .showSuggestionAfterError(true)
     .showHelpAfterError("(add --help for usage)")
     .configureHelp({ sortSubcommands: false })
+    .exitOverride()
+    .configureOutput({
+      writeErr: (s) => Deno.stderr.writeSync(new TextEncoder().encode(s)),
+      outputError: (s, write) => write(`spindrift: ${s.replace(/^error: /, "")}`),
+    })
     .addHelpText(
       "after",
       `
@@ -128,11 +139,15 @@ Typical session:
       const study = await loadNormalized(path);
       const n = study.points.length;
       out(`${path}: ok`);
-      out(`  engine ${study.engine.id} ${study.engine.version}; ${n} parameter point${n === 1 ? "" : "s"} × ` +
-        `${study.realisations} realisations = ${n * study.realisations} runs`);
+      out(
+        `  engine ${study.engine.id} ${study.engine.version}; ${n} parameter point${n === 1 ? "" : "s"} × ` +
+          `${study.realisations} realisations = ${n * study.realisations} runs`,
+      );
       for (const p of study.points.slice(0, 20)) out(`  point ${p.index}: ${p.label}`);
       if (n > 20) out(`  … ${n - 20} more points`);
-      out(`  duration ${study.run.duration}, frame every ${study.run.sampleInterval}, tolerance ${study.run.tolerance}`);
+      out(
+        `  duration ${study.run.duration}, frame every ${study.run.sampleInterval}, tolerance ${study.run.tolerance}`,
+      );
       out(`  observables: ${study.observables.record.join(", ")}`);
     });
 
@@ -141,7 +156,10 @@ Typical session:
     .argument("<study>", "study file (YAML)")
     .option("--db <path>", "database file (default: <study name>.sqlite next to the study file)")
     .addOption(
-      new Option("-w, --workers <n>", "parallel workers (default: the study's run.workers, else number of cores)")
+      new Option(
+        "-w, --workers <n>",
+        "parallel workers (default: the study's run.workers, else number of cores)",
+      )
         .argParser(positiveInt("--workers")),
     )
     .option("--fresh", "delete this study's stored realisations and start over", false)
@@ -176,8 +194,10 @@ Typical session:
   program.command("query")
     .description("run one read-only SQL statement on a study database")
     .argument("<database>", "study database")
-    .argument("<sql>", "SQL statement, e.g. \"SELECT * FROM realisations LIMIT 5\"")
-    .addOption(new Option("-f, --format <format>", "output format").choices(["table", "csv", "json"]).default("table"))
+    .argument("<sql>", 'SQL statement, e.g. "SELECT * FROM realisations LIMIT 5"')
+    .addOption(
+      new Option("-f, --format <format>", "output format").choices(["table", "csv", "json"]).default("table"),
+    )
     .action((dbPath, sql, o) => {
       out(runQuery(dbPath, sql, o.format as QueryFormat));
     });
@@ -218,8 +238,10 @@ Typical session:
         const w = Math.max(5, ...s.points.map((p) => p.label.length));
         out(`  ${"point".padEnd(w)}  done  failed  running  missing`);
         for (const p of s.points) {
-          out(`  ${p.label.padEnd(w)}  ${String(p.done).padStart(4)}  ${String(p.failed).padStart(6)}  ` +
-            `${String(p.running).padStart(7)}  ${String(p.missing).padStart(7)}`);
+          out(
+            `  ${p.label.padEnd(w)}  ${String(p.done).padStart(4)}  ${String(p.failed).padStart(6)}  ` +
+              `${String(p.running).padStart(7)}  ${String(p.missing).padStart(7)}`,
+          );
         }
       } finally {
         db.close();
@@ -227,7 +249,9 @@ Typical session:
     });
 
   program.command("demo")
-    .description("run the bundled demo study (a neutral vortex patch in a thin superfluid film) and its report")
+    .description(
+      "run the bundled demo study (a neutral vortex patch in a thin superfluid film) and its report",
+    )
     .addOption(new Option("-w, --workers <n>", "parallel workers (default: number of cores)").argParser(
       positiveInt("--workers"),
     ))
@@ -268,16 +292,13 @@ function fail(message: string, hint?: string, code = 1): void {
 
 export async function main(args: string[]): Promise<void> {
   const program = buildProgram();
-  program.exitOverride();
-  program.configureOutput({
-    writeErr: (s) => Deno.stderr.writeSync(new TextEncoder().encode(s)),
-    outputError: (s, write) => write(`spindrift: ${s.replace(/^error: /, "")}`),
-  });
   try {
     await program.parseAsync(args, { from: "user" });
   } catch (e) {
     if (e instanceof CommanderError) {
-      if (e.code === "commander.helpDisplayed" || e.code === "commander.version" || e.code === "commander.help") {
+      if (
+        e.code === "commander.helpDisplayed" || e.code === "commander.version" || e.code === "commander.help"
+      ) {
         Deno.exitCode = 0;
       } else Deno.exitCode = 2;
     } else if (e instanceof UserError) fail(e.message, e.hint);

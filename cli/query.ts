@@ -42,7 +42,10 @@ export function runQuery(path: string, sql: string, format: QueryFormat): string
     } catch (e) {
       const msg = (e as Error).message;
       if (/readonly|read-only/i.test(msg)) {
-        throw new UserError(`the query tried to change the database: ${msg}`, "query opens databases read-only");
+        throw new UserError(
+          `the query tried to change the database: ${msg}`,
+          "query opens databases read-only",
+        );
       }
       throw new UserError(`SQL error: ${msg}`, "list the tables with: SELECT name FROM sqlite_master");
     }

@@ -153,7 +153,7 @@ export async function runStudy(study: NormalizedStudy, opts: RunOptions): Promis
       return !(s === "done" || (s === "failed" && opts.keepFailed));
     });
     const skipped = plan.length - todo.length;
-    const result = await runPool(study, todo, store, opts, plan.length, skipped);
+    const result = await runPool(study, interleavePoints(todo), store, opts, plan.length, skipped);
     return {
       studyId,
       planned: plan.length,
@@ -168,6 +168,15 @@ export async function runStudy(study: NormalizedStudy, opts: RunOptions): Promis
   } finally {
     store.close();
   }
+}
+
+/**
+ * Dispatch order: realisation 0 of every point, then realisation 1 of every point, … Costs differ between points
+ * (e.g. with the vortex count), so interleaving keeps the expensive ones from piling up at the end and leaving
+ * workers idle. The order changes no stored number.
+ */
+export function interleavePoints(todo: readonly PlannedRealisation[]): PlannedRealisation[] {
+  return [...todo].sort((a, b) => a.index - b.index || a.pointIndex - b.pointIndex);
 }
 
 interface PoolResult {
