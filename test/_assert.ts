@@ -17,7 +17,11 @@ export { deepStrictEqual as assertEquals, ok as assert } from "node:assert/stric
 
 /** Fails unless `fn` throws an instance of `ErrorClass` whose message contains `includes`. */
 // deno-lint-ignore no-explicit-any
-export function assertThrows(fn: () => unknown, ErrorClass: new (...a: any[]) => Error, includes = ""): Error {
+export function assertThrows(
+  fn: () => unknown,
+  ErrorClass: new (...a: any[]) => Error,
+  includes = "",
+): Error {
   try {
     fn();
   } catch (e) {

@@ -4,7 +4,7 @@ import { createHash } from "node:crypto";
 import { loadStudy, parseStudyText } from "../study/load.ts";
 import { formatProblems } from "../study/problems.ts";
 import { type NormalizedStudy, normalizeStudy } from "../study/normalize.ts";
-import { runStudy, type RunReport } from "../study/runner.ts";
+import { type RunReport, runStudy } from "../study/runner.ts";
 import { createProgress } from "../study/progress.ts";
 
 export const REPO = new URL("../", import.meta.url).pathname;
@@ -43,17 +43,29 @@ export function digestResults(dbPath: string): string {
     ).all() as Record<string, unknown>[];
     for (const r of rs) {
       const id = r.id;
-      parts.push(JSON.stringify([r.realisation_key, r.status, r.failure_kind, r.error, r.seed, r.frame_count]));
-      parts.push(JSON.stringify(db.prepare("SELECT name, value FROM scalars WHERE realisation_id = ? ORDER BY name")
-        .all(id as number).map((x) => [x.name, x.value])));
-      parts.push(JSON.stringify(db.prepare(
-        "SELECT name, k, t, value FROM series WHERE realisation_id = ? ORDER BY name, k",
-      ).all(id as number).map((x) => [x.name, x.k, x.t, x.value])));
-      parts.push(JSON.stringify(db.prepare(
-        "SELECT seq, t, kind, ids_json, data_json FROM events WHERE realisation_id = ? ORDER BY seq",
-      ).all(id as number).map((x) => [x.seq, x.t, x.kind, x.ids_json, x.data_json])));
-      for (const f of db.prepare("SELECT k, t, n, layout, data FROM frames WHERE realisation_id = ? ORDER BY k")
-        .all(id as number)) {
+      parts.push(
+        JSON.stringify([r.realisation_key, r.status, r.failure_kind, r.error, r.seed, r.frame_count]),
+      );
+      parts.push(
+        JSON.stringify(
+          db.prepare("SELECT name, value FROM scalars WHERE realisation_id = ? ORDER BY name")
+            .all(id as number).map((x) => [x.name, x.value]),
+        ),
+      );
+      parts.push(JSON.stringify(
+        db.prepare(
+          "SELECT name, k, t, value FROM series WHERE realisation_id = ? ORDER BY name, k",
+        ).all(id as number).map((x) => [x.name, x.k, x.t, x.value]),
+      ));
+      parts.push(JSON.stringify(
+        db.prepare(
+          "SELECT seq, t, kind, ids_json, data_json FROM events WHERE realisation_id = ? ORDER BY seq",
+        ).all(id as number).map((x) => [x.seq, x.t, x.kind, x.ids_json, x.data_json]),
+      ));
+      for (
+        const f of db.prepare("SELECT k, t, n, layout, data FROM frames WHERE realisation_id = ? ORDER BY k")
+          .all(id as number)
+      ) {
         parts.push(`${f.k}|${f.t}|${f.n}|${f.layout}|${hex(f.data as Uint8Array)}`);
       }
     }

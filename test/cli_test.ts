@@ -107,9 +107,11 @@ Deno.test("cli: SIGKILL mid-run loses no finished realisation; resuming gives th
   const db = new DatabaseSync(killedDb);
   const check = db.prepare("PRAGMA integrity_check").get() as Record<string, string>;
   assertEquals(Object.values(check)[0], "ok");
-  const committed = Number((db.prepare("SELECT COUNT(*) AS c FROM realisations WHERE status = 'done'").get() as {
-    c: number;
-  }).c);
+  const committed = Number(
+    (db.prepare("SELECT COUNT(*) AS c FROM realisations WHERE status = 'done'").get() as {
+      c: number;
+    }).c,
+  );
   db.close();
   assert(committed >= done, "no finished realisation was lost");
 
@@ -133,7 +135,13 @@ Deno.test("cli: run, status, query and export work together on a small study", a
   assert(run.stdout.includes(dbPath), run.stdout);
   const status = await runCli(["status", dbPath]);
   assert(/initial\.count=16\s+2\s+0\s+0\s+0/.test(status.stdout), status.stdout);
-  const q = await runCli(["query", dbPath, "SELECT COUNT(*) AS n FROM realisations WHERE status = 'done'", "-f", "json"]);
+  const q = await runCli([
+    "query",
+    dbPath,
+    "SELECT COUNT(*) AS n FROM realisations WHERE status = 'done'",
+    "-f",
+    "json",
+  ]);
   assertEquals(JSON.parse(q.stdout), [{ n: 4 }]);
   const ex = await runCli(["export", dbPath, "--realisation", "1"]);
   assertEquals(ex.code, 0, ex.stderr);

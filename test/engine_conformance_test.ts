@@ -46,12 +46,19 @@ for (const path of studies) {
 
   Deno.test(`conformance ${name}: the blow-up guard stores failures with a reason`, async () => {
     const study = await loadNormalizedForTest(path);
-    const tiny: NormalizedStudy = { ...study, run: { ...study.run, maxDistance: 1e-9 }, hash: study.hash + "-tiny" };
+    const tiny: NormalizedStudy = {
+      ...study,
+      run: { ...study.run, maxDistance: 1e-9 },
+      hash: study.hash + "-tiny",
+    };
     const db = tmp();
     const r = await runForTest(tiny, db, 2);
     assertEquals(r.failed, study.points.length * study.realisations);
     assertEquals(r.failures[0].kind, "blow-up");
     assert(r.failures[0].error.includes("maxDistance"), r.failures[0].error);
-    assertEquals(countWhere(db, "SELECT COUNT(*) AS c FROM realisations WHERE status = 'failed' AND error <> ''"), r.failed);
+    assertEquals(
+      countWhere(db, "SELECT COUNT(*) AS c FROM realisations WHERE status = 'failed' AND error <> ''"),
+      r.failed,
+    );
   });
 }
