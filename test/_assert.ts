@@ -16,9 +16,9 @@ export function assertClose(got: number, expected: number, rtol: number, what = 
 export { deepStrictEqual as assertEquals, ok as assert } from "node:assert/strict";
 
 /** Fails unless `fn` throws an instance of `ErrorClass` whose message contains `includes`. */
-// deno-lint-ignore no-explicit-any
 export function assertThrows(
   fn: () => unknown,
+  // deno-lint-ignore no-explicit-any
   ErrorClass: new (...a: any[]) => Error,
   includes = "",
 ): Error {
