@@ -7,7 +7,8 @@
  * names: main, evaporated, stray. JSON lines carry the same fields, one object per row.
  */
 import { LABEL_NAMES } from "../engines/observables/labels.ts";
-import { type ByteWriter, type ExportFrame, writeFramesCsv } from "../engines/imported/mod.ts";
+import { type ExportFrame, writeFramesCsv } from "../engines/imported/mod.ts";
+import type { ByteWriter } from "../engines/imported/export_format.ts";
 import { findRealisation, iterateFrames, type StoredFrame } from "../store/frames.ts";
 import { openReadOnly } from "./query.ts";
 import { UserError } from "./errors.ts";
