@@ -40,7 +40,15 @@ export interface ReportPageInput {
   readonly generatedAt: string;
   /** Folder (relative to the page) holding `<chart id>.svg`; links are omitted when absent. */
   readonly svgDirName?: string;
+  /**
+   * The "Answers" section (ensemble analysis: D/κ with intervals, fit window, sensitivity, …) as HTML blocks
+   * and charts in page order; omitted → no such section.
+   */
+  readonly analysis?: readonly PagePart[];
 }
+
+/** A block of the page: HTML that is already escaped, or a chart. */
+export type PagePart = { readonly html: string } | { readonly rendered: RenderedChart };
 
 /** Escapes text for HTML element content and quoted attribute values. */
 export function escapeHtml(text: string): string {
@@ -75,7 +83,8 @@ export function inlineScriptSource(js: string): string {
 export function renderReportHtml(input: ReportPageInput): string {
   const { agg } = input;
   const s = agg.study;
-  const drawn = input.charts.filter((c) => c.vega !== null);
+  const analysisCharts = (input.analysis ?? []).flatMap((p) => ("rendered" in p ? [p.rendered] : []));
+  const drawn = [...analysisCharts, ...input.charts].filter((c) => c.vega !== null);
   const title = `${s.name} — spindrift report`;
   const specs = drawn.map((c) => ({ id: c.chart.id, spec: c.vega }));
   const totals = studyTotals(agg);
@@ -97,7 +106,9 @@ export function renderReportHtml(input: ReportPageInput): string {
     escapeHtml(s.engineVersion)
   } · created ${escapeHtml(s.createdAt)} · report generated ${escapeHtml(input.generatedAt)}</p>
 </header>
-<nav><a href="#question">Question</a> <a href="#parameters">Parameters</a> <a href="#results">Results</a> <a href="#failures">Failures${
+<nav><a href="#question">Question</a> <a href="#parameters">Parameters</a>${
+    input.analysis ? ' <a href="#answers">Answers</a>' : ""
+  } <a href="#results">Results</a> <a href="#failures">Failures${
     totals.failed + totals.running > 0 ? ` (${totals.failed + totals.running})` : ""
   }</a> <a href="#study-file">Study file</a> <a href="#provenance">Provenance</a></nav>
 <div id="page-errors" class="errors" hidden></div>
@@ -122,7 +133,7 @@ ${pointsTable(agg)}
 <p class="note">Normalized parameters (defaults filled in). Values that differ between points are listed per point above.</p>
 ${paramsTable(agg)}
 </section>
-<section id="results">
+${input.analysis ? answersSection(input.analysis, input.svgDirName) : ""}<section id="results">
 <h2>Results</h2>
 ${notesList(s.notes)}
 ${input.charts.map((c) => figure(c, input.svgDirName)).join("\n")}
@@ -241,6 +252,15 @@ function paramsTable(agg: StudyAggregate): string {
     }</td></tr>`;
   });
   return `<table class="kv"><tbody>${rows.join("")}</tbody></table>`;
+}
+
+function answersSection(parts: readonly PagePart[], svgDirName: string | undefined): string {
+  const body = parts.map((p) => ("rendered" in p ? figure(p.rendered, svgDirName) : p.html)).join("\n");
+  return `<section id="answers">
+<h2>Answers: effective diffusion D/κ</h2>
+${body}
+</section>
+`;
 }
 
 function figure(c: RenderedChart, svgDirName: string | undefined): string {
@@ -362,8 +382,11 @@ function pct(level: number): string {
   return `${Math.round(level * 1000) / 10} %`;
 }
 
-/** Records uncaught errors, rejected promises and console.error calls in the page (runs first). */
-const ERROR_HOOK = `(function () {
+/**
+ * Page script (shared with the compare page): records uncaught errors, rejected promises and console.error calls
+ * in the page (runs first).
+ */
+export const ERROR_HOOK = `(function () {
   function note(msg) {
     var b = document.body;
     if (!b) { (window.__spindriftEarly = window.__spindriftEarly || []).push(msg); return; }
@@ -378,8 +401,8 @@ const ERROR_HOOK = `(function () {
   console.error = function () { note(Array.prototype.map.call(arguments, String).join(" ")); return ce.apply(console, arguments); };
 })();`;
 
-/** Draws every view from the inlined specs and counts them in data-rendered. */
-const BOOT = `(function () {
+/** Page script (shared with the compare page): draws every view from the inlined specs, counts data-rendered. */
+export const BOOT = `(function () {
   var note = window.__spindriftNote;
   (window.__spindriftEarly || []).forEach(note);
   var body = document.body;
@@ -401,7 +424,8 @@ const BOOT = `(function () {
   if (items.length === 0) body.setAttribute("data-state", "ready");
 })();`;
 
-const STYLE = `
+/** The page style sheet (shared with the compare page). */
+export const STYLE = `
 :root { --fg: #1d2430; --muted: #5b6576; --line: #d9dee6; --bg: #ffffff; --soft: #f5f7fa; --accent: #2f6fb3;
   --bad: #b3261e; --warn: #9a6700; }
 * { box-sizing: border-box; }
@@ -448,6 +472,9 @@ code { font-family: ui-monospace, SFMono-Regular, Menlo, Consolas, monospace; fo
 .errors { margin-top: 12px; }
 .errors p { color: var(--bad); background: #fdecea; border: 1px solid #f5c2c0; padding: 8px 12px; border-radius: 6px; }
 footer { padding-top: 24px; padding-bottom: 32px; }
+table.analysis td span[data-role="lower"], table.analysis td span[data-role="upper"] { color: var(--muted); }
+td.status .warn { color: var(--warn); font-weight: 600; }
+.errors-inline { background: #fff8e1; border: 1px solid #f0d48a; padding: 8px 12px; border-radius: 6px; }
 @media print { nav { display: none; } figure.chart { break-inside: avoid; } }
 `;
 

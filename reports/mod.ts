@@ -15,14 +15,18 @@
  */
 import { basename, dirname, join, resolve } from "node:path";
 import { openStoreReadOnly } from "../store/reads.ts";
+import { readEnsembleResults } from "../store/ensemble.ts";
 import { aggregateStudy } from "./aggregate.ts";
-import { type RenderedChart, renderReportHtml } from "./html.ts";
+import { buildAnalysisSection } from "./analysis_section.ts";
+import { type PagePart, type RenderedChart, renderReportHtml } from "./html.ts";
 import { compileChart, readVegaRuntime, renderSvg } from "./render.ts";
-import { buildCharts, CHART_SERIES, type ChartOptions } from "./specs.ts";
+import { buildCharts, CHART_SERIES, type ChartOptions, type ChartSpec } from "./specs.ts";
 
 export { StoreReadError } from "../store/reads.ts";
 export { aggregateStudy, type StudyAggregate } from "./aggregate.ts";
 export { buildCharts, type ChartSpec } from "./specs.ts";
+export { type AnalysisSection, buildAnalysisSection } from "./analysis_section.ts";
+export { type CompareOptions, writeComparePage } from "./compare.ts";
 export { escapeHtml, renderReportHtml } from "./html.ts";
 export { meanInterval, Welford } from "./intervals.ts";
 
@@ -35,6 +39,11 @@ export interface WriteReportOptions {
   units?: ChartOptions["units"];
   /** Time stamp printed on the page; default now. */
   generatedAt?: string;
+  /**
+   * Include the "Answers" section from the stored ensemble results (default true). Without stored results
+   * the section is a note telling the user to run `spindrift analyse`.
+   */
+  analysis?: boolean;
 }
 
 /**
@@ -47,6 +56,7 @@ export async function writeReport(
 ): Promise<{ html: string; svgDir: string }> {
   const db = openStoreReadOnly(dbPath);
   let charts: RenderedChart[];
+  let svgCharts: RenderedChart[];
   let page: string;
   let out: string;
   try {
@@ -55,11 +65,20 @@ export async function writeReport(
       dirname(dbPath),
       `${safeFileName(agg.study.name)}${opts.studyId === undefined ? "" : `-r${agg.study.id}`}-report.html`,
     );
-    charts = buildCharts(agg, { units: opts.units ?? unitsOf(agg.study.units) }).map((chart) => ({
+    const units = opts.units ?? unitsOf(agg.study.units);
+    const compiled = (chart: ChartSpec): RenderedChart => ({
       chart,
       vega: chart.spec === null ? null : compileChart(chart.spec).vega,
-    }));
+    });
+    charts = buildCharts(agg, { units }).map(compiled);
+    let analysis: PagePart[] | undefined;
+    if (opts.analysis !== false) {
+      const section = buildAnalysisSection(agg, readEnsembleResults(db, agg.study.id), { units, dbPath });
+      analysis = section.parts.map((p) => ("chart" in p ? { rendered: compiled(p.chart) } : p));
+    }
+    svgCharts = [...charts, ...(analysis ?? []).flatMap((p) => ("rendered" in p ? [p.rendered] : []))];
     page = renderReportHtml({
+      analysis,
       agg,
       charts,
       vegaRuntime: await readVegaRuntime(),
@@ -72,7 +91,7 @@ export async function writeReport(
   }
   const svgDir = svgDirFor(out);
   await Deno.mkdir(svgDir, { recursive: true });
-  for (const c of charts) {
+  for (const c of svgCharts) {
     const file = join(svgDir, `${c.chart.id}.svg`);
     if (c.vega === null) await Deno.remove(file).catch(() => {});
     else await writeAtomic(file, await renderSvg(c.vega));

@@ -44,13 +44,14 @@ export interface ChartOptions {
   readonly width?: number;
 }
 
-const SCHEMA = "https://vega.github.io/schema/vega-lite/v6.json";
+/** Vega-Lite schema URL of every chart (shared with the analysis and compare charts). */
+export const SCHEMA = "https://vega.github.io/schema/vega-lite/v6.json";
 
 /** The series the charts draw (the aggregate can be limited to these). */
 export const CHART_SERIES: readonly string[] = ["msd", "cluster_rms_radius", "evaporated_count"];
 
 /** Shared look: readable sizes for slides and screens. */
-const CONFIG = {
+export const CONFIG = {
   font: "system-ui, -apple-system, 'Segoe UI', Roboto, 'Helvetica Neue', Arial, sans-serif",
   axis: { labelFontSize: 12, titleFontSize: 13, titleFontWeight: 600, grid: true, gridColor: "#e6e6e6" },
   legend: { labelFontSize: 12, titleFontSize: 12, labelLimit: 420, orient: "bottom", direction: "vertical" },
@@ -137,7 +138,7 @@ function colour(ctx: Context, lines: boolean) {
 }
 
 /** Labels only at powers of ten on a log axis (Vega's default labels every 1–9 multiple, which crowd). */
-const DECADE_LABELS =
+export const DECADE_LABELS =
   "abs(log(datum.value) / LN10 - round(log(datum.value) / LN10)) < 1e-6 ? datum.label : ''";
 
 interface BandRow {
