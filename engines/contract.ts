@@ -87,7 +87,18 @@ export interface EngineEvent {
   readonly ids: readonly number[];
   /** Numeric details (positions, separation, length removed, …). */
   readonly data: Readonly<Record<string, number>>;
+  /**
+   * Optional text details of events that record how a realisation was produced rather than physics (e.g. the
+   * external-program engines' "program-run": command line, environment additions, output tails). JSON-safe;
+   * stored with the event, never read by observables.
+   */
+  readonly detail?: Readonly<Record<string, JsonValue>>;
 }
+
+/** A value with an exact JSON form. */
+export type JsonValue = string | number | boolean | null | readonly JsonValue[] | {
+  readonly [key: string]: JsonValue;
+};
 
 /** Run controls shared by every engine (from the study's `run` section). */
 export interface RunControls {
@@ -140,16 +151,41 @@ export interface Engine<P = unknown> {
    */
   readonly paramsSchema: z.ZodType<P>;
   /** Physical scales observables need (e.g. the core parameter a₀ for the 3D ring-speed check). */
-  scales?(params: P): { readonly coreRadius?: number };
+  scales?(params: P): {
+    /** Vortex core parameter a₀ (engine length unit). */
+    readonly coreRadius?: number;
+    /** Circulation quantum κ in the engine's units (1 when lengths and times are in κ units). */
+    readonly circulation?: number;
+    /** Constant β of the ring speed (κ/4πR)[ln(8R/a₀) − β] this engine's velocity model reproduces. */
+    readonly ringConstant?: number;
+  };
   /**
    * Runs one realisation, streaming frames into the sink in time order. Compute engines are synchronous;
    * engines that read files may return a promise.
    */
   run(input: EngineRunInput<P>, sink: FrameSink): EngineRunSummary | Promise<EngineRunSummary>;
+  /**
+   * Optional: what `run(input)` would do, as lines for `spindrift check` (e.g. the exact command an external
+   * program would run for this realisation). Runs and writes nothing. Throws `EngineFailure` with a clear
+   * message when the realisation could not start (a missing template file, a program not found).
+   */
+  describeRealisation?(input: EngineRunInput<P>): readonly string[] | Promise<readonly string[]>;
 }
 
-/** Why a realisation failed, as stored in the database. */
-export type FailureKind = "nan" | "blow-up" | "step-underflow" | "invalid-state" | "exception" | "killed";
+/**
+ * Why a realisation failed, as stored in the database. "timeout": an external program ran past its time limit;
+ * "program-failed": an external program could not start, exited with a nonzero code or a fatal signal, or wrote
+ * no output; "killed": stopped from outside (e.g. an external program ended by SIGINT or SIGTERM).
+ */
+export type FailureKind =
+  | "nan"
+  | "blow-up"
+  | "step-underflow"
+  | "invalid-state"
+  | "exception"
+  | "killed"
+  | "timeout"
+  | "program-failed";
 
 /** Thrown by engines and sinks to end a realisation as failed with a reason; other realisations go on. */
 export class EngineFailure extends Error {

@@ -94,11 +94,14 @@ export async function executeRealisation(
       `engine ${task.engineId} ${task.engineVersion} is not available in this build`,
     );
   }
+  const scales = engine.scales?.(task.params) ?? {};
   const ctx: ObservableContext = {
     capabilities: engine.capabilities,
     controls: task.controls,
     classification: task.observables.classification,
-    coreRadius: engine.scales?.(task.params).coreRadius,
+    coreRadius: scales.coreRadius,
+    circulation: scales.circulation,
+    ringConstant: scales.ringConstant,
   };
   let classifier: Classifier;
   let accumulators: Accumulator[];

@@ -172,6 +172,8 @@ class LoopClassifier implements Classifier {
   readonly #cosOut: number;
   readonly #tol: number;
   readonly #a0: number;
+  readonly #kappa: number;
+  readonly #beta: number;
 
   #prev = new Tracks();
   #cur = new Tracks();
@@ -219,6 +221,8 @@ class LoopClassifier implements Classifier {
     this.#cosOut = c.outwardCosine;
     this.#tol = c.speedTolerance;
     this.#a0 = a0;
+    this.#kappa = ctx.circulation ?? 1;
+    this.#beta = ctx.ringConstant ?? STRAIGHT_SEGMENT_CORE_CONSTANT;
   }
 
   classify(frame: Frame): Classification {
@@ -328,13 +332,13 @@ class LoopClassifier implements Classifier {
       if (hasV[l] === 1 && rEff > 0 && rEff < sizeLimit) {
         const vx = this.#vx[l], vy = this.#vy[l], vz = this.#vz[l];
         speed = Math.sqrt(vx * vx + vy * vy + vz * vz);
-        let kappa = 1;
+        let kappa = this.#kappa;
         if (circ !== null) {
           let s = 0;
           for (let i = a; i < b; i++) s += Math.abs(circ[i]);
           kappa = s / (b - a);
         }
-        expected = ringSpeedKernel(rEff, this.#a0, kappa, STRAIGHT_SEGMENT_CORE_CONSTANT);
+        expected = ringSpeedKernel(rEff, this.#a0, kappa, this.#beta);
         outwardCosine = speed > 0 && distance > 0
           ? (vx * rx + vy * ry + vz * rz) / (speed * distance)
           : Number.NaN;

@@ -48,6 +48,10 @@ export interface ObservableContext {
   readonly classification: ClassificationConfig;
   /** Vortex core parameter a₀ in the engine length unit, when the engine has one (3D ring-speed check). */
   readonly coreRadius?: number;
+  /** Circulation quantum κ in the engine's units, for engines whose frames carry no circulation (default 1). */
+  readonly circulation?: number;
+  /** Ring-speed constant β of the engine's velocity model (default 3/4 − γ_E, straight-segment sums). */
+  readonly ringConstant?: number;
 }
 
 /**

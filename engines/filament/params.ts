@@ -1,0 +1,283 @@
+/**
+ * Parameters of the 3D vortex-filament engine (the study file's `parameters` section): the zod schema is the
+ * single source of truth; types are inferred from it.
+ *
+ * Units. `units: physical` — lengths in metres, times in seconds, temperatures in kelvin, κ of ⁴He
+ * = 9.9693e-8 m²/s (h/m₄, CODATA 2018) and core parameter a₀ = 1e-10 m by default. `units: dimensionless` —
+ * κ = 1, lengths in a unit ℓ of the study's choosing (state it in the study; usually the initial intervortex
+ * spacing), times in ℓ²/κ; a₀ must then be given in ℓ.
+ *
+ * @example
+ * ```ts
+ * import { filamentParamsSchema } from "./params.ts";
+ * const p = filamentParamsSchema.parse({
+ *   units: "dimensionless", coreRadius: 1e-6, resolution: 0.05,
+ *   initial: { kind: "ring", radius: 1 },
+ * });
+ * ```
+ */
+import { z } from "zod";
+import { heliumAt, HeliumRangeError } from "./helium.ts";
+
+/** κ of ⁴He, m²/s: h/m₄ from CODATA 2018 h and the ⁴He atomic mass (check-values §0). */
+export const KAPPA_HE4 = 9.9693e-8;
+/** Default core parameter a₀ in metres (Schwarz used 1.3e-10 m; check-values §0). */
+export const A0_DEFAULT_M = 1e-10;
+
+const LEN = "length: metres (units: physical) or the study length unit ℓ (units: dimensionless)";
+const VEL = "velocity: m/s (physical) or κ/ℓ (dimensionless)";
+
+const pos = (what: string) => z.number().positive().finite().describe(what);
+const vec3 = (what: string) =>
+  z.tuple([z.number().finite(), z.number().finite(), z.number().finite()]).describe(what);
+const point = z.tuple([z.number().finite(), z.number().finite(), z.number().finite()]);
+
+const ringSchema = z.strictObject({
+  kind: z.literal("ring"),
+  radius: pos(`ring radius R (${LEN})`),
+  centre: vec3(`ring centre (${LEN})`).default([0, 0, 0]),
+  normal: vec3("direction of motion (ring normal), any non-zero vector (dimensionless)").default([0, 0, 1]),
+}).describe("one circular ring; it moves along +normal");
+
+const collidingSchema = z.strictObject({
+  kind: z.literal("colliding-rings"),
+  radius: pos(`radius of both rings (${LEN})`),
+  separation: pos(`distance between the ring centres along x (${LEN})`),
+  offset: z.number().finite().default(0).describe(`lateral offset of the centres along y (${LEN})`),
+  angle: z.number().min(0).max(Math.PI / 2).default(Math.PI / 4).describe(
+    "tilt ψ of each ring plane towards the other, radians in [0, π/2]: normals (±cos ψ, 0, −sin ψ)",
+  ),
+}).describe("two rings approaching each other along x whose leaning rims meet first");
+
+const kelvinSchema = z.strictObject({
+  kind: z.literal("kelvin-wave"),
+  waves: z.number().int().min(1).default(1).describe("wavelengths per box side (k = 2π·waves/L), integer"),
+  amplitude: pos(`helix amplitude A (${LEN}); linear theory needs kA ≪ 1`),
+}).describe("straight periodic line along z with a helical Kelvin wave (requires the periodic domain)");
+
+const radiusLaw = z.union([
+  pos(`fixed ring radius (${LEN})`),
+  z.strictObject({
+    mean: pos(`mean μ of the ring radius (${LEN})`),
+    sd: z.number().min(0).finite().describe(`standard deviation σ of the ring radius (${LEN})`),
+  }).describe("normal radius law truncated below at max(3δ, μ − 3σ) by resampling"),
+]);
+
+const cloudSchema = z.strictObject({
+  kind: z.literal("ring-cloud"),
+  count: z.number().int().min(1).optional().describe("number of rings (give this or targetLineDensity)"),
+  targetLineDensity: z.number().positive().finite().optional().describe(
+    "target line length per volume of the cloud ball (1/length², physical: m⁻²; dimensionless: ℓ⁻²)",
+  ),
+  radius: radiusLaw,
+  cloudRadius: pos(`radius R_c of the ball holding the ring centres (${LEN})`),
+  centre: vec3(`centre of the cloud ball (${LEN})`).default([0, 0, 0]),
+}).describe("random cloud of rings: centres uniform in a ball, orientations uniform, random phase");
+
+const loopsSchema = z.strictObject({
+  kind: z.literal("loops"),
+  loops: z.array(z.array(point).min(3)).min(1).optional().describe(
+    `explicit closed loops, each an ordered list of [x, y, z] points (${LEN}); the last links to the first`,
+  ),
+  file: z.string().min(1).optional().describe(
+    'path of a JSON file ({"loops": [[[x,y,z],…],…]} or a bare array of loops) or CSV file ' +
+      `(columns loop,x,y,z; optional header) holding closed loops (${LEN})`,
+  ),
+}).describe("closed loops given explicitly or read from a file (give exactly one of loops, file)");
+
+const initialSchema = z.discriminatedUnion("kind", [
+  ringSchema,
+  collidingSchema,
+  kelvinSchema,
+  cloudSchema,
+  loopsSchema,
+]);
+
+const frictionSchema = z.discriminatedUnion("kind", [
+  z.strictObject({ kind: z.literal("none") }).describe("T = 0: no mutual friction (α = α′ = 0)"),
+  z.strictObject({
+    kind: z.literal("temperature"),
+    temperature: z.number().min(0).finite().describe(
+      "temperature, kelvin: α, α′ (and ρ_n/ρ_s) interpolated from the He II table (0 K, or 1.30–1.90 K)",
+    ),
+  }).describe("He II mutual friction looked up from temperature (Donnelly & Barenghi 1998)"),
+  z.strictObject({
+    kind: z.literal("coefficients"),
+    alpha: z.number().min(0).finite().describe("mutual friction coefficient α (dimensionless)"),
+    alphaPrime: z.number().finite().describe("mutual friction coefficient α′ (dimensionless)"),
+  }).describe("mutual friction coefficients given directly"),
+]);
+
+const normalSchema = z.discriminatedUnion("kind", [
+  z.strictObject({ kind: z.literal("rest") }).describe("normal fluid at rest"),
+  z.strictObject({ kind: z.literal("uniform"), velocity: vec3(`normal-fluid velocity (${VEL})`) }),
+  z.strictObject({
+    kind: z.literal("line-heater"),
+    referenceRadius: pos(`reference radius r_ref from the heater axis (z axis) (${LEN})`),
+    referenceVelocity: pos(
+      `normal-fluid speed at r_ref (${VEL}); equals q′/(2π r_ref ρ s T) for heater power q′ per length`,
+    ),
+    heaterRadius: pos(`heater radius r_h: points closer to the z axis are absorbed (${LEN})`),
+    normalToSuperRatio: z.number().positive().finite().optional().describe(
+      "ρ_n/ρ_s for the counter-superflow v_s = −(ρ_n/ρ_s)v_n (dimensionless); default from the temperature table",
+    ),
+  }).describe(
+    "radial normal outflow v_n = u_ref r_ref/r from a heated line on the z axis, with counter-superflow",
+  ),
+]);
+
+const domainSchema = z.discriminatedUnion("kind", [
+  z.strictObject({ kind: z.literal("unbounded") }).describe("open space (no images)"),
+  z.strictObject({
+    kind: z.literal("periodic"),
+    size: pos(`side L of the periodic cube [−L/2, L/2)³ (${LEN})`),
+  }).describe("periodic cube: minimum image plus the 26 neighbouring images"),
+]);
+
+const numericsSchema = z.strictObject({
+  minSpacingFactor: z.number().gt(0).lt(1).default(0.5).describe("δ_min/δ (dimensionless)"),
+  reconnectionFactor: z.number().gt(0).max(1).default(0.5).describe(
+    "reconnection distance δ_r/δ (dimensionless)",
+  ),
+  dtFactor: z.number().positive().max(6).default(3).describe(
+    "c in dt = c·h_min²/(κΛ), Λ = ln(h_max/a₀) (dimensionless; RK4 stability needs c ≲ 6.7)",
+  ),
+  summation: z.enum(["auto", "direct", "tree"]).default("auto").describe(
+    "nonlocal Biot–Savart sum: direct O(N²), Barnes–Hut tree, or tree from treeThreshold points on",
+  ),
+  treeThreshold: z.number().int().min(1).default(2000).describe("points from which `auto` uses the tree"),
+  theta: z.number().gt(0).max(1).default(0.4).describe("tree opening parameter θ (dimensionless)"),
+  leafSize: z.number().int().min(1).max(64).default(16).describe("maximum segments per tree leaf"),
+  markerEvery: z.number().int().min(1).max(64).default(6).describe(
+    "one Lagrangian marker every m initial points",
+  ),
+  maxPoints: z.number().int().min(10).default(200000).describe(
+    "point-count cap (invalid-state failure beyond)",
+  ),
+}).describe("numerical settings (defaults follow the methods cheat-sheet)");
+
+/** The engine's parameter schema. */
+export const filamentParamsSchema = z.strictObject({
+  units: z.enum(["physical", "dimensionless"]).default("physical").describe(
+    "physical: m, s, K, κ(⁴He) = 9.9693e-8 m²/s; dimensionless: κ = 1, lengths in ℓ, times in ℓ²/κ",
+  ),
+  kappa: z.number().positive().finite().optional().describe(
+    "quantum of circulation κ (m²/s); physical units only, default 9.9693e-8 (⁴He)",
+  ),
+  coreRadius: z.number().positive().finite().optional().describe(
+    `vortex core parameter a₀ (${LEN}); default 1e-10 m in physical units, required in dimensionless units`,
+  ),
+  resolution: pos(`point spacing δ = δ_max (${LEN}); choose δ ≤ ℓ/10 and ≥ 10 points per smallest ring`),
+  velocity: z.enum(["biot-savart", "lia"]).default("biot-savart").describe(
+    "desingularised Biot–Savart (local term + nonlocal sum) or local induction approximation",
+  ),
+  domain: domainSchema.default({ kind: "unbounded" }),
+  friction: frictionSchema.default({ kind: "none" }),
+  normalFluid: normalSchema.default({ kind: "rest" }),
+  initial: initialSchema,
+  removeBeyond: z.number().positive().optional().describe(
+    `loops whose centroid gets farther than this from the origin are removed (${LEN}); default never`,
+  ),
+  numerics: numericsSchema.default({
+    minSpacingFactor: 0.5,
+    reconnectionFactor: 0.5,
+    dtFactor: 3,
+    summation: "auto",
+    treeThreshold: 2000,
+    theta: 0.4,
+    leafSize: 16,
+    markerEvery: 6,
+    maxPoints: 200000,
+  }),
+}).superRefine((p, ctx) => {
+  if (p.units === "dimensionless" && p.coreRadius === undefined) {
+    ctx.addIssue({
+      code: "custom",
+      path: ["coreRadius"],
+      message: "coreRadius (a₀ in the study length unit) is required with units: dimensionless",
+    });
+  }
+  if (p.units === "dimensionless" && p.kappa !== undefined) {
+    ctx.addIssue({
+      code: "custom",
+      path: ["kappa"],
+      message: "kappa is fixed to 1 with units: dimensionless",
+    });
+  }
+  const a0 = p.coreRadius ?? A0_DEFAULT_M;
+  if (p.resolution <= 10 * a0) {
+    ctx.addIssue({
+      code: "custom",
+      path: ["resolution"],
+      message: `resolution ${p.resolution} must exceed 10·a₀ = ${10 * a0} (thin-core model)`,
+    });
+  }
+  const periodic = p.domain.kind === "periodic";
+  if (p.initial.kind === "kelvin-wave" && !periodic) {
+    ctx.addIssue({
+      code: "custom",
+      path: ["initial", "kind"],
+      message: "kelvin-wave requires domain.kind: periodic",
+    });
+  }
+  if (periodic && p.domain.kind === "periodic" && p.domain.size < 10 * p.resolution) {
+    ctx.addIssue({
+      code: "custom",
+      path: ["domain", "size"],
+      message: `periodic box side ${p.domain.size} must be at least 10·resolution = ${10 * p.resolution}`,
+    });
+  }
+  if (p.initial.kind === "ring-cloud") {
+    const c = p.initial;
+    if ((c.count === undefined) === (c.targetLineDensity === undefined)) {
+      ctx.addIssue({
+        code: "custom",
+        path: ["initial"],
+        message: "ring-cloud needs exactly one of count, targetLineDensity",
+      });
+    }
+    const mu = typeof c.radius === "number" ? c.radius : c.radius.mean;
+    if (mu < 3 * p.resolution) {
+      ctx.addIssue({
+        code: "custom",
+        path: ["initial", "radius"],
+        message: `ring radius ${mu} is below 3·resolution = ${
+          3 * p.resolution
+        } (rings that small are removed)`,
+      });
+    }
+  }
+  if (p.initial.kind === "loops" && (p.initial.loops === undefined) === (p.initial.file === undefined)) {
+    ctx.addIssue({ code: "custom", path: ["initial"], message: "loops needs exactly one of loops, file" });
+  }
+  if (p.friction.kind === "temperature") {
+    try {
+      heliumAt(p.friction.temperature);
+    } catch (e) {
+      if (!(e instanceof HeliumRangeError)) throw e;
+      ctx.addIssue({ code: "custom", path: ["friction", "temperature"], message: e.message });
+    }
+  }
+  if (
+    p.normalFluid.kind === "line-heater" && p.normalFluid.normalToSuperRatio === undefined &&
+    p.friction.kind !== "temperature"
+  ) {
+    ctx.addIssue({
+      code: "custom",
+      path: ["normalFluid", "normalToSuperRatio"],
+      message: "line-heater needs normalToSuperRatio (ρ_n/ρ_s) unless friction is given by temperature",
+    });
+  }
+  if (p.normalFluid.kind === "line-heater" && periodic) {
+    ctx.addIssue({
+      code: "custom",
+      path: ["normalFluid", "kind"],
+      message: "line-heater is only available in the unbounded domain (its outflow is not periodic)",
+    });
+  }
+});
+
+/** Parsed, defaults-filled parameters. */
+export type FilamentParams = z.output<typeof filamentParamsSchema>;
+/** Parameters as written in a study file. */
+export type FilamentParamsInput = z.input<typeof filamentParamsSchema>;

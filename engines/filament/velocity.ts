@@ -1,0 +1,160 @@
+/**
+ * The right-hand side of the filament equation of motion (Schwarz):
+ *
+ *   ds/dt = v_s + α s′×(v_n − v_s) − α′ s′×[s′×(v_n − v_s)],   v_s = v_self + v_s,ext,
+ *
+ * with v_self the desingularised Biot–Savart velocity (`biot_savart.ts`, or the tree code `tree.ts` for the
+ * nonlocal part) or the local induction approximation, v_n a prescribed normal-fluid velocity and v_s,ext the
+ * matching external superflow (zero net mass flux for a heat current: v_s,ext = −(ρ_n/ρ_s) v_n).
+ *
+ * Normal flows: at rest; uniform; radial outflow from a heated line along the z axis, v_n(r) = (u_ref r_ref/r) r̂
+ * (r the distance to the axis; the heat flux q′ = 2π r ρ s T |v_n| enters only through u_ref·r_ref, so no entropy
+ * data are needed — give the normal velocity u_ref at a reference radius r_ref).
+ *
+ * References: K.W. Schwarz, Phys. Rev. B 38, 2398 (1988), doi:10.1103/PhysRevB.38.2398 (equation of motion);
+ * I.M. Khalatnikov, An Introduction to the Theory of Superfluidity (Benjamin, 1965) (two-fluid heat transport
+ * q = ρ s T v_n and zero net mass flux).
+ *
+ * @example
+ * ```ts
+ * import { VelocityField } from "./velocity.ts";
+ * const field = new VelocityField({ kappa: 1, coreRadius: 1e-4, model: "biot-savart", summation: "direct",
+ *   treeThreshold: 2048, theta: 0.4, leafSize: 8, boxSize: 0, alpha: 0, alphaPrime: 0,
+ *   normal: { kind: "rest" } });
+ * // field.evaluate(n, x, y, z, next, prev, vx, vy, vz);
+ * ```
+ */
+import { addLiaTerm, addLocalTerm, nonlocalDirect, nonlocalDirectPeriodic } from "./biot_savart.ts";
+import { computeGeometry, Geometry } from "./geometry.ts";
+import { SegmentTree } from "./tree.ts";
+
+/** Prescribed normal-fluid velocity field. */
+export type NormalFlow =
+  | { readonly kind: "rest" }
+  | { readonly kind: "uniform"; readonly velocity: readonly [number, number, number] }
+  | {
+    readonly kind: "line-heater";
+    /** u_ref·r_ref: normal speed times radius (length²/time). */
+    readonly strength: number;
+    /** ρ_n/ρ_s for the counter-superflow. */
+    readonly normalToSuperRatio: number;
+  };
+
+/** Physical and numerical settings of the right-hand side. */
+export interface VelocityConfig {
+  /** Quantum of circulation κ (length²/time). */
+  readonly kappa: number;
+  /** Core parameter a₀ (length). */
+  readonly coreRadius: number;
+  readonly model: "biot-savart" | "lia";
+  /** Nonlocal sum: direct, tree, or tree when n ≥ treeThreshold. */
+  readonly summation: "direct" | "tree" | "auto";
+  readonly treeThreshold: number;
+  /** Barnes–Hut opening parameter θ. */
+  readonly theta: number;
+  /** Maximum segments per tree leaf. */
+  readonly leafSize: number;
+  /** Periodic cube side, 0 for unbounded. */
+  readonly boxSize: number;
+  readonly alpha: number;
+  readonly alphaPrime: number;
+  readonly normal: NormalFlow;
+}
+
+/** Evaluates the velocity of all points; owns its geometry and tree work arrays. */
+export class VelocityField {
+  readonly config: VelocityConfig;
+  /** Geometry of the last evaluation. */
+  readonly geo = new Geometry();
+  readonly tree = new SegmentTree();
+  /** Pair interactions (segment–point and cell–point) of the last evaluation. */
+  interactions = 0;
+
+  constructor(config: VelocityConfig) {
+    this.config = config;
+  }
+
+  /** True when the nonlocal sum of n points would use the tree. */
+  usesTree(n: number): boolean {
+    const c = this.config;
+    return c.model === "biot-savart" &&
+      (c.summation === "tree" || (c.summation === "auto" && n >= c.treeThreshold));
+  }
+
+  /** Writes ds/dt of the n points into (vx, vy, vz). */
+  evaluate(
+    n: number,
+    x: Float64Array,
+    y: Float64Array,
+    z: Float64Array,
+    next: Int32Array,
+    prev: Int32Array,
+    vx: Float64Array,
+    vy: Float64Array,
+    vz: Float64Array,
+  ): void {
+    const c = this.config;
+    const g = this.geo;
+    const L = c.boxSize;
+    computeGeometry(n, x, y, z, next, prev, L, g);
+    for (let i = 0; i < n; i++) vx[i] = vy[i] = vz[i] = 0;
+    const cf = c.kappa / (4 * Math.PI);
+    if (c.model === "lia") {
+      addLiaTerm(n, g.tx, g.ty, g.tz, g.cx, g.cy, g.cz, cf, c.coreRadius, vx, vy, vz);
+      this.interactions = 0;
+    } else {
+      addLocalTerm(n, prev, g.tx, g.ty, g.tz, g.cx, g.cy, g.cz, g.len, cf, c.coreRadius, vx, vy, vz);
+      if (this.usesTree(n)) {
+        this.tree.build(n, x, y, z, g.dx, g.dy, g.dz, g.len, L, c.leafSize);
+        this.interactions = this.tree.velocity(n, x, y, z, prev, cf, c.theta, vx, vy, vz);
+      } else if (L > 0) {
+        nonlocalDirectPeriodic(n, x, y, z, prev, g.dx, g.dy, g.dz, L, cf, vx, vy, vz);
+        this.interactions = 27 * n * n;
+      } else {
+        nonlocalDirect(n, x, y, z, prev, g.dx, g.dy, g.dz, cf, vx, vy, vz);
+        this.interactions = n * n;
+      }
+    }
+    const nf = c.normal;
+    if (nf.kind === "line-heater") {
+      // External counter-superflow v_s,ext = −(ρ_n/ρ_s) v_n.
+      const k = -nf.normalToSuperRatio * nf.strength;
+      for (let i = 0; i < n; i++) {
+        const r2 = x[i] * x[i] + y[i] * y[i];
+        if (r2 === 0) continue;
+        vx[i] += k * x[i] / r2;
+        vy[i] += k * y[i] / r2;
+      }
+    }
+    if (c.alpha === 0 && c.alphaPrime === 0) return;
+    const a = c.alpha, ap = c.alphaPrime;
+    const { tx, ty, tz } = g;
+    let unx = 0, uny = 0, unz = 0;
+    if (nf.kind === "uniform") {
+      unx = nf.velocity[0];
+      uny = nf.velocity[1];
+      unz = nf.velocity[2];
+    }
+    const heater = nf.kind === "line-heater" ? nf.strength : 0;
+    for (let i = 0; i < n; i++) {
+      let wx = unx, wy = uny, wz = unz;
+      if (heater !== 0) {
+        const r2 = x[i] * x[i] + y[i] * y[i];
+        if (r2 > 0) {
+          wx = heater * x[i] / r2;
+          wy = heater * y[i] / r2;
+          wz = 0;
+        }
+      }
+      // w = v_n − v_s
+      wx -= vx[i];
+      wy -= vy[i];
+      wz -= vz[i];
+      const sx = ty[i] * wz - tz[i] * wy, sy = tz[i] * wx - tx[i] * wz, sz = tx[i] * wy - ty[i] * wx; // t×w
+      const qx = ty[i] * sz - tz[i] * sy, qy = tz[i] * sx - tx[i] * sz, qz = tx[i] * sy - ty[i] * sx; // t×(t×w)
+      vx[i] += a * sx - ap * qx;
+      vy[i] += a * sy - ap * qy;
+      vz[i] += a * sz - ap * qz;
+    }
+  }
+}
