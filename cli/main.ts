@@ -17,9 +17,24 @@ import { provenance, TOOL_VERSION } from "./provenance.ts";
 import { UserError } from "./errors.ts";
 import { openReadOnly, type QueryFormat, runQuery } from "./query.ts";
 import { type ExportFormat, exportRealisation } from "./export.ts";
+import { analyseCommand, replicateCount } from "./analyse.ts";
+import { compareCommand } from "./compare.ts";
+import * as cluster from "../study/executors/mod.ts";
 
 const REPO = new URL("../", import.meta.url);
 const DEMO_STUDY = new URL("examples/film-patch.yaml", REPO);
+/** The launcher cluster array tasks call (absolute path). */
+const LAUNCHER = new URL("spindrift", REPO).pathname;
+
+/** Output, provenance and Slurm access for the cluster commands. */
+function clusterEnv(): cluster.CommandEnv {
+  return {
+    write: out,
+    note: (l) => console.error(l),
+    provenance: provenance(),
+    batch: cluster.slurmCommands(),
+  };
+}
 
 function out(line = ""): void {
   console.log(line);
@@ -31,6 +46,10 @@ function positiveInt(name: string) {
     if (!Number.isInteger(n) || n < 1) throw new UserError(`${name} must be a whole number ≥ 1, got '${v}'`);
     return n;
   };
+}
+
+function collectValues(value: string, previous: string[] | undefined): string[] {
+  return [...(previous ?? []), value];
 }
 
 function defaultWorkers(): number {
@@ -127,6 +146,8 @@ export function buildProgram(): Command {
 Typical session:
   spindrift check my-study.yaml        validate the study file (every problem, with line numbers)
   spindrift run my-study.yaml          run or resume it (database next to the study file)
+  spindrift run my-study.yaml --executor slurm    or submit it as a Slurm job array; then:
+  spindrift collect my-study.yaml      fold the cluster's results into the database
   spindrift report my-study.sqlite     write the HTML report page
   spindrift query my-study.sqlite "SELECT status, COUNT(*) FROM realisations GROUP BY status"
   spindrift demo                       run the bundled demo study and write its report`,
@@ -165,9 +186,49 @@ Typical session:
     .option("--fresh", "delete this study's stored realisations and start over", false)
     .option("--keep-failed", "do not rerun realisations that failed before", false)
     .option("-q, --quiet", "no progress output", false)
+    .addOption(
+      new Option("--executor <where>", "local (this machine's workers) or slurm (a job array on a cluster)")
+        .choices(["local", "slurm"]).default("local"),
+    )
+    .optionsGroup("Cluster options (with --executor slurm; see README, 'Running on a cluster'):")
+    .option(
+      "--results <dir>",
+      "folder for job files and shards (default: <database name>-cluster/ beside it)",
+    )
+    .option("--dry-run", "print the sbatch script; write and submit nothing")
+    .option("--wait", "wait until the job array has finished, then collect")
+    .addOption(
+      new Option("--slice-size <n>", "realisations per array task (default 1; more if over 1000 to run)")
+        .argParser(positiveInt("--slice-size")),
+    )
+    .option("--partition <name>", "Slurm partition (default: the cluster's default)")
+    .option(
+      "--time-limit <time>",
+      'time limit per array task, e.g. "4:00:00", "1-12:00:00" (default 24:00:00)',
+    )
+    .option("--memory <size>", 'memory per array task, e.g. "8G" (default 2G)')
+    .addOption(
+      new Option("--cpus-per-task <n>", "CPUs per array task: realisations it runs at once (default 1)")
+        .argParser(positiveInt("--cpus-per-task")),
+    )
+    .option("--account <name>", "Slurm account to charge")
+    .addOption(
+      new Option("--sbatch-line <option>", 'one more sbatch option, e.g. "--qos=long" (repeatable)')
+        .argParser(collectValues),
+    )
+    .addOption(
+      new Option("--max-concurrent <n>", "at most this many array tasks at once").argParser(
+        positiveInt("--max-concurrent"),
+      ),
+    )
     .action(async (path, o) => {
       const study = await loadNormalized(path);
       const dbPath = o.db ?? defaultDbPath(path, study);
+      if (cluster.checkExecutorOptions(o) === "slurm") {
+        const flags = { ...o, dbPath, extraLines: o.sbatchLine, launcher: LAUNCHER };
+        Deno.exitCode = await cluster.clusterRunCommand(study, flags, clusterEnv());
+        return;
+      }
       const report = await runWithSignals(study, dbPath, {
         workers: o.workers ?? study.run.workers ?? defaultWorkers(),
         fresh: o.fresh,
@@ -180,6 +241,27 @@ Typical session:
       if (!report.interrupted) out(`next: spindrift report ${dbPath}`);
     });
 
+  program.command("collect")
+    .description("fold the shards of a cluster run into the study database (any time, as often as wanted)")
+    .argument("<study>", "study file (YAML) submitted with 'spindrift run --executor slurm'")
+    .option("--db <path>", "database file (default: <study name>.sqlite next to the study file)")
+    .option("--results <dir>", "cluster results folder (default: <database name>-cluster/ beside it)")
+    .action(async (path, o) => {
+      const study = await loadNormalized(path);
+      const flags = { dbPath: o.db ?? defaultDbPath(path, study), results: o.results };
+      Deno.exitCode = await cluster.collectCommand(study, flags, clusterEnv());
+    });
+
+  program.command("run-slice", { hidden: true })
+    .description("run one slice of a cluster submission into its shard (what each array task runs)")
+    .argument("<manifest>", "manifest.json of the submission")
+    .requiredOption("--slice <k>", "slice index (the array task index)")
+    .requiredOption("--shard <file>", "shard database to write")
+    .addOption(new Option("-w, --workers <n>", "realisations at once").argParser(positiveInt("--workers")))
+    .action(async (manifest, o) => {
+      Deno.exitCode = await cluster.runSliceCommand(manifest, o, { write: out, provenance: provenance() });
+    });
+
   program.command("report")
     .description("write the study's report page (self-contained HTML, works offline) and SVG charts")
     .argument("<database>", "study database written by 'spindrift run'")
@@ -189,6 +271,40 @@ Typical session:
       const res = await writeReport(dbPath, { out: o.out ?? defaultReportPath(dbPath) });
       out(`report: ${res.html}`);
       out(`charts as SVG: ${res.svgDir}`);
+    });
+
+  program.command("analyse")
+    .description("estimate D/κ with bootstrap intervals from a study database and store the results in it")
+    .argument("<database>", "study database written by 'spindrift run'")
+    .addOption(
+      new Option("-B, --replicates <n>", "bootstrap replicates of the MSD fit (default 2000)")
+        .argParser(replicateCount("--replicates")),
+    )
+    .option("--seed <text>", "base of the bootstrap seeds (default: the study hash, so reruns agree)")
+    .option("--chi2 <x>", "χ₂ of the Vinen equation, from a homogeneous decay study (enables the Vinen fit)")
+    .option("--chi2-range <low,high>", "χ₂ range for the sensitivity of the Vinen D (default χ₂/2,2χ₂)")
+    .addOption(
+      new Option("--vinen-replicates <n>", "bootstrap replicates of the Vinen fit (default 200)")
+        .argParser(replicateCount("--vinen-replicates")),
+    )
+    .option("--no-sensitivity", "skip the classification-threshold sensitivity table")
+    .option("--no-correlations", "skip the velocity correlations")
+    .addOption(
+      new Option("--study <id>", "study revision id (default: the latest)").argParser(positiveInt("--study")),
+    )
+    .option("-v, --verbose", "print progress", false)
+    .action(async (dbPath, o) => {
+      openReadOnly(dbPath).close();
+      for (const line of await analyseCommand(dbPath, o)) out(line);
+    });
+
+  program.command("compare")
+    .description("write one page with two or more studies side by side on shared axes")
+    .argument("<databases...>", "two or more study databases")
+    .option("-o, --out <file>", "HTML file to write", "compare.html")
+    .action(async (dbPaths, o) => {
+      for (const p of dbPaths) openReadOnly(p).close();
+      for (const line of await compareCommand(dbPaths, o)) out(line);
     });
 
   program.command("query")
@@ -229,9 +345,13 @@ Typical session:
   program.command("status")
     .description("show per-point progress of a study database: done, failed, running, missing")
     .argument("<database>", "study database")
-    .action((dbPath) => {
+    .option("--results <dir>", "cluster results folder (default: <database name>-cluster/ beside it, if any)")
+    .action(async (dbPath, o) => {
       const db = openReadOnly(dbPath);
       try {
+        const flags = { dbPath, results: o.results, batch: cluster.slurmCommands() };
+        const lines = await cluster.clusterStatusLines(db, flags);
+        if (lines) return lines.forEach((l) => out(l));
         const s = studyStatus(db);
         if (!s) throw new UserError(`${dbPath} holds no study yet`, "run one with: spindrift run STUDY.yaml");
         out(`study ${s.name} (last run ${s.lastRunAt ?? "never"})`);
@@ -303,6 +423,7 @@ export async function main(args: string[]): Promise<void> {
       } else Deno.exitCode = 2;
     } else if (e instanceof UserError) fail(e.message, e.hint);
     else if (e instanceof StoreError) fail(e.message);
+    else if (e instanceof cluster.ExecutorError) fail(e.message, e.hint);
     else {
       const err = e as Error;
       fail(

@@ -38,7 +38,9 @@ export class RandomStream {
   /** Starts a stream from a full 128-bit state; an all-zero state is refused (the generator would stall). */
   static fromState(state: GeneratorState): RandomStream {
     if (state.every((w) => (w | 0) === 0)) throw new RangeError("generator state must not be all zero");
-    return new RandomStream(xoroshiro128plusFromState([state[0] | 0, state[1] | 0, state[2] | 0, state[3] | 0]));
+    return new RandomStream(
+      xoroshiro128plusFromState([state[0] | 0, state[1] | 0, state[2] | 0, state[3] | 0]),
+    );
   }
 
   /** Uniform double in [0, 1) with 53 random bits. */

@@ -113,7 +113,6 @@ Deno.test({
     "cluster on a real single-node Slurm: job array, collect while running, resubmit missing, same results" +
     (unavailable === null ? "" : ` (SKIPPED: ${unavailable})`),
   ignore: unavailable !== null,
-  sanitizeResources: false,
   fn: async () => {
     const { dir, studyPath } = studyInTempDir(SMALL_STUDY);
     const study = await loadNormalizedForTest(studyPath);
@@ -159,7 +158,7 @@ Deno.test({
     const status = await launcher(["status", dbPath], dir);
     assert(/missing: 2 realisations: 2 in 1 array task that ended/.test(status.stdout), status.stdout);
     const resub = await launcher(
-      ["run", studyPath, "--executor", "slurm", "--time-limit", "10", "--wait"],
+      ["run", studyPath, "--executor", "slurm", "--time-limit", "10", "--memory", "1G", "--wait"],
       dir,
     );
     assertEquals(resub.code, 0, resub.stdout + resub.stderr);

@@ -1,0 +1,259 @@
+/**
+ * Running one slice of a study into a shard database: what a cluster array task does.
+ *
+ * The code path is the local one: `planStudy` gives the realisations (keys, seeds), `taskFor` the worker task,
+ * `executeRealisation` computes, and `StudyStore` stores (`recordStudy`, `beginRealisation`, `appendFrames`,
+ * `finishRealisation`), so a realisation computed here is bit-identical to the same realisation computed by a
+ * local `spindrift run`. With one worker the realisations run one after another in this thread; with more, in
+ * that many module workers (`study/worker.ts`).
+ *
+ * The shard uses a rollback journal instead of WAL: WAL's shared-memory index does not work when the writer (a
+ * compute node) and a reader (`spindrift collect` on the login node) are different hosts on a network file
+ * system. A rerun of the same task (requeue) resumes the shard: finished realisations are kept.
+ *
+ * @example
+ * ```ts
+ * const manifest = readManifest("/scratch/film-cluster/20261201T101500Z/manifest.json");
+ * const study = loadSubmittedStudy("/scratch/film-cluster", manifest);
+ * await executeSlice(study, manifest.slices[3].map((e) => e.key), { shardPath: "…/shard-4711-3.sqlite" });
+ * ```
+ */
+import { type PlannedRealisation, planStudy } from "../plan.ts";
+import type { NormalizedStudy } from "../normalize.ts";
+import { executeRealisation } from "../execute.ts";
+import { type FailureSummary, type Provenance, recordStudy, taskFor } from "../runner.ts";
+import { type FrameRow, type RealisationOutcome, StudyStore } from "../../store/db.ts";
+import { ExecutorError } from "./errors.ts";
+import { loadSubmittedStudy, readManifest } from "./submission.ts";
+import { dirname, resolve } from "node:path";
+
+export interface SliceOptions {
+  readonly shardPath: string;
+  /** Realisations computed at the same time (default 1: one after another in this thread). */
+  readonly workers?: number;
+  readonly provenance: Provenance;
+  /** Host name stored with each realisation. */
+  readonly host?: string;
+  /** Called after each finished realisation (for log lines). */
+  readonly onFinished?: (
+    r: PlannedRealisation,
+    outcome: RealisationOutcome,
+    done: number,
+    total: number,
+  ) => void;
+}
+
+export interface SliceReport {
+  readonly planned: number;
+  /** Already finished in the shard (a resumed task). */
+  readonly skipped: number;
+  readonly completed: number;
+  readonly failures: readonly FailureSummary[];
+  readonly wallSeconds: number;
+}
+
+/** Host name, or "unknown" without the permission. */
+function hostName(): string {
+  try {
+    return Deno.hostname();
+  } catch {
+    return "unknown";
+  }
+}
+
+/**
+ * Runs the realisations with the given keys into the shard database (created if needed).
+ * @throws ExecutorError when a key is not part of the study (the slice does not belong to it).
+ */
+export async function executeSlice(
+  study: NormalizedStudy,
+  keys: readonly string[],
+  opts: SliceOptions,
+): Promise<SliceReport> {
+  const t0 = performance.now();
+  const byKey = new Map(planStudy(study).map((r) => [r.key, r]));
+  const slice = keys.map((k) => {
+    const r = byKey.get(k);
+    if (!r) {
+      throw new ExecutorError(
+        `realisation ${k.slice(0, 12)}… of the slice is not part of study ${study.name}`,
+      );
+    }
+    return r;
+  });
+  const store = StudyStore.open(opts.shardPath);
+  try {
+    try {
+      store.db.exec("PRAGMA journal_mode = DELETE");
+    } catch {
+      // A reader holds the file open; WAL stays, which is safe on a local file system.
+    }
+    store.discardUnfinished();
+    recordStudy(store, study, opts.provenance);
+    const statuses = store.realisationStatuses();
+    const todo = slice.filter((r) => statuses.get(r.key) !== "done");
+    const host = opts.host ?? hostName();
+    const failures: FailureSummary[] = [];
+    let completed = 0;
+    const begin = (r: PlannedRealisation) =>
+      store.beginRealisation({
+        key: r.key,
+        pointHash: r.pointHash,
+        index: r.index,
+        seedHex: r.seedHex,
+        engineId: study.engine.id,
+        engineVersion: study.engine.version,
+        host,
+      });
+    const finish = (r: PlannedRealisation, rowId: number, outcome: RealisationOutcome) => {
+      store.finishRealisation(rowId, outcome);
+      if (outcome.status === "failed") {
+        failures.push({
+          pointLabel: study.points[r.pointIndex].label,
+          index: r.index,
+          kind: outcome.failureKind ?? "exception",
+          error: outcome.error ?? "",
+        });
+      } else completed++;
+      opts.onFinished?.(r, outcome, completed + failures.length, todo.length);
+    };
+    const workers = Math.max(1, Math.min(opts.workers ?? 1, todo.length));
+    if (workers === 1) {
+      for (const r of todo) {
+        const rowId = begin(r);
+        const outcome = await executeRealisation(
+          taskFor(study, r),
+          (frames: FrameRow[]) => store.appendFrames(rowId, frames),
+        );
+        finish(r, rowId, outcome);
+      }
+    } else {
+      await runInWorkers(
+        study,
+        todo,
+        workers,
+        begin,
+        (rowId, frames) => store.appendFrames(rowId, frames),
+        finish,
+      );
+    }
+    return {
+      planned: slice.length,
+      skipped: slice.length - todo.length,
+      completed,
+      failures,
+      wallSeconds: (performance.now() - t0) / 1000,
+    };
+  } finally {
+    store.close();
+  }
+}
+
+type WorkerMessage =
+  | { type: "frames"; id: number; frames: FrameRow[] }
+  | { type: "outcome"; id: number; outcome: RealisationOutcome };
+
+/** Runs `todo` on `n` module workers; storage stays in this thread (the only writer). */
+function runInWorkers(
+  study: NormalizedStudy,
+  todo: readonly PlannedRealisation[],
+  n: number,
+  begin: (r: PlannedRealisation) => number,
+  frames: (rowId: number, frames: FrameRow[]) => void,
+  finish: (r: PlannedRealisation, rowId: number, outcome: RealisationOutcome) => void,
+): Promise<void> {
+  return new Promise<void>((resolve, reject) => {
+    let next = 0;
+    let active = 0;
+    const workers: Worker[] = [];
+    const jobs = new Map<Worker, { id: number; r: PlannedRealisation; rowId: number }>();
+    const end = (error?: unknown) => {
+      for (const w of workers) w.terminate();
+      if (error === undefined) resolve();
+      else reject(error);
+    };
+    const dispatch = (w: Worker) => {
+      if (next >= todo.length) {
+        if (active === 0) end();
+        return;
+      }
+      const id = next++;
+      const r = todo[id];
+      const rowId = begin(r);
+      jobs.set(w, { id, r, rowId });
+      active++;
+      w.postMessage({ type: "task", id, task: taskFor(study, r) });
+    };
+    const spawn = (): Worker => {
+      const w = new Worker(new URL("../worker.ts", import.meta.url).href, { type: "module" });
+      w.onmessage = (ev: MessageEvent<WorkerMessage>) => {
+        const job = jobs.get(w);
+        if (!job || job.id !== ev.data.id) return;
+        try {
+          if (ev.data.type === "frames") {
+            frames(job.rowId, ev.data.frames);
+            return;
+          }
+          jobs.delete(w);
+          active--;
+          finish(job.r, job.rowId, ev.data.outcome);
+          dispatch(w);
+        } catch (e) {
+          end(e);
+        }
+      };
+      w.onerror = (ev: ErrorEvent) => {
+        ev.preventDefault();
+        const job = jobs.get(w);
+        w.terminate();
+        const replacement = spawn();
+        workers[workers.indexOf(w)] = replacement;
+        try {
+          if (job) {
+            jobs.delete(w);
+            active--;
+            finish(job.r, job.rowId, {
+              status: "failed",
+              failureKind: "exception",
+              error: `worker crashed: ${ev.message}`,
+              wallSeconds: 0,
+              simTimeReached: Number.NaN,
+              scalars: {},
+              series: {},
+              events: [],
+            });
+          }
+          dispatch(replacement);
+        } catch (e) {
+          end(e);
+        }
+      };
+      return w;
+    };
+    for (let i = 0; i < n; i++) workers.push(spawn());
+    for (const w of [...workers]) dispatch(w);
+  });
+}
+
+/**
+ * What an array task runs: slice `slice` of the submission whose manifest is at `manifestPath`, into the
+ * shard `shardPath`. The study comes from the frozen copy in the results folder (the manifest's parent's
+ * parent), checked against the submitted study hash.
+ * @throws ExecutorError for a bad manifest, a changed study copy, a changed engine or a slice out of range.
+ */
+export async function runSliceTask(
+  manifestPath: string,
+  slice: number,
+  opts: SliceOptions,
+): Promise<SliceReport> {
+  const manifest = readManifest(manifestPath);
+  if (!Number.isInteger(slice) || slice < 0 || slice >= manifest.slices.length) {
+    throw new ExecutorError(
+      `slice ${slice} does not exist: submission ${manifest.id} has slices 0 to ${
+        manifest.slices.length - 1
+      }`,
+    );
+  }
+  const study = loadSubmittedStudy(dirname(dirname(resolve(manifestPath))), manifest);
+  return await executeSlice(study, manifest.slices[slice].map((e) => e.key), opts);
+}
