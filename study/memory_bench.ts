@@ -51,6 +51,8 @@ const mb = (b: number) => (b / 2 ** 20).toFixed(1);
 console.log(`N = ${N} vortices, frames every ${DT}`);
 console.log(`  ${short.frames} frames: peak RSS ${mb(short.peak)} MiB (${short.seconds.toFixed(1)} s)`);
 console.log(`  ${long.frames} frames: peak RSS ${mb(long.peak)} MiB (${long.seconds.toFixed(1)} s)`);
-console.log(`  frame data written by the long run: ${mb(long.frames * N * 29)} MiB; RSS ratio long/short ${
-  (long.peak / short.peak).toFixed(2)
-}`);
+console.log(
+  `  frame data written by the long run: ${mb(long.frames * N * 29)} MiB; RSS ratio long/short ${
+    (long.peak / short.peak).toFixed(2)
+  }`,
+);

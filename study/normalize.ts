@@ -21,6 +21,7 @@
  * }
  * ```
  */
+import type { ClusterSettings } from "./executors/slurm_schema.ts";
 import type { Engine } from "../engines/contract.ts";
 import type { ClassificationConfig } from "../engines/observables/contract.ts";
 import { ENGINES } from "../engines/registry.ts";
@@ -52,6 +53,8 @@ export interface NormalizedRun {
   readonly maxDistance: number;
   /** The study's default worker count, when it sets one (never part of a hash). */
   readonly workers?: number;
+  /** Cluster resources for the Slurm executor, when given (never part of a hash). */
+  readonly cluster?: ClusterSettings;
 }
 
 /** A study ready to plan and run. */
@@ -108,6 +111,7 @@ export function normalizeStudy(study: StudyFile, opts: NormalizeOptions): Normal
     tolerance: study.run.tolerance,
     maxDistance: study.run.maxDistance,
     ...(study.run.workers !== undefined ? { workers: study.run.workers } : {}),
+    ...(study.run.cluster !== undefined ? { cluster: study.run.cluster } : {}),
   };
   const hashedRun = {
     duration: run.duration,

@@ -31,6 +31,7 @@
  * const result = studySchema.safeParse(yamlValue);
  * ```
  */
+import { clusterSchema } from "./executors/slurm_schema.ts";
 import { z } from "zod";
 import type { Engine } from "../engines/contract.ts";
 import { ENGINES } from "../engines/registry.ts";
@@ -268,6 +269,10 @@ export const runSchema = z.strictObject({
   workers: z.int().min(1).max(1024).optional().describe(
     "Default number of parallel workers, an integer ≥ 1 (the command line may override it). Results do not " +
       "depend on it.",
+  ),
+  cluster: clusterSchema.optional().describe(
+    "Resources for `spindrift run --executor slurm` (partition, time limit, memory, …); flags override them. " +
+      "Never part of a hash: results do not depend on where they were computed.",
   ),
 }).superRefine(refineWith(runRules)).describe("Run controls shared by every engine.");
 

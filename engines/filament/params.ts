@@ -51,7 +51,9 @@ const collidingSchema = z.strictObject({
 
 const kelvinSchema = z.strictObject({
   kind: z.literal("kelvin-wave"),
-  waves: z.number().int().min(1).default(1).describe("wavelengths per box side (k = 2π·waves/L), integer"),
+  waves: z.number().int().min(1).default(1).describe(
+    "wavelengths per box side (k = 2π·waves/L), an integer count (dimensionless)",
+  ),
   amplitude: pos(`helix amplitude A (${LEN}); linear theory needs kA ≪ 1`),
 }).describe("straight periodic line along z with a helical Kelvin wave (requires the periodic domain)");
 
@@ -65,7 +67,9 @@ const radiusLaw = z.union([
 
 const cloudSchema = z.strictObject({
   kind: z.literal("ring-cloud"),
-  count: z.number().int().min(1).optional().describe("number of rings (give this or targetLineDensity)"),
+  count: z.number().int().min(1).optional().describe(
+    "number of rings (a count, dimensionless; give this or targetLineDensity)",
+  ),
   targetLineDensity: z.number().positive().finite().optional().describe(
     "target line length per volume of the cloud ball (1/length², physical: m⁻²; dimensionless: ℓ⁻²)",
   ),
@@ -145,14 +149,18 @@ const numericsSchema = z.strictObject({
   summation: z.enum(["auto", "direct", "tree"]).default("auto").describe(
     "nonlocal Biot–Savart sum: direct O(N²), Barnes–Hut tree, or tree from treeThreshold points on",
   ),
-  treeThreshold: z.number().int().min(1).default(2000).describe("points from which `auto` uses the tree"),
+  treeThreshold: z.number().int().min(1).default(2000).describe(
+    "points from which `auto` uses the tree (a count, dimensionless)",
+  ),
   theta: z.number().gt(0).max(1).default(0.4).describe("tree opening parameter θ (dimensionless)"),
-  leafSize: z.number().int().min(1).max(64).default(16).describe("maximum segments per tree leaf"),
+  leafSize: z.number().int().min(1).max(64).default(16).describe(
+    "maximum segments per tree leaf (a count, dimensionless)",
+  ),
   markerEvery: z.number().int().min(1).max(64).default(6).describe(
-    "one Lagrangian marker every m initial points",
+    "one Lagrangian marker every m initial points (a count, dimensionless)",
   ),
   maxPoints: z.number().int().min(10).default(200000).describe(
-    "point-count cap (invalid-state failure beyond)",
+    "point-count cap (a count, dimensionless; invalid-state failure beyond)",
   ),
 }).describe("numerical settings (defaults follow the methods cheat-sheet)");
 

@@ -42,7 +42,7 @@ export const clusterSchema = z.strictObject({
   memory: z.string().regex(MEMORY, { error: 'must be an amount such as "2G", "500M" or "4000" (megabytes)' })
     .optional().describe('Memory per array task, with unit K, M, G or T (default "2G").'),
   cpusPerTask: z.int().min(1).max(1024).optional().describe(
-    "CPUs per array task; that many realisations of the task's slice run in parallel (default 1).",
+    "CPUs per array task (a count, dimensionless); that many realisations of the task's slice run in parallel (default 1).",
   ),
   account: z.string().regex(NAME, { error: "must be an account name (letters, digits, _ . + -)" }).optional()
     .describe("Slurm account to charge (default: the user's default account)."),
@@ -52,10 +52,10 @@ export const clusterSchema = z.strictObject({
     }),
   ).optional().describe('Further sbatch options, one per entry, e.g. ["--qos=long", "--constraint=avx2"].'),
   sliceSize: z.int().min(1).optional().describe(
-    "Realisations per array task (default: one per task, more when the study has over 1000 to run).",
+    "Realisations per array task (a count, dimensionless; default: one per task, more when the study has over 1000 to run).",
   ),
   maxConcurrent: z.int().min(1).optional().describe(
-    "At most this many array tasks run at the same time (sbatch --array throttle; default: no limit).",
+    "At most this many array tasks run at the same time (a count, dimensionless; sbatch --array throttle; default: no limit).",
   ),
 }).describe(
   "Resources of `spindrift run --executor slurm` (never part of a hash: results do not depend on them).",
