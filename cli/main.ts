@@ -3,7 +3,7 @@
  * Exit codes: 0 ok, 1 the work failed (bad study, failed realisations, missing database), 2 wrong usage,
  * 130 interrupted, 70 internal error.
  */
-import { Command, CommanderError, Option } from "@commander-js/extra-typings";
+import { Argument, Command, CommanderError, Option } from "@commander-js/extra-typings";
 import { dirname, join, resolve } from "node:path";
 import { loadStudy } from "../study/load.ts";
 import { formatProblems } from "../study/problems.ts";
@@ -17,12 +17,16 @@ import { provenance, TOOL_VERSION } from "./provenance.ts";
 import { UserError } from "./errors.ts";
 import { openReadOnly, type QueryFormat, runQuery } from "./query.ts";
 import { type ExportFormat, exportRealisation } from "./export.ts";
-import { analyseCommand, replicateCount } from "./analyse.ts";
+import { analyseAndReport, analyseCommand, replicateCount } from "./analyse.ts";
 import { compareCommand } from "./compare.ts";
 import * as cluster from "../study/executors/mod.ts";
 
 const REPO = new URL("../", import.meta.url);
-const DEMO_STUDY = new URL("examples/film-patch.yaml", REPO);
+/** The bundled demo studies. */
+const DEMOS = {
+  "film-patch": new URL("examples/film-patch.yaml", REPO),
+  "ring-burst": new URL("examples/ring-burst.yaml", REPO),
+} as const;
 /** The launcher cluster array tasks call (absolute path). */
 const LAUNCHER = new URL("spindrift", REPO).pathname;
 
@@ -370,15 +374,18 @@ Typical session:
 
   program.command("demo")
     .description(
-      "run the bundled demo study (a neutral vortex patch in a thin superfluid film) and its report",
+      "run a bundled demo study, analyse it and write its report: film-patch (2D, default: a neutral " +
+        "vortex patch stirred into a thin superfluid film) or ring-burst (3D: vortex rings puffed into still " +
+        "helium)",
     )
+    .addArgument(new Argument("[name]", "which demo").choices(Object.keys(DEMOS)).default("film-patch"))
     .addOption(new Option("-w, --workers <n>", "parallel workers (default: number of cores)").argParser(
       positiveInt("--workers"),
     ))
     .option("--out <dir>", "folder for the demo's database and report", "out/demo")
     .option("--fresh", "recompute everything", false)
-    .action(async (o) => {
-      const studyPath = DEMO_STUDY.pathname;
+    .action(async (name, o) => {
+      const studyPath = DEMOS[name as keyof typeof DEMOS].pathname;
       const study = await loadNormalized(studyPath);
       await Deno.mkdir(o.out, { recursive: true });
       const dbPath = join(o.out, `${study.name}.sqlite`);
@@ -395,7 +402,8 @@ Typical session:
         Deno.exitCode = 130;
         return;
       }
-      const res = await writeReport(dbPath, { out: defaultReportPath(dbPath) });
+      const res = await analyseAndReport(dbPath, { out: defaultReportPath(dbPath) });
+      for (const line of res.lines) out(line);
       out(`report: ${res.html}`);
       out(`charts as SVG: ${res.svgDir}`);
       if (report.failed) Deno.exitCode = 1;
