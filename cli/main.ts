@@ -9,6 +9,7 @@ import { loadStudy } from "../study/load.ts";
 import { formatProblems } from "../study/problems.ts";
 import { type NormalizedStudy, normalizeStudy } from "../study/normalize.ts";
 import { type RunReport, runStudy } from "../study/runner.ts";
+import { describeFirstRealisation } from "../study/describe.ts";
 import { createProgress } from "../study/progress.ts";
 import { StoreError } from "../store/db.ts";
 import { studyStatus } from "../store/status.ts";
@@ -162,6 +163,10 @@ Typical session:
     .argument("<study>", "study file (YAML)")
     .action(async (path) => {
       const study = await loadNormalized(path);
+      const first = await describeFirstRealisation(study);
+      if ("problem" in first) {
+        throw new UserError(`${path}: the first realisation could not start: ${first.problem}`);
+      }
       const n = study.points.length;
       out(`${path}: ok`);
       out(
@@ -174,6 +179,7 @@ Typical session:
         `  duration ${study.run.duration}, frame every ${study.run.sampleInterval}, tolerance ${study.run.tolerance}`,
       );
       out(`  observables: ${study.observables.record.join(", ")}`);
+      for (const line of first.lines) out(`  ${line}`);
     });
 
   program.command("run")

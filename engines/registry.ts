@@ -5,10 +5,16 @@
 import type { Engine } from "./contract.ts";
 import { pointVortexEngine } from "./point-vortex/mod.ts";
 import { IMPORTED_ENGINES } from "./imported/mod.ts";
+import { EXTERNAL_ENGINES } from "./external/mod.ts";
 import { filamentEngine } from "./filament/mod.ts";
 
 // deno-lint-ignore no-explicit-any
-export const ENGINES: readonly Engine<any>[] = [pointVortexEngine, filamentEngine, ...IMPORTED_ENGINES];
+export const ENGINES: readonly Engine<any>[] = [
+  pointVortexEngine,
+  filamentEngine,
+  ...IMPORTED_ENGINES,
+  ...EXTERNAL_ENGINES,
+];
 
 /** The engine with this id, or undefined. */
 // deno-lint-ignore no-explicit-any

@@ -79,6 +79,8 @@ export interface EventRow {
   readonly kind: string;
   readonly ids: readonly number[];
   readonly data: Readonly<Record<string, number>>;
+  /** Text details (e.g. an external program's command line), stored in data_json under "detail". */
+  readonly detail?: Readonly<Record<string, unknown>>;
 }
 
 export interface RealisationOutcome {
@@ -335,7 +337,14 @@ export class StudyStore {
         "INSERT INTO events (realisation_id, seq, t, kind, ids_json, data_json) VALUES (?, ?, ?, ?, ?, ?)",
       );
       out.events.forEach((e, seq) =>
-        insEvent.run(realisationId, seq, e.t, e.kind, JSON.stringify(e.ids), JSON.stringify(e.data))
+        insEvent.run(
+          realisationId,
+          seq,
+          e.t,
+          e.kind,
+          JSON.stringify(e.ids),
+          JSON.stringify(e.detail === undefined ? e.data : { ...e.data, detail: e.detail }),
+        )
       );
       db.prepare(
         `UPDATE realisations SET status = ?, failure_kind = ?, error = ?, finished_at = ?, wall_seconds = ?,

@@ -68,9 +68,6 @@ function curvature(geo: Geometry, i: number): number {
   return Math.sqrt(geo.cx[i] * geo.cx[i] + geo.cy[i] * geo.cy[i] + geo.cz[i] * geo.cz[i]);
 }
 
-// Returned by `remesh` (reused; read it before the next call).
-const RESULT: RemeshResult = { inserted: 0, removed: 0 };
-
 function unlink(s: FilamentState, v: number): void {
   const p = s.prev[v], q = s.next[v];
   s.next[p] = q;
@@ -104,8 +101,6 @@ export function remesh(
     for (let s = s0; s < s0 + state.loopLen[k]; s++) loopIndex[s] = k;
     loopCount[k] = state.loopLen[k];
   }
-  const curv = (i: number) =>
-    Math.sqrt(geo.cx[i] * geo.cx[i] + geo.cy[i] * geo.cy[i] + geo.cz[i] * geo.cz[i]);
   const res: RemeshResult = { inserted: 0, removed: 0 };
 
   // 1. Removal.

@@ -1,17 +1,20 @@
 /**
- * The stand-in program test/external/walker.mjs: deterministic for a seed, the export layout, and Brownian
- * statistics with the diffusion coefficient and initial cloud size it was given.
+ * The stand-in program test/external/walker.mjs: deterministic for a seed, the export layout, and
+ * Ornstein–Uhlenbeck random-walk statistics with the diffusion coefficient, correlation time and initial cloud
+ * size it was given.
  */
 import { assert, assertEquals } from "../_assert.ts";
 import { chiSquareDiffusionInterval } from "../../reports/analysis/chi2.ts";
+import { ouLag } from "./_helpers.ts";
 
-export const WALKER = new URL("./walker.mjs", import.meta.url).pathname;
+const WALKER = new URL("./walker.mjs", import.meta.url).pathname;
 
 /** Runs the walker in a fresh folder; returns its exit code, output file text (or null) and stderr. */
-export async function runWalker(
+async function runWalker(
   opts: {
     seed: string;
     D: number;
+    tau: number;
     duration: number;
     dt: number;
     count: number;
@@ -29,6 +32,8 @@ export async function runWalker(
         opts.seed,
         "--diffusion",
         String(opts.D),
+        "--tau",
+        String(opts.tau),
         "--duration",
         String(opts.duration),
         "--dt",
@@ -63,7 +68,7 @@ function rows(csv: string): number[][] {
   return lines.slice(1).map((l) => l.split(",").map(Number));
 }
 
-const base = { seed: "18446744073709551557", D: 0.25, duration: 20, dt: 0.1, count: 50, sigma0: 2 };
+const base = { seed: "18446744073709551557", D: 0.25, tau: 0.1, duration: 5, dt: 0.1, count: 200, sigma0: 2 };
 
 Deno.test("walker.mjs writes the export layout: one row per walker per frame, ids, alternating circulation", async () => {
   const r = await runWalker({ ...base, duration: 1, count: 3 });
@@ -88,27 +93,28 @@ Deno.test("walker.mjs gives identical bytes for the same seed and other tracks f
   assert(a.csv !== c.csv);
 });
 
-Deno.test("walker.mjs: increments give its D and the first frame its sigma0, within exact chi-square intervals", async () => {
+Deno.test("walker.mjs: displacements give its D, ballistic and diffusive, and the first frame its sigma0", async () => {
   const r = await runWalker(base);
   assertEquals(r.code, 0, r.stderr);
   const data = rows(r.csv!);
   const n = base.count;
-  const frames = Math.round(base.duration / base.dt) + 1;
-  assertEquals(data.length, frames * n);
-  const inc: number[] = [];
-  for (let k = 1; k < frames; k++) {
-    for (let i = 0; i < n; i++) {
-      const a = data[(k - 1) * n + i];
-      const b = data[k * n + i];
-      inc.push((b[2] - a[2]) ** 2 + (b[3] - a[3]) ** 2);
-    }
+  const last = Math.round(base.duration / base.dt);
+  assertEquals(data.length, (last + 1) * n);
+  // Each walker's displacement from t = 0 is exactly N(0, 2D·g(t) I₂), g(t) = t − τ(1 − e^{−t/τ}) (Uhlenbeck &
+  // Ornstein, Phys. Rev. 36, 823 (1930)), and walkers are independent: Σ|Δr|²/(2n g) estimates D with
+  // 2nD̂/D ~ χ²_{2n}, the exact interval of check-values.md §6.2 with Δt replaced by g(t).
+  for (const k of [1, 10, last]) {
+    const sq = data.slice(0, n).map((row0, i) => {
+      const row = data[k * n + i];
+      return (row[2] - row0[2]) ** 2 + (row[3] - row0[3]) ** 2;
+    });
+    const t = k * base.dt;
+    const ci = chiSquareDiffusionInterval(sq, { dimension: 2, dt: ouLag(t, base.tau) });
+    console.log(
+      `t = ${t.toFixed(1)}: D = ${ci.D.toFixed(4)} [${ci.lower.toFixed(4)}, ${ci.upper.toFixed(4)}]`,
+    );
+    assert(ci.lower <= base.D && base.D <= ci.upper, `t = ${t}: got ${ci.D} [${ci.lower}, ${ci.upper}]`);
   }
-  // n independent 2D Brownian increments over dt: 2nD̂/D ~ χ²_{2n} (Einstein 1905; check-values.md §6.2).
-  const ci = chiSquareDiffusionInterval(inc, { dimension: 2, dt: base.dt });
-  assert(
-    ci.lower <= base.D && base.D <= ci.upper,
-    `D: got ${ci.D} [${ci.lower}, ${ci.upper}], expected ${base.D}`,
-  );
   // Initial positions are N(0, σ0² I₂): |r|² has the law of a 2D increment with 2D·dt = σ0², so with dt = 1/2
   // the same exact interval bounds σ0² (χ² with 2n degrees of freedom, Abramowitz & Stegun §26.4).
   const r2 = data.slice(0, n).map((row) => row[2] ** 2 + row[3] ** 2);
