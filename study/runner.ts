@@ -25,7 +25,8 @@ import { applicableObservables } from "../engines/observables/mod.ts";
 import type { NormalizedStudy } from "./normalize.ts";
 import { type PlannedRealisation, planStudy } from "./plan.ts";
 import type { RealisationTask } from "./execute.ts";
-import type { FrameRow, RealisationOutcome } from "../store/db.ts";
+import type { RealisationOutcome } from "../store/db.ts";
+import { runRealisations } from "./pool.ts";
 import { StudyStore } from "../store/db.ts";
 import { canonicalJson } from "./hash.ts";
 import type { Progress } from "./progress.ts";
@@ -68,7 +69,7 @@ export interface RunReport {
 }
 
 /** Hostname for the realisation rows, or "unknown" without the permission. */
-function hostName(): string {
+export function hostName(): string {
   try {
     return Deno.hostname();
   } catch {
@@ -185,11 +186,7 @@ interface PoolResult {
   interrupted: boolean;
 }
 
-type WorkerMessage =
-  | { type: "frames"; id: number; frames: FrameRow[] }
-  | { type: "outcome"; id: number; outcome: RealisationOutcome };
-
-function runPool(
+async function runPool(
   study: NormalizedStudy,
   todo: readonly PlannedRealisation[],
   store: StudyStore,
@@ -200,117 +197,45 @@ function runPool(
   const host = hostName();
   const failures: FailureSummary[] = [];
   let completed = 0;
-  let next = 0;
-  let active = 0;
-  let interrupted = false;
-  const nWorkers = Math.max(1, Math.min(opts.workers, todo.length));
-  const workers: Worker[] = [];
-  const running = new Map<Worker, { id: number; r: PlannedRealisation; rowId: number }>();
   opts.progress.start(total, skipped);
-
-  return new Promise<PoolResult>((resolve) => {
-    const finishAll = () => {
-      for (const w of workers) w.terminate();
-      opts.progress.stop();
-      opts.signal?.removeEventListener("abort", onAbort);
-      resolve({ completed, failures, interrupted });
-    };
-
-    const onAbort = () => {
-      if (interrupted) return;
-      interrupted = true;
-      // Finished realisations are committed; the ones in flight are discarded and rerun next time.
-      for (const w of workers) w.terminate();
-      running.clear();
-      store.discardUnfinished();
-      finishAll();
-    };
-    opts.signal?.addEventListener("abort", onAbort);
-
-    const record = (r: PlannedRealisation, outcome: RealisationOutcome) => {
-      if (outcome.status === "failed") {
-        failures.push({
-          pointLabel: study.points[r.pointIndex].label,
+  try {
+    const { interrupted } = await runRealisations(study, todo, opts.workers, {
+      begin: (r) =>
+        store.beginRealisation({
+          key: r.key,
+          pointHash: r.pointHash,
           index: r.index,
-          kind: outcome.failureKind ?? "exception",
-          error: outcome.error ?? "",
-        });
-      } else completed++;
-      opts.progress.update(skipped + completed + failures.length, failures.length);
-    };
+          seedHex: r.seedHex,
+          engineId: study.engine.id,
+          engineVersion: study.engine.version,
+          host,
+        }),
+      frames: (rowId, frames) => store.appendFrames(rowId, frames),
+      finish: (r, rowId, outcome) => {
+        store.finishRealisation(rowId, outcome);
+        if (outcome.status === "failed") failures.push(failureSummary(study, r, outcome));
+        else completed++;
+        opts.progress.update(skipped + completed + failures.length, failures.length);
+      },
+    }, opts.signal);
+    // Finished realisations are committed; the ones in flight are discarded and rerun next time.
+    if (interrupted) store.discardUnfinished();
+    return { completed, failures, interrupted };
+  } finally {
+    opts.progress.stop();
+  }
+}
 
-    const dispatch = (w: Worker) => {
-      if (interrupted) return;
-      if (next >= todo.length) {
-        if (active === 0) finishAll();
-        return;
-      }
-      const r = todo[next];
-      const id = next++;
-      const rowId = store.beginRealisation({
-        key: r.key,
-        pointHash: r.pointHash,
-        index: r.index,
-        seedHex: r.seedHex,
-        engineId: study.engine.id,
-        engineVersion: study.engine.version,
-        host,
-      });
-      running.set(w, { id, r, rowId });
-      active++;
-      w.postMessage({ type: "task", id, task: taskFor(study, r) });
-    };
-
-    const spawn = (): Worker => {
-      const w = new Worker(new URL("./worker.ts", import.meta.url).href, { type: "module" });
-      w.onmessage = (ev: MessageEvent<WorkerMessage>) => {
-        if (interrupted) return;
-        const job = running.get(w);
-        if (!job || job.id !== ev.data.id) return;
-        if (ev.data.type === "frames") {
-          store.appendFrames(job.rowId, ev.data.frames);
-          return;
-        }
-        store.finishRealisation(job.rowId, ev.data.outcome);
-        running.delete(w);
-        active--;
-        record(job.r, ev.data.outcome);
-        dispatch(w);
-      };
-      w.onerror = (ev: ErrorEvent) => {
-        ev.preventDefault();
-        if (interrupted) return;
-        const job = running.get(w);
-        w.terminate();
-        const idx = workers.indexOf(w);
-        const replacement = spawn();
-        workers[idx] = replacement;
-        if (job) {
-          const outcome: RealisationOutcome = {
-            status: "failed",
-            failureKind: "exception",
-            error: `worker crashed: ${ev.message}`,
-            wallSeconds: 0,
-            simTimeReached: Number.NaN,
-            scalars: {},
-            series: {},
-            events: [],
-          };
-          store.finishRealisation(job.rowId, outcome);
-          running.delete(w);
-          active--;
-          record(job.r, outcome);
-        }
-        dispatch(replacement);
-      };
-      return w;
-    };
-
-    if (todo.length === 0) {
-      finishAll();
-      return;
-    }
-    for (let i = 0; i < nWorkers; i++) workers.push(spawn());
-    for (const w of workers) dispatch(w);
-  });
+/** The one-line summary of a failed realisation. */
+export function failureSummary(
+  study: NormalizedStudy,
+  r: PlannedRealisation,
+  outcome: RealisationOutcome,
+): FailureSummary {
+  return {
+    pointLabel: study.points[r.pointIndex].label,
+    index: r.index,
+    kind: outcome.failureKind ?? "exception",
+    error: outcome.error ?? "",
+  };
 }

@@ -3,9 +3,8 @@
  *
  * The code path is the local one: `planStudy` gives the realisations (keys, seeds), `taskFor` the worker task,
  * `executeRealisation` computes, and `StudyStore` stores (`recordStudy`, `beginRealisation`, `appendFrames`,
- * `finishRealisation`), so a realisation computed here is bit-identical to the same realisation computed by a
- * local `spindrift run`. With one worker the realisations run one after another in this thread; with more, in
- * that many module workers (`study/worker.ts`).
+ * `finishRealisation`) through the same worker pool (`study/pool.ts`), so a realisation computed here is
+ * bit-identical to the same realisation computed by a local `spindrift run`.
  *
  * The shard uses a rollback journal instead of WAL: WAL's shared-memory index does not work when the writer (a
  * compute node) and a reader (`spindrift collect` on the login node) are different hosts on a network file
@@ -20,9 +19,9 @@
  */
 import { type PlannedRealisation, planStudy } from "../plan.ts";
 import type { NormalizedStudy } from "../normalize.ts";
-import { executeRealisation } from "../execute.ts";
-import { type FailureSummary, type Provenance, recordStudy, taskFor } from "../runner.ts";
-import { type FrameRow, type RealisationOutcome, StudyStore } from "../../store/db.ts";
+import { type FailureSummary, failureSummary, hostName, type Provenance, recordStudy } from "../runner.ts";
+import { runRealisations } from "../pool.ts";
+import { type RealisationOutcome, StudyStore } from "../../store/db.ts";
 import { ExecutorError } from "./errors.ts";
 import { loadSubmittedStudy, readManifest } from "./submission.ts";
 import { dirname, resolve } from "node:path";
@@ -50,15 +49,6 @@ export interface SliceReport {
   readonly completed: number;
   readonly failures: readonly FailureSummary[];
   readonly wallSeconds: number;
-}
-
-/** Host name, or "unknown" without the permission. */
-function hostName(): string {
-  try {
-    return Deno.hostname();
-  } catch {
-    return "unknown";
-  }
 }
 
 /**
@@ -95,48 +85,25 @@ export async function executeSlice(
     const host = opts.host ?? hostName();
     const failures: FailureSummary[] = [];
     let completed = 0;
-    const begin = (r: PlannedRealisation) =>
-      store.beginRealisation({
-        key: r.key,
-        pointHash: r.pointHash,
-        index: r.index,
-        seedHex: r.seedHex,
-        engineId: study.engine.id,
-        engineVersion: study.engine.version,
-        host,
-      });
-    const finish = (r: PlannedRealisation, rowId: number, outcome: RealisationOutcome) => {
-      store.finishRealisation(rowId, outcome);
-      if (outcome.status === "failed") {
-        failures.push({
-          pointLabel: study.points[r.pointIndex].label,
+    await runRealisations(study, todo, opts.workers ?? 1, {
+      begin: (r) =>
+        store.beginRealisation({
+          key: r.key,
+          pointHash: r.pointHash,
           index: r.index,
-          kind: outcome.failureKind ?? "exception",
-          error: outcome.error ?? "",
-        });
-      } else completed++;
-      opts.onFinished?.(r, outcome, completed + failures.length, todo.length);
-    };
-    const workers = Math.max(1, Math.min(opts.workers ?? 1, todo.length));
-    if (workers === 1) {
-      for (const r of todo) {
-        const rowId = begin(r);
-        const outcome = await executeRealisation(
-          taskFor(study, r),
-          (frames: FrameRow[]) => store.appendFrames(rowId, frames),
-        );
-        finish(r, rowId, outcome);
-      }
-    } else {
-      await runInWorkers(
-        study,
-        todo,
-        workers,
-        begin,
-        (rowId, frames) => store.appendFrames(rowId, frames),
-        finish,
-      );
-    }
+          seedHex: r.seedHex,
+          engineId: study.engine.id,
+          engineVersion: study.engine.version,
+          host,
+        }),
+      frames: (rowId, frames) => store.appendFrames(rowId, frames),
+      finish: (r, rowId, outcome) => {
+        store.finishRealisation(rowId, outcome);
+        if (outcome.status === "failed") failures.push(failureSummary(study, r, outcome));
+        else completed++;
+        opts.onFinished?.(r, outcome, completed + failures.length, todo.length);
+      },
+    });
     return {
       planned: slice.length,
       skipped: slice.length - todo.length,
@@ -147,92 +114,6 @@ export async function executeSlice(
   } finally {
     store.close();
   }
-}
-
-type WorkerMessage =
-  | { type: "frames"; id: number; frames: FrameRow[] }
-  | { type: "outcome"; id: number; outcome: RealisationOutcome };
-
-/** Runs `todo` on `n` module workers; storage stays in this thread (the only writer). */
-function runInWorkers(
-  study: NormalizedStudy,
-  todo: readonly PlannedRealisation[],
-  n: number,
-  begin: (r: PlannedRealisation) => number,
-  frames: (rowId: number, frames: FrameRow[]) => void,
-  finish: (r: PlannedRealisation, rowId: number, outcome: RealisationOutcome) => void,
-): Promise<void> {
-  return new Promise<void>((resolve, reject) => {
-    let next = 0;
-    let active = 0;
-    const workers: Worker[] = [];
-    const jobs = new Map<Worker, { id: number; r: PlannedRealisation; rowId: number }>();
-    const end = (error?: unknown) => {
-      for (const w of workers) w.terminate();
-      if (error === undefined) resolve();
-      else reject(error);
-    };
-    const dispatch = (w: Worker) => {
-      if (next >= todo.length) {
-        if (active === 0) end();
-        return;
-      }
-      const id = next++;
-      const r = todo[id];
-      const rowId = begin(r);
-      jobs.set(w, { id, r, rowId });
-      active++;
-      w.postMessage({ type: "task", id, task: taskFor(study, r) });
-    };
-    const spawn = (): Worker => {
-      const w = new Worker(new URL("../worker.ts", import.meta.url).href, { type: "module" });
-      w.onmessage = (ev: MessageEvent<WorkerMessage>) => {
-        const job = jobs.get(w);
-        if (!job || job.id !== ev.data.id) return;
-        try {
-          if (ev.data.type === "frames") {
-            frames(job.rowId, ev.data.frames);
-            return;
-          }
-          jobs.delete(w);
-          active--;
-          finish(job.r, job.rowId, ev.data.outcome);
-          dispatch(w);
-        } catch (e) {
-          end(e);
-        }
-      };
-      w.onerror = (ev: ErrorEvent) => {
-        ev.preventDefault();
-        const job = jobs.get(w);
-        w.terminate();
-        const replacement = spawn();
-        workers[workers.indexOf(w)] = replacement;
-        try {
-          if (job) {
-            jobs.delete(w);
-            active--;
-            finish(job.r, job.rowId, {
-              status: "failed",
-              failureKind: "exception",
-              error: `worker crashed: ${ev.message}`,
-              wallSeconds: 0,
-              simTimeReached: Number.NaN,
-              scalars: {},
-              series: {},
-              events: [],
-            });
-          }
-          dispatch(replacement);
-        } catch (e) {
-          end(e);
-        }
-      };
-      return w;
-    };
-    for (let i = 0; i < n; i++) workers.push(spawn());
-    for (const w of [...workers]) dispatch(w);
-  });
 }
 
 /**

@@ -1,0 +1,119 @@
+/**
+ * The worker pool shared by local runs (`runner.ts`) and cluster array tasks (`executors/shard.ts`): module
+ * workers compute realisations (`worker.ts` → `executeRealisation`), this thread — the only writer — stores
+ * what they send through the hooks. A crashed worker fails its realisation with the reason and is replaced;
+ * aborting terminates the workers and resolves with `interrupted: true` (the caller discards unfinished rows).
+ */
+import type { NormalizedStudy } from "./normalize.ts";
+import type { PlannedRealisation } from "./plan.ts";
+import { taskFor } from "./runner.ts";
+import type { FrameRow, RealisationOutcome } from "../store/db.ts";
+
+/** What the pool asks of its caller, always on this thread. */
+export interface PoolHooks {
+  /** Records the start of a realisation; returns its row id. */
+  begin(r: PlannedRealisation): number;
+  /** Stores a batch of frames of a running realisation. */
+  frames(rowId: number, frames: FrameRow[]): void;
+  /** Stores a realisation's outcome. */
+  finish(r: PlannedRealisation, rowId: number, outcome: RealisationOutcome): void;
+}
+
+type WorkerMessage =
+  | { type: "frames"; id: number; frames: FrameRow[] }
+  | { type: "outcome"; id: number; outcome: RealisationOutcome };
+
+/** Runs `todo` on up to `workers` module workers; rejects if a hook throws. */
+export function runRealisations(
+  study: NormalizedStudy,
+  todo: readonly PlannedRealisation[],
+  workers: number,
+  hooks: PoolHooks,
+  signal?: AbortSignal,
+): Promise<{ interrupted: boolean }> {
+  return new Promise((resolve, reject) => {
+    let next = 0;
+    let active = 0;
+    let ended = false;
+    const pool: Worker[] = [];
+    const jobs = new Map<Worker, { id: number; r: PlannedRealisation; rowId: number }>();
+    const end = (interrupted: boolean, error?: unknown) => {
+      if (ended) return;
+      ended = true;
+      for (const w of pool) w.terminate();
+      signal?.removeEventListener("abort", onAbort);
+      if (error === undefined) resolve({ interrupted });
+      else reject(error);
+    };
+    const onAbort = () => end(true);
+    if (signal?.aborted) return end(true);
+    signal?.addEventListener("abort", onAbort);
+
+    const dispatch = (w: Worker) => {
+      if (ended) return;
+      if (next >= todo.length) {
+        if (active === 0) end(false);
+        return;
+      }
+      const id = next++;
+      const r = todo[id];
+      const rowId = hooks.begin(r);
+      jobs.set(w, { id, r, rowId });
+      active++;
+      w.postMessage({ type: "task", id, task: taskFor(study, r) });
+    };
+    const crashed = (message: string): RealisationOutcome => ({
+      status: "failed",
+      failureKind: "exception",
+      error: `worker crashed: ${message}`,
+      wallSeconds: 0,
+      simTimeReached: Number.NaN,
+      scalars: {},
+      series: {},
+      events: [],
+    });
+    const spawn = (): Worker => {
+      const w = new Worker(new URL("./worker.ts", import.meta.url).href, { type: "module" });
+      w.onmessage = (ev: MessageEvent<WorkerMessage>) => {
+        if (ended) return;
+        const job = jobs.get(w);
+        if (!job || job.id !== ev.data.id) return;
+        try {
+          if (ev.data.type === "frames") {
+            hooks.frames(job.rowId, ev.data.frames);
+            return;
+          }
+          jobs.delete(w);
+          active--;
+          hooks.finish(job.r, job.rowId, ev.data.outcome);
+          dispatch(w);
+        } catch (e) {
+          end(false, e);
+        }
+      };
+      w.onerror = (ev: ErrorEvent) => {
+        ev.preventDefault();
+        if (ended) return;
+        const job = jobs.get(w);
+        w.terminate();
+        const replacement = spawn();
+        pool[pool.indexOf(w)] = replacement;
+        try {
+          if (job) {
+            jobs.delete(w);
+            active--;
+            hooks.finish(job.r, job.rowId, crashed(ev.message));
+          }
+          dispatch(replacement);
+        } catch (e) {
+          end(false, e);
+        }
+      };
+      return w;
+    };
+    if (todo.length === 0) return end(false);
+    const n = Math.max(1, Math.min(workers, todo.length));
+    for (let i = 0; i < n; i++) pool.push(spawn());
+    for (const w of [...pool]) dispatch(w);
+  });
+}
