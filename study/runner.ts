@@ -26,7 +26,7 @@ import type { NormalizedStudy } from "./normalize.ts";
 import { type PlannedRealisation, planStudy } from "./plan.ts";
 import type { RealisationTask } from "./execute.ts";
 import type { RealisationOutcome } from "../store/db.ts";
-import { runRealisations } from "./pool.ts";
+import { type PoolHooks, runRealisations } from "./pool.ts";
 import { StudyStore } from "../store/db.ts";
 import { canonicalJson } from "./hash.ts";
 import type { Progress } from "./progress.ts";
@@ -186,6 +186,40 @@ interface PoolResult {
   interrupted: boolean;
 }
 
+/**
+ * Pool hooks that store into `store` (the only writer) and count outcomes; `onFinished` runs after each
+ * realisation is stored, with the number finished so far.
+ */
+export function storingHooks(
+  store: StudyStore,
+  study: NormalizedStudy,
+  host: string,
+  onFinished: (r: PlannedRealisation, outcome: RealisationOutcome, finished: number) => void,
+): { hooks: PoolHooks; failures: FailureSummary[]; completed: () => number } {
+  const failures: FailureSummary[] = [];
+  let completed = 0;
+  const hooks: PoolHooks = {
+    begin: (r) =>
+      store.beginRealisation({
+        key: r.key,
+        pointHash: r.pointHash,
+        index: r.index,
+        seedHex: r.seedHex,
+        engineId: study.engine.id,
+        engineVersion: study.engine.version,
+        host,
+      }),
+    frames: (rowId, frames) => store.appendFrames(rowId, frames),
+    finish: (r, rowId, outcome) => {
+      store.finishRealisation(rowId, outcome);
+      if (outcome.status === "failed") failures.push(failureSummary(study, r, outcome));
+      else completed++;
+      onFinished(r, outcome, completed + failures.length);
+    },
+  };
+  return { hooks, failures, completed: () => completed };
+}
+
 async function runPool(
   study: NormalizedStudy,
   todo: readonly PlannedRealisation[],
@@ -194,33 +228,15 @@ async function runPool(
   total: number,
   skipped: number,
 ): Promise<PoolResult> {
-  const host = hostName();
-  const failures: FailureSummary[] = [];
-  let completed = 0;
   opts.progress.start(total, skipped);
   try {
-    const { interrupted } = await runRealisations(study, todo, opts.workers, {
-      begin: (r) =>
-        store.beginRealisation({
-          key: r.key,
-          pointHash: r.pointHash,
-          index: r.index,
-          seedHex: r.seedHex,
-          engineId: study.engine.id,
-          engineVersion: study.engine.version,
-          host,
-        }),
-      frames: (rowId, frames) => store.appendFrames(rowId, frames),
-      finish: (r, rowId, outcome) => {
-        store.finishRealisation(rowId, outcome);
-        if (outcome.status === "failed") failures.push(failureSummary(study, r, outcome));
-        else completed++;
-        opts.progress.update(skipped + completed + failures.length, failures.length);
-      },
-    }, opts.signal);
+    const run = storingHooks(store, study, hostName(), (_r, _o, finished) => {
+      opts.progress.update(skipped + finished, run.failures.length);
+    });
+    const { interrupted } = await runRealisations(study, todo, opts.workers, run.hooks, opts.signal);
     // Finished realisations are committed; the ones in flight are discarded and rerun next time.
     if (interrupted) store.discardUnfinished();
-    return { completed, failures, interrupted };
+    return { completed: run.completed(), failures: run.failures, interrupted };
   } finally {
     opts.progress.stop();
   }

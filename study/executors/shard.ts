@@ -19,7 +19,7 @@
  */
 import { type PlannedRealisation, planStudy } from "../plan.ts";
 import type { NormalizedStudy } from "../normalize.ts";
-import { type FailureSummary, failureSummary, hostName, type Provenance, recordStudy } from "../runner.ts";
+import { type FailureSummary, hostName, type Provenance, recordStudy, storingHooks } from "../runner.ts";
 import { runRealisations } from "../pool.ts";
 import { type RealisationOutcome, StudyStore } from "../../store/db.ts";
 import { ExecutorError } from "./errors.ts";
@@ -83,27 +83,12 @@ export async function executeSlice(
     const statuses = store.realisationStatuses();
     const todo = slice.filter((r) => statuses.get(r.key) !== "done");
     const host = opts.host ?? hostName();
-    const failures: FailureSummary[] = [];
-    let completed = 0;
-    await runRealisations(study, todo, opts.workers ?? 1, {
-      begin: (r) =>
-        store.beginRealisation({
-          key: r.key,
-          pointHash: r.pointHash,
-          index: r.index,
-          seedHex: r.seedHex,
-          engineId: study.engine.id,
-          engineVersion: study.engine.version,
-          host,
-        }),
-      frames: (rowId, frames) => store.appendFrames(rowId, frames),
-      finish: (r, rowId, outcome) => {
-        store.finishRealisation(rowId, outcome);
-        if (outcome.status === "failed") failures.push(failureSummary(study, r, outcome));
-        else completed++;
-        opts.onFinished?.(r, outcome, completed + failures.length, todo.length);
-      },
+    const run = storingHooks(store, study, host, (r, outcome, finished) => {
+      opts.onFinished?.(r, outcome, finished, todo.length);
     });
+    await runRealisations(study, todo, opts.workers ?? 1, run.hooks);
+    const completed = run.completed();
+    const failures = run.failures;
     return {
       planned: slice.length,
       skipped: slice.length - todo.length,
