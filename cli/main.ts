@@ -409,7 +409,7 @@ Typical session:
         return;
       }
       const res = await analyseAndReport(dbPath, { out: defaultReportPath(dbPath) });
-      for (const line of res.lines) out(line);
+      for (const line of res.lines.filter((l) => !l.startsWith("next:"))) out(line);
       out(`report: ${res.html}`);
       out(`charts as SVG: ${res.svgDir}`);
       if (report.failed) Deno.exitCode = 1;
