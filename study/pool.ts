@@ -37,6 +37,8 @@ export function runRealisations(
     let ended = false;
     const pool: Worker[] = [];
     const jobs = new Map<Worker, { id: number; r: PlannedRealisation; rowId: number }>();
+    /** Per worker: frame batches stored so far (shared with the worker for back-pressure, see worker.ts). */
+    const written = new Map<Worker, Int32Array>();
     const end = (interrupted: boolean, error?: unknown) => {
       if (ended) return;
       ended = true;
@@ -60,7 +62,7 @@ export function runRealisations(
       const rowId = hooks.begin(r);
       jobs.set(w, { id, r, rowId });
       active++;
-      w.postMessage({ type: "task", id, task: taskFor(study, r) });
+      w.postMessage({ type: "task", id, task: taskFor(study, r), written: written.get(w) });
     };
     const crashed = (message: string): RealisationOutcome => ({
       status: "failed",
@@ -74,6 +76,8 @@ export function runRealisations(
     });
     const spawn = (): Worker => {
       const w = new Worker(new URL("./worker.ts", import.meta.url).href, { type: "module" });
+      const counter = new Int32Array(new SharedArrayBuffer(4));
+      written.set(w, counter);
       w.onmessage = (ev: MessageEvent<WorkerMessage>) => {
         if (ended) return;
         const job = jobs.get(w);
@@ -81,6 +85,8 @@ export function runRealisations(
         try {
           if (ev.data.type === "frames") {
             hooks.frames(job.rowId, ev.data.frames);
+            Atomics.add(counter, 0, 1);
+            Atomics.notify(counter, 0);
             return;
           }
           jobs.delete(w);

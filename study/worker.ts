@@ -1,22 +1,37 @@
 /// <reference lib="deno.worker" />
 /**
- * Worker entry: computes realisations sent by the runner and posts back frame batches and outcomes.
- * Messages in:  { type: "task", id, task: RealisationTask }
+ * Worker entry: computes realisations sent by the pool (`pool.ts`) and posts back frame batches and outcomes.
+ * Messages in:  { type: "task", id, task: RealisationTask, written: Int32Array on a SharedArrayBuffer }
  * Messages out: { type: "frames", id, frames } (buffers transferred), { type: "outcome", id, outcome }
+ *
+ * Back-pressure: `written[0]` counts the frame batches the main thread has stored. A worker that runs ahead
+ * (fast engines, e.g. imported files) waits once MAX_IN_FLIGHT batches are unwritten, so frames never pile up
+ * in memory between the threads.
  */
 import { executeRealisation, type RealisationTask } from "./execute.ts";
 import type { FrameRow } from "../store/db.ts";
+
+/** Frame batches (≤ 4 MiB each) that may be posted but not yet stored. */
+const MAX_IN_FLIGHT = 4;
 
 interface TaskMessage {
   readonly type: "task";
   readonly id: number;
   readonly task: RealisationTask;
+  readonly written: Int32Array;
 }
 
 self.onmessage = async (ev: MessageEvent<TaskMessage>) => {
-  const { id, task } = ev.data;
+  const { id, task, written } = ev.data;
+  let posted = Atomics.load(written, 0);
   const outcome = await executeRealisation(task, (frames: FrameRow[]) => {
+    for (;;) {
+      const done = Atomics.load(written, 0);
+      if (posted - done < MAX_IN_FLIGHT) break;
+      Atomics.wait(written, 0, done, 100);
+    }
     self.postMessage({ type: "frames", id, frames }, frames.map((f) => f.data.buffer as ArrayBuffer));
+    posted++;
   });
   self.postMessage({ type: "outcome", id, outcome });
 };
