@@ -9,6 +9,7 @@
  * lines.forEach((l) => console.log(l));
  * ```
  */
+import { chi2FromDecayStudy } from "../study/_analyse_decay.ts";
 import { analyseStudy, AnalysisInputError, type AnalysisSummary, type Estimate } from "../study/analyse.ts";
 import { StoreReadError } from "../store/reads.ts";
 import { writeReport } from "../reports/mod.ts";
@@ -20,6 +21,8 @@ export interface AnalyseCommandOptions {
   readonly replicates?: number;
   readonly seed?: string;
   readonly chi2?: string;
+  /** Database of a homogeneous decay study to estimate χ₂ from (instead of `chi2`). */
+  readonly chi2From?: string;
   readonly chi2Range?: string;
   readonly vinenReplicates?: number;
   readonly sensitivity?: boolean;
@@ -59,13 +62,29 @@ export function userFacing(e: unknown, dbPath: string): unknown {
 /** Runs the analysis and returns the lines to print (a table of D/κ per point). */
 export async function analyseCommand(dbPath: string, o: AnalyseCommandOptions): Promise<string[]> {
   let summary: AnalysisSummary;
+  const head: string[] = [];
+  if (o.chi2 !== undefined && o.chi2From !== undefined) {
+    throw new UserError("give either --chi2 or --chi2-from, not both");
+  }
+  let chi2 = parseChi2(o.chi2);
+  let chi2Interval = parseRange(o.chi2Range);
+  if (o.chi2From !== undefined) {
+    try {
+      const est = chi2FromDecayStudy(o.chi2From, { seed: o.seed });
+      chi2 = est.chi2;
+      chi2Interval ??= est.interval ? [est.interval[0], est.interval[1]] : undefined;
+      head.push(est.source);
+    } catch (e) {
+      throw userFacing(e, o.chi2From);
+    }
+  }
   try {
     summary = await analyseStudy(dbPath, {
       studyId: o.study,
       seed: o.seed,
       replicates: o.replicates,
-      chi2: parseChi2(o.chi2),
-      chi2Interval: parseRange(o.chi2Range),
+      chi2,
+      chi2Interval,
       vinenReplicates: o.vinenReplicates,
       sensitivity: o.sensitivity,
       correlations: o.correlations,
@@ -74,7 +93,7 @@ export async function analyseCommand(dbPath: string, o: AnalyseCommandOptions): 
   } catch (e) {
     throw userFacing(e, dbPath);
   }
-  return formatSummary(summary, dbPath);
+  return [...head, ...formatSummary(summary, dbPath)];
 }
 
 function estimateText(e: Estimate): string {
