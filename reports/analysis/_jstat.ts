@@ -52,9 +52,10 @@ export function chiSquareCdf(x: number, dof: number): number {
   return jStat.chisquare.cdf(x, dof);
 }
 
-/** Student-t quantile t_{p,ν}. */
+/** Student-t quantile t_{p,ν}; ν = ∞ gives the normal quantile. */
 export function studentTQuantile(p: number, dof: number): number {
   checkProbability(p, "studentTQuantile");
+  if (dof === Infinity) return jStat.normal.inv(p, 0, 1);
   checkDof(dof, "studentTQuantile");
   return jStat.studentt.inv(p, dof);
 }

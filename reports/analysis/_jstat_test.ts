@@ -2,33 +2,7 @@ import assert from "node:assert/strict";
 import { assertClose } from "./_check.ts";
 import { chiSquareCdf, chiSquareQuantile, normalCdf, normalQuantile, studentTQuantile } from "./_jstat.ts";
 
-Deno.test("studentTQuantile matches the tabulated two-sided 95% quantiles t_{0.975,ν}", () => {
-  // check-values §6.3 (Abramowitz & Stegun 1964, Table 26.10; NIST/SEMATECH e-Handbook §1.3.6.7.2), 4
-  // decimals.
-  const table: [number, number][] = [
-    [1, 12.7062],
-    [2, 4.3027],
-    [3, 3.1824],
-    [4, 2.7764],
-    [5, 2.5706],
-    [6, 2.4469],
-    [7, 2.3646],
-    [8, 2.3060],
-    [9, 2.2622],
-    [10, 2.2281],
-    [12, 2.1788],
-    [15, 2.1314],
-    [19, 2.0930],
-    [20, 2.0860],
-    [24, 2.0639],
-    [29, 2.0452],
-    [30, 2.0423],
-    [40, 2.0211],
-    [60, 2.0003],
-    [120, 1.9799],
-  ];
-  for (const [nu, t] of table) assertClose(studentTQuantile(0.975, nu), t, { abs: 6e-5 }, `t_{0.975,${nu}}`);
-});
+// The Student-t table check (check-values §6.3) lives in reports/intervals_test.ts, which uses this wrapper.
 
 Deno.test("normalQuantile and normalCdf give the standard 1.959964 and are inverse to each other", () => {
   // Abramowitz & Stegun 1964, Table 26.5: Φ⁻¹(0.975) = 1.959964.
