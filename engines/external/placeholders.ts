@@ -32,6 +32,7 @@
  * // "--seed 12345 --D 0.25"
  * ```
  */
+import { editDistance } from "../_edit_distance.ts";
 import type { JsonValue, RunControls } from "../contract.ts";
 
 /** Placeholders without a dot. */
@@ -79,22 +80,6 @@ export class PlaceholderError extends Error {
     super(message);
     this.name = "PlaceholderError";
   }
-}
-
-/** Levenshtein distance (Wagner–Fischer; common practice, no source), for typo detection on short names. */
-function editDistance(a: string, b: string): number {
-  const prev = new Array<number>(b.length + 1);
-  for (let j = 0; j <= b.length; j++) prev[j] = j;
-  for (let i = 1; i <= a.length; i++) {
-    let diag = prev[0];
-    prev[0] = i;
-    for (let j = 1; j <= b.length; j++) {
-      const up = prev[j];
-      prev[j] = Math.min(prev[j] + 1, prev[j - 1] + 1, diag + (a[i - 1] === b[j - 1] ? 0 : 1));
-      diag = up;
-    }
-  }
-  return prev[b.length];
 }
 
 /** The placeholder a misspelt brace word was probably meant to be, or null when it is ordinary text. */

@@ -1,25 +1,10 @@
 /** Message helpers shared by the readers (private). */
+import { editDistance as distance } from "../_edit_distance.ts";
 import { EngineFailure } from "../contract.ts";
 
 /** Throws the failure every bad input becomes: the realisation fails with this message, others go on. */
 export function fail(message: string): never {
   throw new EngineFailure("invalid-state", message);
-}
-
-/** Levenshtein distance (Wagner–Fischer), for "did you mean" suggestions on short names. */
-function distance(a: string, b: string): number {
-  const prev = new Array<number>(b.length + 1);
-  for (let j = 0; j <= b.length; j++) prev[j] = j;
-  for (let i = 1; i <= a.length; i++) {
-    let diag = prev[0];
-    prev[0] = i;
-    for (let j = 1; j <= b.length; j++) {
-      const up = prev[j];
-      prev[j] = Math.min(prev[j] + 1, prev[j - 1] + 1, diag + (a[i - 1] === b[j - 1] ? 0 : 1));
-      diag = up;
-    }
-  }
-  return prev[b.length];
 }
 
 /** " (did you mean 'X'?)" for the closest candidate (case-insensitive match first, then edit distance ≤ 2). */
