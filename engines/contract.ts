@@ -158,6 +158,8 @@ export interface Engine<P = unknown> {
     readonly circulation?: number;
     /** Constant β of the ring speed (κ/4πR)[ln(8R/a₀) − β] this engine's velocity model reproduces. */
     readonly ringConstant?: number;
+    /** The units these parameters put the results in, when they differ from `capabilities.units`. */
+    readonly units?: Readonly<{ length: string; time: string; circulation: string }>;
   };
   /**
    * Runs one realisation, streaming frames into the sink in time order. Compute engines are synchronous;

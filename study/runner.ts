@@ -123,7 +123,9 @@ export function recordStudy(store: StudyStore, study: NormalizedStudy, provenanc
       denoVersion: provenance.denoVersion,
       gitCommit: provenance.gitCommit,
       notes: skipped.map((s) => ({ kind: "observable-skipped", id: s.id, reason: s.reason })),
-      units: engine?.capabilities.units,
+      units:
+        (study.points.length > 0 ? engine?.scales?.(study.points[0].params as never)?.units : undefined) ??
+          engine?.capabilities.units,
     },
     study.points.map((p) => ({
       pointIndex: p.index,

@@ -45,7 +45,14 @@ const ENGINE_VERSION = "1.0.0";
 export const filamentEngine: Engine<FilamentParams> = {
   scales(params: FilamentParams) {
     const s = resolveSettings(params);
-    return { coreRadius: s.coreRadius, circulation: s.kappa, ringConstant: ringConstant(params.velocity) };
+    return {
+      coreRadius: s.coreRadius,
+      circulation: s.kappa,
+      ringConstant: ringConstant(params.velocity),
+      units: params.units === "physical"
+        ? { length: "m", time: "s", circulation: "m²/s" }
+        : { length: "ℓ", time: "ℓ²/κ", circulation: "κ" },
+    };
   },
   id: "vortex-filament-3d",
   version: ENGINE_VERSION,

@@ -39,6 +39,10 @@ export const pointVortexEngine: Engine<PointVortexParams> = {
     units: { length: "ℓ (the study's length unit)", time: "ℓ²/κ", circulation: "κ" },
   },
   paramsSchema: pointVortexParamsSchema,
+  scales(params) {
+    const l = params.lengthUnit;
+    return { units: { length: l, time: l.length === 1 ? `${l}²/κ` : `(${l})²/κ`, circulation: "κ" } };
+  },
   run(input, sink) {
     return simulate(input, sink);
   },
