@@ -91,7 +91,15 @@ Deno.test("imported-tracks-2d: a 2e6-row CSV streams with memory far below the f
     const fileBytes = await writeLargeCsv(path);
     const tWrite = performance.now() - t0;
     const out = await new Deno.Command(Deno.execPath(), {
-      args: ["run", "--quiet", "--allow-read", new URL(import.meta.url).pathname, path],
+      // A V8 heap capped far below the file size: a reader that kept the file or its rows runs out of memory.
+      args: [
+        "run",
+        "--quiet",
+        "--allow-read",
+        "--v8-flags=--max-old-space-size=48",
+        new URL(import.meta.url).pathname,
+        path,
+      ],
       stdout: "piped",
       stderr: "piped",
       env: { DENO_NO_UPDATE_CHECK: "1" },
@@ -110,15 +118,16 @@ Deno.test("imported-tracks-2d: a 2e6-row CSV streams with memory far below the f
     assertEquals(m.frames, TIMES);
     assertEquals(m.rows, VORTICES * TIMES);
     assert(Number.isFinite(m.checksum));
-    // Bounds: half the file size (≈ 48 MB; a reader that kept the file or its rows would exceed the file size —
-    // measured in a fresh process: ≈ 24 MB rss, most of it start-up of the reader and JIT, and 6–12 MB heap,
-    // mostly young garbage), and no growth to speak of after the first quarter of the file (measured ≈ 0.2 MB):
+    // Bounds: the import completed with a 48 MB heap cap for a ≈ 97 MB file; growth below half the file size
+    // (≈ 48 MB; measured in a fresh process: ≈ 24 MB rss, most of it start-up of the reader and JIT, and 6–12 MB
+    // heap, mostly young garbage); and after the first quarter of the file, growth below a quarter of the file
+    // (measured 0.2–14 MB depending on when the collector runs; a reader keeping rows would add ≈ 70 MB or more):
     // memory does not grow with the file's length.
     const bound = fileBytes / 2;
     assert(m.rssGrowth < bound, `rss grew by ${mb(m.rssGrowth)} MB, bound ${mb(bound)} MB`);
     assert(m.heapGrowth < bound, `heap grew by ${mb(m.heapGrowth)} MB, bound ${mb(bound)} MB`);
     assert(
-      m.lateRssGrowth < fileBytes / 8,
+      m.lateRssGrowth < fileBytes / 4,
       `rss grew by ${mb(m.lateRssGrowth)} MB after the first quarter of the file`,
     );
   } finally {
