@@ -12,6 +12,7 @@ import { type RunReport, runStudy } from "../study/runner.ts";
 import { describeFirstRealisation } from "../study/describe.ts";
 import { createProgress } from "../study/progress.ts";
 import { StoreError } from "../store/db.ts";
+import { StoreReadError } from "../store/reads.ts";
 import { studyStatus } from "../store/status.ts";
 import { writeReport } from "../reports/mod.ts";
 import { provenance, TOOL_VERSION } from "./provenance.ts";
@@ -440,7 +441,7 @@ export async function main(args: string[]): Promise<void> {
         Deno.exitCode = 0;
       } else Deno.exitCode = 2;
     } else if (e instanceof UserError) fail(e.message, e.hint);
-    else if (e instanceof StoreError) fail(e.message);
+    else if (e instanceof StoreError || e instanceof StoreReadError) fail(e.message);
     else if (e instanceof cluster.ExecutorError) fail(e.message, e.hint);
     else {
       const err = e as Error;

@@ -1,10 +1,11 @@
 /** `spindrift query`: read-only SQL over a study database, printed as a table, CSV or JSON. */
-import { DatabaseSync } from "node:sqlite";
+import type { DatabaseSync } from "node:sqlite";
+import { openStoreReadOnly, StoreReadError } from "../store/reads.ts";
 import { UserError } from "./errors.ts";
 
 export type QueryFormat = "table" | "csv" | "json";
 
-/** Opens a database read-only, with a clear message when the file is missing. */
+/** Opens a study database read-only, with a clear message when it is missing or not a study database. */
 export function openReadOnly(path: string): DatabaseSync {
   try {
     Deno.statSync(path);
@@ -12,9 +13,12 @@ export function openReadOnly(path: string): DatabaseSync {
     throw new UserError(`database ${path} does not exist`, "run the study first: spindrift run STUDY.yaml");
   }
   try {
-    return new DatabaseSync(path, { readOnly: true });
+    return openStoreReadOnly(path);
   } catch (e) {
-    throw new UserError(`cannot open database ${path}: ${(e as Error).message}`);
+    if (e instanceof StoreReadError) {
+      throw new UserError(e.message, "give the .sqlite file that 'spindrift run' wrote for the study");
+    }
+    throw e;
   }
 }
 
