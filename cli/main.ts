@@ -133,8 +133,9 @@ export function buildProgram(): Command {
   const program = new Command()
     .name("spindrift")
     .description(
-      "Parameter studies of spreading quantized-vortex clouds: define a study once (YAML), run every\n" +
-        "realisation reproducibly on all cores, keep them in an SQLite database, and write report pages.",
+      "Parameter studies of spreading quantized-vortex clouds: define a study once (YAML), run every " +
+        "realisation reproducibly on all cores (or a Slurm cluster), keep them in an SQLite database, estimate " +
+        "diffusion coefficients with confidence intervals, and write report pages.",
     )
     .version(TOOL_VERSION, "-V, --version", "print the spindrift version")
     .helpOption("-h, --help", "show help for a command")
