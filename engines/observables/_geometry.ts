@@ -253,3 +253,25 @@ function swap(a: Float64Array, i: number, j: number): void {
   a[i] = a[j];
   a[j] = t;
 }
+
+/**
+ * Second half of a counting sort into hash-grid buckets: `start[b + 1]` holds the count of bucket b on entry
+ * (start[0] = 0); on return `start[b]` is the first slot of bucket b in `order`, which lists the objects i with
+ * `bucketOf[i] ≥ 0` bucket by bucket. No allocation.
+ */
+export function fillBuckets(
+  n: number,
+  nb: number,
+  bucketOf: Int32Array,
+  start: Int32Array,
+  order: Int32Array,
+): void {
+  for (let b = 0; b < nb; b++) start[b + 1] += start[b];
+  // Fill `order` using the starts as running cursors, then restore the starts.
+  for (let i = 0; i < n; i++) {
+    const b = bucketOf[i];
+    if (b >= 0) order[start[b]++] = i;
+  }
+  for (let b = nb; b > 0; b--) start[b] = start[b - 1];
+  start[0] = 0;
+}

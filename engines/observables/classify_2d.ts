@@ -46,7 +46,7 @@
  */
 import type { EngineEvent, Frame } from "../contract.ts";
 import { assertClassificationConfig } from "./_config.ts";
-import { ensureI32, ensureU8, newCentreResult, trimmedCentre } from "./_geometry.ts";
+import { ensureI32, ensureU8, fillBuckets, newCentreResult, trimmedCentre } from "./_geometry.ts";
 import { IdTable } from "./_id_table.ts";
 import type { Classification, Classifier, ObservableContext } from "./contract.ts";
 import { Label } from "./labels.ts";
@@ -391,14 +391,7 @@ class DipoleClassifier implements Classifier {
       bucketOf[i] = b;
       start[b + 1]++;
     }
-    for (let b = 0; b < nb; b++) start[b + 1] += start[b];
-    // Fill `order` using bucketStart as running cursors, then restore the starts.
-    for (let i = 0; i < n; i++) {
-      const b = bucketOf[i];
-      if (b >= 0) order[start[b]++] = i;
-    }
-    for (let b = nb; b > 0; b--) start[b] = start[b - 1];
-    start[0] = 0;
+    fillBuckets(n, nb, bucketOf, start, order);
     const r2 = radius * radius;
     for (let i = 0; i < n; i++) {
       if (bucketOf[i] < 0) continue;

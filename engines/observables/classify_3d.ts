@@ -52,6 +52,7 @@ import {
   ensureF64,
   ensureI32,
   ensureU8,
+  fillBuckets,
   loopSegments,
   loopStarts,
   medianInPlace,
@@ -538,13 +539,7 @@ class LoopClassifier implements Classifier {
         bucketOf[i] = bk;
         start[bk + 1]++;
       }
-      for (let k = 0; k < nb; k++) start[k + 1] += start[k];
-      for (let i = 0; i < n; i++) {
-        const bk = bucketOf[i];
-        if (bk >= 0) order[start[bk]++] = i;
-      }
-      for (let k = nb; k > 0; k--) start[k] = start[k - 1];
-      start[0] = 0;
+      fillBuckets(n, nb, bucketOf, start, order);
       this.#gridBuilt = true;
     }
     const inv = this.#gridInv;
