@@ -7,6 +7,8 @@
 import { createHash } from "node:crypto";
 import { DatabaseSync } from "node:sqlite";
 import { SCHEMA_SQL, SCHEMA_VERSION } from "../store/schema.ts";
+import { openStoreReadOnly } from "../store/reads.ts";
+import { aggregateStudy, type StudyAggregate } from "./aggregate.ts";
 
 export interface FixtureRealisation {
   readonly index: number;
@@ -351,4 +353,20 @@ export function tinyStudy(): FixtureStudy {
       },
     ],
   };
+}
+
+/** Aggregate of a fixture study, via a temporary database (for tests of charts and pages). */
+export function aggregateOf(study: FixtureStudy): StudyAggregate {
+  const dir = Deno.makeTempDirSync();
+  try {
+    writeFixtureDb(`${dir}/s.sqlite`, study);
+    const db = openStoreReadOnly(`${dir}/s.sqlite`);
+    try {
+      return aggregateStudy(db);
+    } finally {
+      db.close();
+    }
+  } finally {
+    Deno.removeSync(dir, { recursive: true });
+  }
 }

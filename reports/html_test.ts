@@ -1,7 +1,7 @@
 import assert from "node:assert/strict";
 import { openStoreReadOnly } from "../store/reads.ts";
 import { aggregateStudy, type StudyAggregate } from "./aggregate.ts";
-import { type FixtureStudy, syntheticStudy, tinyStudy, writeFixtureDb } from "./_fixture.ts";
+import { aggregateOf, type FixtureStudy, syntheticStudy, tinyStudy, writeFixtureDb } from "./_fixture.ts";
 import {
   escapeHtml,
   formatInterval,
@@ -14,21 +14,6 @@ import {
 import { meanInterval } from "./intervals.ts";
 import { compileChart } from "./render.ts";
 import { buildCharts } from "./specs.ts";
-
-function aggregateOf(study: FixtureStudy): StudyAggregate {
-  const dir = Deno.makeTempDirSync();
-  try {
-    writeFixtureDb(`${dir}/s.sqlite`, study);
-    const db = openStoreReadOnly(`${dir}/s.sqlite`);
-    try {
-      return aggregateStudy(db);
-    } finally {
-      db.close();
-    }
-  } finally {
-    Deno.removeSync(dir, { recursive: true });
-  }
-}
 
 function page(agg: StudyAggregate, runtime = "/* vega runtime stand-in */"): string {
   const charts: RenderedChart[] = buildCharts(agg).map((chart) => ({

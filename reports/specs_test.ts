@@ -1,24 +1,9 @@
 import assert from "node:assert/strict";
 import { openStoreReadOnly } from "../store/reads.ts";
 import { aggregateStudy, type StudyAggregate } from "./aggregate.ts";
-import { type FixtureStudy, syntheticStudy, tinyStudy, writeFixtureDb } from "./_fixture.ts";
+import { aggregateOf, type FixtureStudy, syntheticStudy, tinyStudy, writeFixtureDb } from "./_fixture.ts";
 import { compileChart } from "./render.ts";
 import { buildCharts, type ChartSpec } from "./specs.ts";
-
-function aggregateOf(study: FixtureStudy): StudyAggregate {
-  const dir = Deno.makeTempDirSync();
-  try {
-    writeFixtureDb(`${dir}/s.sqlite`, study);
-    const db = openStoreReadOnly(`${dir}/s.sqlite`);
-    try {
-      return aggregateStudy(db);
-    } finally {
-      db.close();
-    }
-  } finally {
-    Deno.removeSync(dir, { recursive: true });
-  }
-}
 
 // deno-lint-ignore no-explicit-any
 type Json = any;
