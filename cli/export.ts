@@ -9,26 +9,14 @@
 import { LABEL_NAMES } from "../engines/observables/labels.ts";
 import { type ExportFrame, writeFramesCsv } from "../engines/imported/mod.ts";
 import type { ByteWriter } from "../engines/imported/export_format.ts";
-import { findRealisation, iterateFrames, type StoredFrame } from "../store/frames.ts";
+import { findRealisation, frameArrays, iterateFrames, type StoredFrame } from "../store/frames.ts";
 import { openReadOnly } from "./query.ts";
 import { UserError } from "./errors.ts";
 
 export type ExportFormat = "csv" | "jsonl";
 
 function toExportFrame(f: StoredFrame): ExportFrame {
-  const c = f.columns;
-  return {
-    t: f.t,
-    n: f.n,
-    id: c.id as Int32Array,
-    x: c.x as Float64Array,
-    y: c.y as Float64Array,
-    z: (c.z as Float64Array | undefined) ?? null,
-    circulation: (c.circulation as Float64Array | undefined) ?? null,
-    loop: (c.loop as Int32Array | undefined) ?? null,
-    marker: (c.marker as Uint8Array | undefined) ?? null,
-    label: (c.label as Uint8Array | undefined) ?? null,
-  };
+  return { t: f.t, n: f.n, ...frameArrays(f) };
 }
 
 function* jsonLines(frames: Iterable<ExportFrame>): Generator<string> {

@@ -9,6 +9,33 @@ export interface StoredFrame {
   readonly columns: Readonly<Record<string, Column>>;
 }
 
+/** The standard columns of a stored frame, typed (null where the frame has no such column). */
+export interface FrameArrays {
+  readonly id: Int32Array;
+  readonly x: Float64Array;
+  readonly y: Float64Array;
+  readonly z: Float64Array | null;
+  readonly circulation: Float64Array | null;
+  readonly loop: Int32Array | null;
+  readonly marker: Uint8Array | null;
+  readonly label: Uint8Array | null;
+}
+
+/** Typed views of a stored frame's standard columns. */
+export function frameArrays(f: StoredFrame): FrameArrays {
+  const c = f.columns;
+  return {
+    id: c.id as Int32Array,
+    x: c.x as Float64Array,
+    y: c.y as Float64Array,
+    z: (c.z as Float64Array | undefined) ?? null,
+    circulation: (c.circulation as Float64Array | undefined) ?? null,
+    loop: (c.loop as Int32Array | undefined) ?? null,
+    marker: (c.marker as Uint8Array | undefined) ?? null,
+    label: (c.label as Uint8Array | undefined) ?? null,
+  };
+}
+
 /** Frames of one realisation in time order, decoded. */
 export function* iterateFrames(db: DatabaseSync, realisationId: number): Generator<StoredFrame> {
   const stmt = db.prepare("SELECT k, t, n, layout, data FROM frames WHERE realisation_id = ? ORDER BY k");

@@ -12,7 +12,7 @@ import type { ClassificationConfig } from "../engines/observables/contract.ts";
 import { createClassifier, Label, msdObservable } from "../engines/observables/mod.ts";
 import type { MsdEnsembleInput } from "../reports/analysis/msd_fit.ts";
 import type { DatabaseSync } from "node:sqlite";
-import { iterateFrames } from "../store/frames.ts";
+import { frameArrays, iterateFrames } from "../store/frames.ts";
 
 export interface ReplayContext {
   readonly capabilities: EngineCapabilities;
@@ -55,20 +55,8 @@ export function replayMsdEnsembles(
       const lag = f.t - t0;
       kList.push(f.k);
       if (!tByK.has(f.k)) tByK.set(f.k, lag);
-      const c = f.columns;
-      const frame: Frame = {
-        index: f.k,
-        t: f.t,
-        n: f.n,
-        id: c.id as Int32Array,
-        x: c.x as Float64Array,
-        y: c.y as Float64Array,
-        z: (c.z as Float64Array | undefined) ?? null,
-        circulation: (c.circulation as Float64Array | undefined) ?? null,
-        loop: (c.loop as Int32Array | undefined) ?? null,
-        marker: (c.marker as Uint8Array | undefined) ?? null,
-        diagnostics: {},
-      };
+      const { label: _label, ...arrays } = frameArrays(f);
+      const frame: Frame = { index: f.k, t: f.t, n: f.n, ...arrays, diagnostics: {} };
       for (let q = 0; q < pipes.length; q++) {
         const cls = pipes[q].classifier.classify(frame);
         pipes[q].msd.push(frame, cls);
