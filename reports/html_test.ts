@@ -1,7 +1,6 @@
 import assert from "node:assert/strict";
-import { openStoreReadOnly } from "../store/reads.ts";
-import { aggregateStudy, type StudyAggregate } from "./aggregate.ts";
-import { aggregateOf, type FixtureStudy, syntheticStudy, tinyStudy, writeFixtureDb } from "./_fixture.ts";
+import type { StudyAggregate } from "./aggregate.ts";
+import { aggregateOf, syntheticStudy, tinyStudy } from "./_fixture.ts";
 import {
   escapeHtml,
   formatInterval,

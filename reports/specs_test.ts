@@ -1,7 +1,5 @@
 import assert from "node:assert/strict";
-import { openStoreReadOnly } from "../store/reads.ts";
-import { aggregateStudy, type StudyAggregate } from "./aggregate.ts";
-import { aggregateOf, type FixtureStudy, syntheticStudy, tinyStudy, writeFixtureDb } from "./_fixture.ts";
+import { aggregateOf, type FixtureStudy, syntheticStudy, tinyStudy } from "./_fixture.ts";
 import { compileChart } from "./render.ts";
 import { buildCharts, type ChartSpec } from "./specs.ts";
 
