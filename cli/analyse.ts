@@ -107,6 +107,13 @@ function estimateText(e: Estimate): string {
   }`;
 }
 
+/** "; bootstrap: 21 % of replicates without a window (left out)" when some replicates found no regime. */
+function noRegimeText(fraction: number | null): string {
+  return fraction !== null && fraction > 0
+    ? `; bootstrap: ${Math.round(fraction * 100)} % of replicates found no window (left out of the interval)`
+    : "";
+}
+
 /** The printed summary: per point D/κ (MSD) with its interval or the reason, D_R and the Vinen D. */
 export function formatSummary(s: AnalysisSummary, dbPath: string): string[] {
   const lines = [
@@ -122,7 +129,7 @@ export function formatSummary(s: AnalysisSummary, dbPath: string): string[] {
       lines.push(
         `${pad}window [${formatNumber(p.msd.window.t1)}, ${formatNumber(p.msd.window.t2)}], τ_c = ${
           p.msd.tauC === null ? "—" : formatNumber(p.msd.tauC)
-        }`,
+        }${noRegimeText(p.msd.noRegimeFraction)}`,
       );
     }
     if (p.radius.value !== null) lines.push(`${pad}D_R/κ (R_rms): ${estimateText(p.radius)}`);

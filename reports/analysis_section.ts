@@ -185,7 +185,8 @@ function intro(ctx: Ctx): string {
   const B = num(d.replicates);
   const computed = first?.computedAt ?? "";
   const units = ctx.opts.units;
-  return `<p class="note">D from the mean-square displacement MSD = 2dDt + b over an automatically chosen ` +
+  return `<p class="note">Three estimates of the effective diffusion coefficient ν′ of the main cluster: ` +
+    `D from the mean-square displacement MSD = 2dDt + b over an automatically chosen ` +
     `window (crossover τ_c = first t with local slope α &lt; 1.2; window from 3τ_c while α stays in ` +
     `[0.85, 1.15], t₂/t₁ ≥ 5, main cluster ≥ 50 % of its size at t₁), ${
       pct(ctx.level)
@@ -197,6 +198,13 @@ function intro(ctx: Ctx): string {
     `length²/time of the study's units${
       units ? ` (${escapeHtml(units.length)}²/(${escapeHtml(units.time)}))` : ""
     }, i.e. D/κ when time is measured in ℓ²/κ. Computed ${escapeHtml(computed)}.</p>`;
+}
+
+/** Share of bootstrap replicates in which the window rule found no diffusive regime (left out of the CI). */
+function noRegimeNote(fraction: number | null): string {
+  return fraction !== null && fraction > 0
+    ? `<br><span class="no-regime">${Math.round(fraction * 100)} % of replicates without a window</span>`
+    : "";
 }
 
 function diffusionTable(ctx: Ctx): string {
@@ -217,7 +225,7 @@ function diffusionTable(ctx: Ctx): string {
       numCell(p.rows.get("msd-fit/window_end")?.value ?? null) +
       `<td class="note">${escapeHtml(method ?? "—")}${
         num(det.replicates) ? `, B = ${num(det.replicates)}` : ""
-      }${
+      }${noRegimeNote(num(det.noRegimeFraction))}${
         seed
           ? `<br><code class="seed" title="${escapeHtml(seed)}" data-seed="${escapeHtml(seed)}">${
             escapeHtml(seed.length > 20 ? `${seed.slice(0, 8)}…${seed.slice(-12)}` : seed)

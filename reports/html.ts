@@ -257,7 +257,7 @@ function paramsTable(agg: StudyAggregate): string {
 function answersSection(parts: readonly PagePart[], svgDirName: string | undefined): string {
   const body = parts.map((p) => ("rendered" in p ? figure(p.rendered, svgDirName) : p.html)).join("\n");
   return `<section id="answers">
-<h2>Answers: effective diffusion D/κ</h2>
+<h2>Answers: effective diffusion coefficient ν′/κ</h2>
 ${body}
 </section>
 `;

@@ -124,6 +124,8 @@ export interface PointAnalysis {
     readonly window: { readonly t1: number; readonly t2: number } | null;
     readonly tauC: number | null;
     readonly seed: string;
+    /** Fraction of bootstrap replicates in which the window rule found no diffusive regime (left out). */
+    readonly noRegimeFraction: number | null;
   };
   readonly radius: Estimate;
   readonly vinen: Estimate;
@@ -308,7 +310,13 @@ async function analysePoint(ctx: PointContext, rows: EnsembleResultInput[]): Pro
       const reason = ctx.ids.length === 0
         ? "no done realisation at this point"
         : "no done realisation recorded the 'msd' series (add msd to observables.record)";
-      msd = { ...missing("not-available", reason), window: null, tauC: null, seed: msdSeed };
+      msd = {
+        ...missing("not-available", reason),
+        window: null,
+        tauC: null,
+        seed: msdSeed,
+        noRegimeFraction: null,
+      };
       radius = missing("not-available", reason);
     } else {
       ctx.progress(`  MSD fit with ${ctx.B} bootstrap replicates`);
@@ -330,6 +338,7 @@ async function analysePoint(ctx: PointContext, rows: EnsembleResultInput[]): Pro
         window: fit.window ? { t1: fit.window.t1, t2: fit.window.t2 } : null,
         tauC: fit.crossoverTime,
         seed: msdSeed,
+        noRegimeFraction: fit.bootstrap?.noRegimeFraction ?? null,
       };
       const common = {
         status,
@@ -393,7 +402,7 @@ async function analysePoint(ctx: PointContext, rows: EnsembleResultInput[]): Pro
     }
   } catch (e) {
     const reason = errorText(e);
-    msd = { ...missing("error", reason), window: null, tauC: null, seed: msdSeed };
+    msd = { ...missing("error", reason), window: null, tauC: null, seed: msdSeed, noRegimeFraction: null };
     radius = missing("error", reason);
   }
   if (msd.status === "not-available" || msd.status === "error") {
