@@ -580,7 +580,7 @@ function vinenChart(ctx: Ctx): ChartSpec {
       rr.forEach((rk, k) => {
         rows.push({
           point: p.key,
-          t: formatNumber(t),
+          t,
           r: rk,
           data: typeof mean[k] === "number" ? mean[k] : null,
           model: typeof model[k] === "number" ? model[k] : null,
@@ -603,7 +603,15 @@ function vinenChart(ctx: Ctx): ChartSpec {
       height: 220,
       encoding: {
         x: { field: "r", type: "quantitative", title: lu ? `r [${lu}]` : "r (length)" },
-        color: { field: "t", type: "ordinal", title: "time", sort: null },
+        // Time as a sequential colour (points of a sweep have different fit windows, so a shared
+        // ordinal legend would pair unrelated times).
+        color: {
+          field: "t",
+          type: "quantitative",
+          title: "time",
+          scale: { scheme: "viridis", reverse: true },
+        },
+        detail: { field: "t", type: "quantitative" },
       },
       layer: [
         {

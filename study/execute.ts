@@ -20,6 +20,7 @@ import type {
   ClassificationConfig,
   Classifier,
   ObservableContext,
+  ProfileBinning,
 } from "../engines/observables/contract.ts";
 import { applicableObservables, createClassifier } from "../engines/observables/mod.ts";
 import { type Column, encodeFrame } from "../store/frame_codec.ts";
@@ -35,7 +36,11 @@ export interface RealisationTask {
   readonly realisationIndex: number;
   /** Folder of the study file (relative paths in parameters resolve against it). */
   readonly baseDirectory?: string;
-  readonly observables: { readonly record: readonly string[]; readonly classification: ClassificationConfig };
+  readonly observables: {
+    readonly record: readonly string[];
+    readonly classification: ClassificationConfig;
+    readonly profile?: ProfileBinning;
+  };
 }
 
 /** Frames are handed over in batches of about this many bytes (and at least every this many frames). */
@@ -99,6 +104,7 @@ export async function executeRealisation(
     capabilities: engine.capabilities,
     controls: task.controls,
     classification: task.observables.classification,
+    ...(task.observables.profile ? { profile: task.observables.profile } : {}),
     coreRadius: scales.coreRadius,
     circulation: scales.circulation,
     ringConstant: scales.ringConstant,

@@ -23,7 +23,8 @@
  */
 import type { ClusterSettings } from "./executors/slurm_schema.ts";
 import type { Engine } from "../engines/contract.ts";
-import type { ClassificationConfig } from "../engines/observables/contract.ts";
+import type { ClassificationConfig, ProfileBinning } from "../engines/observables/contract.ts";
+import { DEFAULT_PROFILE } from "../engines/observables/mod.ts";
 import { ENGINES } from "../engines/registry.ts";
 import { contentHash } from "./hash.ts";
 import { OBSERVABLE_IDS, type StudyFile } from "./schema.ts";
@@ -71,6 +72,8 @@ export interface NormalizedStudy {
     /** Observable ids in canonical order (that of `OBSERVABLE_IDS`). */
     readonly record: readonly string[];
     readonly classification: ClassificationConfig;
+    /** Radial-profile binning; present only when it differs from the default (so defaults hash alike). */
+    readonly profile?: ProfileBinning;
   };
   readonly points: readonly ParameterPoint[];
   /** Content hash of the study (see the module comment). */
@@ -120,7 +123,14 @@ export function normalizeStudy(study: StudyFile, opts: NormalizeOptions): Normal
     maxDistance: run.maxDistance,
   };
   const record = OBSERVABLE_IDS.filter((id) => study.observables.record.includes(id));
-  const observables = { record, classification: { ...study.observables.classification } };
+  const profile = study.observables.profile;
+  const customProfile = profile !== undefined &&
+    (profile.bins !== DEFAULT_PROFILE.bins || profile.binFraction !== DEFAULT_PROFILE.binFraction);
+  const observables = {
+    record,
+    classification: { ...study.observables.classification },
+    ...(customProfile ? { profile: { bins: profile.bins, binFraction: profile.binFraction } } : {}),
+  };
   const engineRef = { id: engine.id, version: engine.version };
 
   const points: ParameterPoint[] = expandSweep(study.sweep).map((setting, index) => {

@@ -111,6 +111,17 @@ Deno.test("normalizeStudy keeps paramsHash when run controls change but changes 
   notEqual(c.points[0].pointHash, a.points[0].pointHash);
 });
 
+Deno.test("normalizeStudy keeps hashes for the default profile binning and changes pointHash for another", () => {
+  const a = norm(toyStudy());
+  const same = norm(toyStudy("observables:\n  profile: { bins: 30, binFraction: 0.1 }\n"));
+  equal(same.points[0].pointHash, a.points[0].pointHash);
+  equal(same.observables.profile, undefined);
+  const wide = norm(toyStudy("observables:\n  profile: { bins: 50 }\n"));
+  deepStrictEqual(wide.observables.profile, { bins: 50, binFraction: 0.1 });
+  equal(wide.points[0].paramsHash, a.points[0].paramsHash);
+  notEqual(wide.points[0].pointHash, a.points[0].pointHash);
+});
+
 Deno.test("normalizeStudy changes pointHash but not paramsHash with the engine version", () => {
   const a = norm(toyStudy());
   const b = norm(toyStudy(), TOY_ENGINE_V2);

@@ -35,7 +35,7 @@ import { clusterSchema } from "./executors/slurm_schema.ts";
 import { z } from "zod";
 import type { Engine } from "../engines/contract.ts";
 import { ENGINES } from "../engines/registry.ts";
-import { DEFAULT_CLASSIFICATION, observableIds } from "../engines/observables/mod.ts";
+import { DEFAULT_CLASSIFICATION, DEFAULT_PROFILE, observableIds } from "../engines/observables/mod.ts";
 
 /** Relative tolerance used when `run.tolerance` is left out. */
 export const DEFAULT_TOLERANCE = 1e-9;
@@ -310,6 +310,19 @@ export function observablesRules(observables: unknown): RuleViolation[] {
   return out;
 }
 
+/** The `observables.profile` section: radial-profile binning of the `cluster` observable (methods §5.2). */
+export const profileSchema = z.strictObject({
+  bins: z.int().min(1).max(1000).default(DEFAULT_PROFILE.bins).describe(
+    "Number of radial bins (annuli in 2D, spherical shells in 3D) of the main cluster's density profile " +
+      "(dimensionless integer, 1–1000). Objects beyond the last bin are counted in profile_outside.",
+  ),
+  binFraction: z.number().positive().max(100).default(DEFAULT_PROFILE.binFraction).describe(
+    "Bin width as a fraction of the main cluster's RMS radius in the first frame (dimensionless). The profile " +
+      "reaches bins × binFraction × R_rms(0): make that cover the cluster at the end of the run for the " +
+      "Vinen-equation fit (default 30 × 0.1 = 3 R_rms(0)).",
+  ),
+}).describe("Radial density profile binning of the cluster observable (default: 30 bins of R_rms(0)/10).");
+
 /** The `observables` section. */
 export const observablesSchema = z.strictObject({
   record: z.array(z.enum(OBSERVABLE_IDS as [string, ...string[]]))
@@ -319,6 +332,7 @@ export const observablesSchema = z.strictObject({
     .default([...OBSERVABLE_IDS])
     .describe(`Observables to compute and store for every realisation: ${OBSERVABLE_IDS.join(", ")}.`),
   classification: classificationSchema.default({ ...DEFAULT_CLASSIFICATION }),
+  profile: profileSchema.optional(),
 }).superRefine(refineWith(observablesRules)).default({
   record: [...OBSERVABLE_IDS],
   classification: { ...DEFAULT_CLASSIFICATION },

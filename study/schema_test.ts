@@ -2,6 +2,7 @@ import { deepStrictEqual, equal, ok } from "node:assert/strict";
 import { ENGINES } from "../engines/registry.ts";
 import {
   observablesRules,
+  observablesSchema,
   runRules,
   runSchema,
   studyJsonSchema,
@@ -111,6 +112,19 @@ Deno.test("observablesRules finds an observable listed twice", () => {
     "record",
     2,
   ]]);
+});
+
+Deno.test("observablesSchema fills profile defaults and refuses bad profile binning with its path", () => {
+  const ok1 = observablesSchema.safeParse({ profile: { bins: 50 } });
+  ok(ok1.success);
+  deepStrictEqual(ok1.data.profile, { bins: 50, binFraction: 0.1 });
+  equal(observablesSchema.parse({}).profile, undefined);
+  const bad = observablesSchema.safeParse({ profile: { bins: 0, binFraction: -1, width: 2 } });
+  ok(!bad.success);
+  deepStrictEqual(
+    bad.error.issues.map((i) => i.path.join(".")).sort(),
+    ["profile", "profile.binFraction", "profile.bins"],
+  );
 });
 
 Deno.test("studySchema and studyShellSchema accept a minimal point-vortex study", () => {

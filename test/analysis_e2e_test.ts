@@ -10,6 +10,7 @@ import { assert, assertClose, assertEquals } from "./_assert.ts";
 import { ballisticDb, walkersDb } from "./_analysis_fixture.ts";
 import { loadNormalizedForTest, REPO, runForTest } from "./_study.ts";
 import { analyseStudy } from "../study/analyse.ts";
+import { chi2FromDecayStudy } from "../study/_analyse_decay.ts";
 import { openStoreReadOnly, readStudy } from "../store/reads.ts";
 import { type EnsembleResult, readEnsembleResults } from "../store/ensemble.ts";
 import { writeReport } from "../reports/mod.ts";
@@ -201,15 +202,31 @@ Deno.test("report: without stored analysis the page says to run spindrift analys
 
 // The demo study's check (issue: "on the 2D demo study, D/κ is positive with a CI, and order-of-magnitude
 // consistent with what the field reports for spreading vortex clouds"). D of order κ for spreading vortex
-// clouds is a fact of the trade (common practice, no single source). The test runs examples/film-patch.yaml
-// itself (2 × 64 realisations, about 35 s on 2 cores); SPINDRIFT_DEMO_DB=path reuses a database written by
-// `spindrift demo` instead.
-const demoDb = Deno.env.get("SPINDRIFT_DEMO_DB");
-Deno.test("demo study: D/κ is positive with a 95 % CI and of order κ at every point; D_R agrees", async () => {
+// clouds is a fact of the trade (common practice, no single source). The test runs the demo's two studies
+// itself (examples/film-decay.yaml for χ₂, then examples/film-patch.yaml: about 55 s on 2 cores);
+// SPINDRIFT_DEMO_DIR=folder reuses the databases `spindrift demo` wrote there instead.
+const demoDir = Deno.env.get("SPINDRIFT_DEMO_DIR");
+Deno.test("demo study: D/κ is positive with a 95 % CI and of order κ at every point; D_R and Vinen D agree", async () => {
   const db = `${dir}/demo.sqlite`;
-  if (demoDb !== undefined) await Deno.copyFile(demoDb, db);
-  else await runForTest(await loadNormalizedForTest(`${REPO}examples/film-patch.yaml`), db, 2);
-  const s = await analyseStudy(db, { replicates: 1000, sensitivity: false, correlations: false });
+  const decayDb = `${dir}/demo-decay.sqlite`;
+  if (demoDir !== undefined) {
+    await Deno.copyFile(`${demoDir}/film-patch.sqlite`, db);
+    await Deno.copyFile(`${demoDir}/film-decay.sqlite`, decayDb);
+  } else {
+    await runForTest(await loadNormalizedForTest(`${REPO}examples/film-decay.yaml`), decayDb, 2);
+    await runForTest(await loadNormalizedForTest(`${REPO}examples/film-patch.yaml`), db, 2);
+  }
+  const chi2 = chi2FromDecayStudy(decayDb, { replicates: 500 });
+  // Vinen free decay 1/n = 1/n₀ + χ₂κt/2π (Vinen 1957): χ₂ positive with an interval.
+  assert(chi2.chi2 > 0 && chi2.interval !== null && chi2.interval[0] > 0, chi2.source);
+  const s = await analyseStudy(db, {
+    replicates: 1000,
+    chi2: chi2.chi2,
+    chi2Interval: chi2.interval!,
+    vinenReplicates: 40,
+    sensitivity: false,
+    correlations: false,
+  });
   assertEquals(s.points.length, 2);
   for (const p of s.points) {
     assertEquals(p.msd.status, "ok", `${p.label}: ${p.msd.reason}`);
@@ -227,6 +244,12 @@ Deno.test("demo study: D/κ is positive with a 95 % CI and of order κ at every 
     // without losses, methods §5.1), so a factor-2 bound.
     const DR = p.radius.value!;
     assert(DR > D / 2 && DR < 2 * D, `${p.label}: D_R/κ = ${DR} vs D/κ = ${D}`);
+    // Vinen-equation fit of the radial profiles with the calibrated χ₂: a positive D with an interval, of
+    // the same order as the MSD estimate (different estimators of ν′, methods §5.2: factor-3 bound).
+    assertEquals(p.vinen.status, "ok", `${p.label}: ${p.vinen.reason}`);
+    const V = p.vinen.value!;
+    assert(p.vinen.lower! > 0 && p.vinen.upper! > p.vinen.lower!, `${p.label}: Vinen CI`);
+    assert(V > D / 3 && V < 3 * D, `${p.label}: Vinen D/κ = ${V} vs D/κ = ${D}`);
   }
 });
 

@@ -38,6 +38,7 @@ import type {
   Observable,
   ObservableContext,
   ObservableResult,
+  ProfileBinning,
   SeriesOutput,
 } from "./contract.ts";
 import { Label } from "./labels.ts";
@@ -50,8 +51,10 @@ export interface ClusterOptions {
   readonly binFraction?: number;
 }
 
-const DEFAULT_BINS = 30;
-const DEFAULT_BIN_FRACTION = 0.1;
+/** Default radial-profile binning: 30 bins of R_rms(0)/10 (methods §5.2), i.e. out to 3 R_rms(0). */
+export const DEFAULT_PROFILE: ProfileBinning = Object.freeze({ bins: 30, binFraction: 0.1 });
+const DEFAULT_BINS = DEFAULT_PROFILE.bins;
+const DEFAULT_BIN_FRACTION = DEFAULT_PROFILE.binFraction;
 
 /**
  * The cluster observable with custom profile binning. Throws a RangeError for a bin count that is not a
@@ -65,12 +68,7 @@ const DEFAULT_BIN_FRACTION = 0.1;
 export function createClusterObservable(options: ClusterOptions = {}): Observable {
   const bins = options.bins ?? DEFAULT_BINS;
   const binFraction = options.binFraction ?? DEFAULT_BIN_FRACTION;
-  if (!Number.isInteger(bins) || bins < 1) {
-    throw new RangeError(`profile bins must be an integer ≥ 1, got ${bins}`);
-  }
-  if (!(binFraction > 0) || !Number.isFinite(binFraction)) {
-    throw new RangeError(`profile bin fraction must be a finite number > 0, got ${binFraction}`);
-  }
+  checkBinning(bins, binFraction);
   return {
     id: "cluster",
     title: "Main-cluster centre, size and radial density profile",
@@ -89,8 +87,22 @@ export function createClusterObservable(options: ClusterOptions = {}): Observabl
         "3D: line length per volume)",
       profile_outside: "main-cluster count (2D) or length (3D) beyond the last profile bin",
     },
-    create: (ctx) => new ClusterAccumulator(ctx, bins, binFraction),
+    create: (ctx) => {
+      const p = ctx.profile;
+      if (p === undefined) return new ClusterAccumulator(ctx, bins, binFraction);
+      checkBinning(p.bins, p.binFraction);
+      return new ClusterAccumulator(ctx, p.bins, p.binFraction);
+    },
   };
+}
+
+function checkBinning(bins: number, binFraction: number): void {
+  if (!Number.isInteger(bins) || bins < 1) {
+    throw new RangeError(`profile bins must be an integer ≥ 1, got ${bins}`);
+  }
+  if (!(binFraction > 0) || !Number.isFinite(binFraction)) {
+    throw new RangeError(`profile bin fraction must be a finite number > 0, got ${binFraction}`);
+  }
 }
 
 /** The cluster observable with default binning (30 bins of R_rms(0)/10). */

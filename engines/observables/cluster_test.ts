@@ -201,3 +201,27 @@ Deno.test("createClusterObservable refuses bad binning", () => {
   assertThrows(() => createClusterObservable({ bins: 0 }), RangeError, "profile bins must be an integer ≥ 1");
   assertThrows(() => createClusterObservable({ binFraction: -1 }), RangeError, "bin fraction");
 });
+
+Deno.test("clusterObservable takes the study's profile binning from the context", () => {
+  // 200 vortices uniform in a disk of radius 10; 12 bins of R_rms(0)/2 reach 6 R_rms(0) (the whole disk).
+  const rng = RandomStream.fromState([5, 6, 7, 8]);
+  const vortices = Array.from({ length: 200 }, (_, i) => {
+    const r = 10 * Math.sqrt(rng.uniform()), th = 2 * Math.PI * rng.uniform();
+    return { id: i, x: r * Math.cos(th), y: r * Math.sin(th), g: i % 2 === 0 ? 1 : -1 };
+  });
+  const ctx = { ...context(CAPS_2D), profile: { bins: 12, binFraction: 0.5 } };
+  const classifier = createDipoleClassifier(ctx);
+  const acc = clusterObservable.create(ctx);
+  acc.push(frame2d(0, 0, vortices), classifier.classify(frame2d(0, 0, vortices)));
+  const r = acc.finish();
+  assertEquals(r.scalars.profile_bins, 12);
+  assertClose(r.scalars.profile_bin_width, 0.5 * r.scalars.rms_radius_initial, 1e-15, "w = R_rms(0)/2");
+  assertEquals(Object.keys(r.series).filter((k) => k.startsWith("profile.")).length, 12);
+  // Uniform disk: R_rms = R/√2, so 12 × R_rms/2 = 4.24 R_rms > R: nothing outside (elementary geometry).
+  assertEquals(r.series.profile_outside.v, [0]);
+  assertThrows(
+    () => clusterObservable.create({ ...ctx, profile: { bins: 2.5, binFraction: 0.5 } }),
+    RangeError,
+    "profile bins must be an integer",
+  );
+});

@@ -52,6 +52,14 @@ export interface ObservableContext {
   readonly circulation?: number;
   /** Ring-speed constant β of the engine's velocity model (default 3/4 − γ_E, straight-segment sums). */
   readonly ringConstant?: number;
+  /** Radial-profile binning of the `cluster` observable (study `observables.profile`; defaults when absent). */
+  readonly profile?: ProfileBinning;
+}
+
+/** Radial-profile bins: `bins` annuli/shells of width `binFraction` × R_rms of the first frame. */
+export interface ProfileBinning {
+  readonly bins: number;
+  readonly binFraction: number;
 }
 
 /**

@@ -34,7 +34,12 @@ export type * from "./contract.ts";
 export { Label, LABEL_NAMES, type LabelValue } from "./labels.ts";
 export { createDipoleClassifier } from "./classify_2d.ts";
 export { createLoopClassifier, ringSpeed, STRAIGHT_SEGMENT_CORE_CONSTANT } from "./classify_3d.ts";
-export { clusterObservable, type ClusterOptions, createClusterObservable } from "./cluster.ts";
+export {
+  clusterObservable,
+  type ClusterOptions,
+  createClusterObservable,
+  DEFAULT_PROFILE,
+} from "./cluster.ts";
 export { evaporationObservable } from "./evaporation.ts";
 export { msdObservable } from "./msd.ts";
 export { checkClassificationConfig } from "./_config.ts";
