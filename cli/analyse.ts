@@ -132,6 +132,7 @@ export function formatSummary(s: AnalysisSummary, dbPath: string): string[] {
         }${noRegimeText(p.msd.noRegimeFraction)}`,
       );
     }
+    for (const w of p.msd.warnings) lines.push(`${pad}warning: ${w}`);
     if (p.radius.value !== null) lines.push(`${pad}D_R/κ (R_rms): ${estimateText(p.radius)}`);
     if (p.vinen.status !== "not-available") lines.push(`${pad}D/κ (Vinen): ${estimateText(p.vinen)}`);
   }

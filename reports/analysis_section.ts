@@ -207,6 +207,12 @@ function noRegimeNote(fraction: number | null): string {
     : "";
 }
 
+/** The fit's advice (few realisations, a marginal regime), one line each. */
+function warningNotes(warnings: unknown): string {
+  return arr(warnings).filter((w): w is string => typeof w === "string")
+    .map((w) => `<br><span class="fit-warning">warning: ${escapeHtml(w)}</span>`).join("");
+}
+
 function diffusionTable(ctx: Ctx): string {
   const head = `<tr><th>point</th><th class="num">n</th><th>D/κ (MSD) [${pct(ctx.level)} CI]</th>` +
     `<th>D_R/κ (R_rms) [CI]</th><th>D/κ (Vinen) [CI]</th><th class="num">τ_c</th>` +
@@ -225,7 +231,7 @@ function diffusionTable(ctx: Ctx): string {
       numCell(p.rows.get("msd-fit/window_end")?.value ?? null) +
       `<td class="note">${escapeHtml(method ?? "—")}${
         num(det.replicates) ? `, B = ${num(det.replicates)}` : ""
-      }${noRegimeNote(num(det.noRegimeFraction))}${
+      }${noRegimeNote(num(det.noRegimeFraction))}${warningNotes(det.warnings)}${
         seed
           ? `<br><code class="seed" title="${escapeHtml(seed)}" data-seed="${escapeHtml(seed)}">${
             escapeHtml(seed.length > 20 ? `${seed.slice(0, 8)}…${seed.slice(-12)}` : seed)

@@ -126,6 +126,8 @@ export interface PointAnalysis {
     readonly seed: string;
     /** Fraction of bootstrap replicates in which the window rule found no diffusive regime (left out). */
     readonly noRegimeFraction: number | null;
+    /** Advice about the fit (few realisations, a marginal regime). */
+    readonly warnings: readonly string[];
   };
   readonly radius: Estimate;
   readonly vinen: Estimate;
@@ -316,6 +318,7 @@ async function analysePoint(ctx: PointContext, rows: EnsembleResultInput[]): Pro
         tauC: null,
         seed: msdSeed,
         noRegimeFraction: null,
+        warnings: [],
       };
       radius = missing("not-available", reason);
     } else {
@@ -339,6 +342,7 @@ async function analysePoint(ctx: PointContext, rows: EnsembleResultInput[]): Pro
         tauC: fit.crossoverTime,
         seed: msdSeed,
         noRegimeFraction: fit.bootstrap?.noRegimeFraction ?? null,
+        warnings: fit.warnings,
       };
       const common = {
         status,
@@ -402,7 +406,14 @@ async function analysePoint(ctx: PointContext, rows: EnsembleResultInput[]): Pro
     }
   } catch (e) {
     const reason = errorText(e);
-    msd = { ...missing("error", reason), window: null, tauC: null, seed: msdSeed, noRegimeFraction: null };
+    msd = {
+      ...missing("error", reason),
+      window: null,
+      tauC: null,
+      seed: msdSeed,
+      noRegimeFraction: null,
+      warnings: [],
+    };
     radius = missing("error", reason);
   }
   if (msd.status === "not-available" || msd.status === "error") {

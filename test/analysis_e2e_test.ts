@@ -14,7 +14,7 @@ import { chi2FromDecayStudy } from "../study/_analyse_decay.ts";
 import { openStoreReadOnly, readStudy } from "../store/reads.ts";
 import { type EnsembleResult, readEnsembleResults } from "../store/ensemble.ts";
 import { writeReport } from "../reports/mod.ts";
-import { formatNumber } from "../reports/html.ts";
+import { escapeHtml, formatNumber } from "../reports/html.ts";
 import { runQuery } from "../cli/query.ts";
 import { WALKERS } from "./imported/make_walkers.ts";
 
@@ -137,6 +137,10 @@ Deno.test("report: the Answers section shows exactly the numbers stored in ensem
     noRegime > 0 ? String(Math.round(noRegime * 100)) : null,
     `no-regime share ${noRegime}`,
   );
+  // The fit's warnings (here: fewer than 20 realisations) are shown beside the interval.
+  const warnings = find(rows, "msd-fit", "D").detail.warnings as string[];
+  assert(warnings.length > 0, "the 8-realisation walkers study carries a warning");
+  for (const w of warnings) assert(table.includes(`warning: ${escapeHtml(w)}`), `warning shown: ${w}`);
   const sens = /<table class="analysis" id="sensitivity-table">[^]*?<\/table>/.exec(page)?.[0] ?? "";
   for (const r of rows.filter((x) => x.analysis === "sensitivity" && x.value !== null)) {
     assert(sens.includes(`data-value="${r.value}"`), `sensitivity ${r.name} shown`);

@@ -523,6 +523,13 @@ export function fitDiffusion(input: MsdEnsembleInput, options: DiffusionFitOptio
     }
     ci = estimatorCi(repD, pointD, jackD, level);
     if (wantRadius) radiusCi = estimatorCi(repR, pointR, jackR, level);
+    if (noRegime >= 0.5 * B) {
+      warnings.push(
+        `${Math.round((100 * noRegime) / B)} % of the bootstrap replicates find no diffusive regime: the ` +
+          `regime is marginal for this ensemble and the interval describes only the resamples where the window ` +
+          `rule holds (more realisations help)`,
+      );
+    }
   }
   return {
     ...result,

@@ -329,3 +329,30 @@ Deno.test("fitDiffusion rejects malformed input with clear messages", () => {
   );
   assert.equal(DEFAULT_WINDOW_RULES.crossoverAlpha, 1.2);
 });
+
+Deno.test("fitDiffusion warns when half or more of the bootstrap replicates find no diffusive regime", () => {
+  // Small Ornstein–Uhlenbeck ensembles (τ = 0.1, D = 0.25; Uhlenbeck & Ornstein 1930) sit at the edge of the
+  // window rule: some resamples keep α(t) in [0.85, 1.15], others do not. The warning must accompany exactly
+  // the fits where that share is ≥ 50 % (methods §5.1: the interval comes from the resamples that hold).
+  const seen = { warned: 0, quiet: 0 };
+  for (const [walkers, seed] of [[12, "m2"], [16, "m0"], [24, "m1"], [24, "m5"]] as const) {
+    const ens = walkerEnsemble(
+      {
+        kind: "ornstein-uhlenbeck",
+        dimension: 2,
+        walkers,
+        D: 0.25,
+        tau: 0.1,
+        times: logTimes(0.01, 20, { count: 60 }),
+      },
+      { realisations: 20, seed },
+    );
+    const f = fitDiffusion(ens, { dimension: 2, seed: "b", replicates: 200 });
+    if (f.status !== "ok") continue;
+    const share = f.bootstrap!.noRegimeFraction;
+    const warned = f.warnings.some((w) => w.includes("find no diffusive regime"));
+    assert.equal(warned, share >= 0.5, `${walkers}/${seed}: share ${share}`);
+    seen[warned ? "warned" : "quiet"]++;
+  }
+  assert.ok(seen.warned > 0 && seen.quiet > 0, `both cases exercised: ${JSON.stringify(seen)}`);
+});
