@@ -11,6 +11,8 @@
  */
 import { chi2FromDecayStudy } from "../study/_analyse_decay.ts";
 import { analyseStudy, AnalysisInputError, type AnalysisSummary, type Estimate } from "../study/analyse.ts";
+import type { EvaporationAnalysis } from "../study/_analyse_evaporation.ts";
+import type { EvaporationEstimate } from "../reports/analysis/evaporation.ts";
 import { StoreReadError } from "../store/reads.ts";
 import { writeReport } from "../reports/mod.ts";
 import { formatNumber } from "../reports/html.ts";
@@ -114,6 +116,31 @@ function noRegimeText(fraction: number | null): string {
     : "";
 }
 
+/** "value [lower, upper]" of an evaporation estimate, or "—". */
+function evText(e: EvaporationEstimate | null, scale = 1): string {
+  if (e === null || e.value === null) return "—";
+  const ci = e.interval
+    ? ` [${formatNumber(scale * e.interval.lower)}, ${formatNumber(scale * e.interval.upper)}]`
+    : "";
+  return `${formatNumber(scale * e.value)}${ci}`;
+}
+
+/** One line on evaporation and losses, or null when not computed. */
+function evaporationText(e: EvaporationAnalysis): string | null {
+  if (e.status !== "ok") return e.status === "error" ? `evaporation: error: ${e.reason}` : null;
+  const lost = e.lostFraction?.value !== null && e.lostFraction
+    ? `; lost by the end: ${evText(e.lostFraction, 100)} % of the ${
+      e.objects === "loops" ? "line length" : "vortices"
+    }`
+    : "";
+  const half = e.tHalf?.value !== null && e.tHalf
+    ? `, t½ = ${evText(e.tHalf)}, rate ${evText(e.rate)} per unit time`
+    : "";
+  return `evaporated ${e.objects} by t = ${formatNumber(e.tEnd ?? Number.NaN)}: ${
+    evText(e.evaporated)
+  }${half}${lost}`;
+}
+
 /** The printed summary: per point D/κ (MSD) with its interval or the reason, D_R and the Vinen D. */
 export function formatSummary(s: AnalysisSummary, dbPath: string): string[] {
   const lines = [
@@ -135,6 +162,8 @@ export function formatSummary(s: AnalysisSummary, dbPath: string): string[] {
     for (const w of p.msd.warnings) lines.push(`${pad}warning: ${w}`);
     if (p.radius.value !== null) lines.push(`${pad}D_R/κ (R_rms): ${estimateText(p.radius)}`);
     if (p.vinen.status !== "not-available") lines.push(`${pad}D/κ (Vinen): ${estimateText(p.vinen)}`);
+    const ev = evaporationText(p.evaporation);
+    if (ev) lines.push(`${pad}${ev}`);
   }
   const vinenMissing = s.points.find((p) => p.vinen.status === "not-available");
   if (vinenMissing?.vinen.reason) lines.push(`Vinen fit: ${vinenMissing.vinen.reason}`);

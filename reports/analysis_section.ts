@@ -100,6 +100,7 @@ export function buildAnalysisSection(
     { chart: msdChart },
     { chart: slopeChart },
     { html: sensitivityTable(ctx) },
+    { html: evaporationTable(ctx) },
     { chart: vChart },
     { html: chi2Table(ctx) },
     { chart: cChart },
@@ -277,6 +278,33 @@ function sensitivityTable(ctx: Ctx): string {
     `doubled (the others at the study's values) and D is refitted with the same rules; outwardCosine is ` +
     `varied through its angle. The base row reproduces the stored-series fit.</p>` +
     `<div class="scroll"><table class="analysis" id="sensitivity-table"><thead>${head}</thead><tbody>${body}` +
+    `</tbody></table></div>`;
+}
+
+function evaporationTable(ctx: Ctx): string {
+  const withE = ctx.points.filter((p) => p.rows.has("evaporation/evaporated"));
+  if (withE.length === 0) return "";
+  const objects = str(withE[0].rows.get("evaporation/evaporated")!.detail.objects) ?? "objects";
+  const lostOf = objects === "loops" ? "line length" : "vortices";
+  const head =
+    `<tr><th>point</th><th>${escapeHtml(objects)} evaporated by the end [${pct(ctx.level)} CI]</th>` +
+    `<th>t½ [CI]</th><th>rate, ${escapeHtml(objects)} per unit time [CI]</th>` +
+    `<th>fraction of the ${lostOf} lost [CI]</th></tr>`;
+  const body = withE.map((p) =>
+    `<tr data-point="${escapeHtml(p.label)}"><td>${escapeHtml(p.label)}</td>` +
+    estimateCell(p.rows.get("evaporation/evaporated"), "evaporated") +
+    estimateCell(p.rows.get("evaporation/t_half"), "t-half") +
+    estimateCell(p.rows.get("evaporation/rate"), "evaporation-rate") +
+    estimateCell(p.rows.get("evaporation/lost_fraction"), "lost-fraction") + `</tr>`
+  ).join("");
+  return `<h3 id="evaporation-title">Evaporation and losses</h3>` +
+    `<p class="note">Ensemble-mean number of ${
+      escapeHtml(objects)
+    } labelled evaporated by the end of the run; ` +
+    `t½, the time by which half of them had left; the rate while that first half left (count/(2t½)); and the ` +
+    `fraction of the ${lostOf} gone by the end by any channel (annihilation, friction, removed loops). ` +
+    `Intervals: bootstrap over realisations.</p>` +
+    `<div class="scroll"><table class="analysis" id="evaporation-table"><thead>${head}</thead><tbody>${body}` +
     `</tbody></table></div>`;
 }
 

@@ -53,6 +53,7 @@ import { checkClassificationConfig } from "../engines/observables/mod.ts";
 import { findEngine } from "../engines/registry.ts";
 import { type DiffusionFit, fitDiffusion, type MsdEnsembleInput } from "../reports/analysis/msd_fit.ts";
 import type { EstimatorCI } from "../reports/analysis/msd_fit.ts";
+import { type EvaporationAnalysis, evaporationRows } from "./_analyse_evaporation.ts";
 import { fitVinenDiffusion, type ProfileEnsemble, vinenChi2Sensitivity } from "../reports/analysis/vinen.ts";
 import {
   longitudinalFromTransverse,
@@ -77,7 +78,14 @@ import { commonProfiles } from "./_analyse_profiles.ts";
 import { replayMsdEnsembles } from "./_analyse_replay.ts";
 
 /** Analysis names as stored in `ensemble_results.analysis`. */
-export const ANALYSES = ["msd-fit", "rms-fit", "sensitivity", "vinen", "correlations"] as const;
+export const ANALYSES = [
+  "msd-fit",
+  "rms-fit",
+  "sensitivity",
+  "vinen",
+  "correlations",
+  "evaporation",
+] as const;
 
 export interface AnalyseOptions {
   /** Study revision; default the latest. */
@@ -137,6 +145,7 @@ export interface PointAnalysis {
     readonly rows: readonly { readonly name: string; readonly D: number | null; readonly status: string }[];
   };
   readonly correlations: { readonly status: AnalysisStatus; readonly reason: string | null };
+  readonly evaporation: EvaporationAnalysis;
 }
 
 export interface AnalysisSummary {
@@ -424,6 +433,14 @@ async function analysePoint(ctx: PointContext, rows: EnsembleResultInput[]): Pro
   const sensitivity = await sensitivityRows(ctx, fit, ens, push);
   const vinen = vinenRows(ctx, fit, push);
   const correlations = correlationRows(ctx, fit, push);
+  const evaporation = evaporationRows({
+    db: ctx.db,
+    ids: ctx.ids,
+    dimension: ctx.dimension,
+    seed: `${ctx.base}/${point.pointHash}/evaporation`,
+    replicates: ctx.B,
+    level: ctx.level,
+  }, push);
   return {
     index: point.index,
     label: point.label,
@@ -434,6 +451,7 @@ async function analysePoint(ctx: PointContext, rows: EnsembleResultInput[]): Pro
     vinen,
     sensitivity,
     correlations,
+    evaporation,
   };
 }
 

@@ -73,6 +73,10 @@ Deno.test("analyseStudy: imported walkers recover D = 0.25 within the stored 95 
     `Vinen D = ${V.value} [${V.lower}, ${V.upper}]`,
   );
   assertEquals(rows.filter((r) => r.analysis === "vinen").length, 5);
+  // Evaporation rows: free walkers leave no dipoles and no walker is lost (imported tracks keep every id).
+  assertEquals(find(rows, "evaporation", "evaporated").value, 0);
+  assertEquals(find(rows, "evaporation", "rate").value, 0);
+  assertEquals(find(rows, "evaporation", "lost_fraction").value, 0);
   // Imported tracks carry no velocity field: stored as not available, with the reason.
   const C = find(rows, "correlations", "f_integral");
   assertEquals([C.value, C.detail.status], [null, "not-available"]);
@@ -129,6 +133,13 @@ Deno.test("report: the Answers section shows exactly the numbers stored in ensem
   for (const name of ["tau_c", "window_start", "window_end"]) {
     const v = find(rows, "msd-fit", name).value!;
     assert(table.includes(`data-value="${v}">${formatNumber(v)}<`), `${name} = ${v} shown`);
+  }
+  // Evaporation and losses: the table shows the stored values.
+  const evTable = /<table class="analysis" id="evaporation-table">[^]*?<\/table>/.exec(page)?.[0] ?? "";
+  for (const [field, name] of [["evaporated", "evaporated"], ["lost-fraction", "lost_fraction"]]) {
+    const r = find(rows, "evaporation", name);
+    const cell = new RegExp(`<td data-field="${field}">([^]*?)</td>`).exec(evTable)?.[1] ?? "";
+    assertEquals(Number(/data-role="value" data-value="([^"]+)"/.exec(cell)?.[1]), r.value, `${field} shown`);
   }
   // The share of bootstrap replicates without a diffusive regime (left out of the interval) is shown when > 0.
   const noRegime = Number(find(rows, "msd-fit", "D").detail.noRegimeFraction);
@@ -254,6 +265,12 @@ Deno.test("demo study: D/κ is positive with a 95 % CI and of order κ at every 
     const V = p.vinen.value!;
     assert(p.vinen.lower! > 0 && p.vinen.upper! > p.vinen.lower!, `${p.label}: Vinen CI`);
     assert(V > D / 3 && V < 3 * D, `${p.label}: Vinen D/κ = ${V} vs D/κ = ${D}`);
+    // Losses: with friction, dipoles shrink and annihilate (d² = d₀² − 2ακt/π, methods §1.7), so part of
+    // the patch is gone by the end; the evaporated count is a non-negative mean with an interval.
+    const ev = p.evaporation;
+    assertEquals(ev.status, "ok", `${p.label}: ${ev.reason}`);
+    assert(ev.lostFraction!.value! > 0 && ev.lostFraction!.value! < 1, `${p.label}: lost fraction`);
+    assert(ev.evaporated!.value! >= 0 && ev.evaporated!.interval !== null, `${p.label}: evaporated count`);
   }
 });
 
