@@ -255,7 +255,8 @@ Deno.test("fitDiffusion bootstrap is reproducible from its recorded seed", () =>
   assert.deepEqual(a.bootstrap!.values, b.bootstrap!.values);
   assert.notDeepEqual(a.bootstrap!.values, c.bootstrap!.values);
   assert.equal(a.bootstrap!.seed, "seed-A");
-  assert.equal(a.warnings.length, 0);
+  // 20 realisations: no "too few realisations" warning (a marginal-regime warning may apply, tested below).
+  assert.ok(!a.warnings.some((w) => w.includes("bootstrap intervals are unreliable")), a.warnings.join("; "));
 });
 
 Deno.test("fitDiffusion CI width scales as N_real^-1/2", () => {
