@@ -321,14 +321,7 @@ async function analysePoint(ctx: PointContext, rows: EnsembleResultInput[]): Pro
       const reason = ctx.ids.length === 0
         ? "no done realisation at this point"
         : "no done realisation recorded the 'msd' series (add msd to observables.record)";
-      msd = {
-        ...missing("not-available", reason),
-        window: null,
-        tauC: null,
-        seed: msdSeed,
-        noRegimeFraction: null,
-        warnings: [],
-      };
+      msd = msdMissing("not-available", reason, msdSeed);
       radius = missing("not-available", reason);
     } else {
       ctx.progress(`  MSD fit with ${ctx.B} bootstrap replicates`);
@@ -415,14 +408,7 @@ async function analysePoint(ctx: PointContext, rows: EnsembleResultInput[]): Pro
     }
   } catch (e) {
     const reason = errorText(e);
-    msd = {
-      ...missing("error", reason),
-      window: null,
-      tauC: null,
-      seed: msdSeed,
-      noRegimeFraction: null,
-      warnings: [],
-    };
+    msd = msdMissing("error", reason, msdSeed);
     radius = missing("error", reason);
   }
   if (msd.status === "not-available" || msd.status === "error") {
@@ -459,6 +445,11 @@ type Push = (analysis: string, name: string, e: Partial<EnsembleResultInput>) =>
 
 function missing(status: AnalysisStatus, reason: string): Estimate {
   return { status, reason, value: null, lower: null, upper: null };
+}
+
+/** The MSD entry of a point whose fit could not run. */
+function msdMissing(status: AnalysisStatus, reason: string, seed: string): PointAnalysis["msd"] {
+  return { ...missing(status, reason), window: null, tauC: null, seed, noRegimeFraction: null, warnings: [] };
 }
 
 function storedEnsemble(ctx: PointContext): StoredEnsemble | null {
