@@ -289,7 +289,10 @@ Typical session:
     });
 
   program.command("analyse")
-    .description("estimate D/κ with bootstrap intervals from a study database and store the results in it")
+    .description(
+      "estimate ν′ = D/κ (mean-square displacement, RMS radius, Vinen-equation fit) and the evaporation and " +
+        "losses with bootstrap intervals from a study database, and store the results in it",
+    )
     .argument("<database>", "study database written by 'spindrift run'")
     .addOption(
       new Option("-B, --replicates <n>", "bootstrap replicates of the MSD fit (default 2000)")

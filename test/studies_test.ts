@@ -115,3 +115,16 @@ Deno.test("study corpus: every bad study reports exactly its expected problems",
   ok(names.length >= 15, `${names.length} bad studies; at least 15 kinds are required`);
   ok(codes.size >= 12, `problem codes covered: ${[...codes].join(", ")}`);
 });
+
+Deno.test("every bundled example study in examples/ loads, normalizes and plans without problems", async () => {
+  const dir = new URL("../examples/", import.meta.url);
+  const names = [...Deno.readDirSync(dir)].map((e) => e.name).filter((n) => n.endsWith(".yaml")).sort();
+  ok(names.length >= 5, `examples: ${names.join(", ")}`);
+  for (const name of names) {
+    const text = await Deno.readTextFile(new URL(name, dir));
+    const loaded = parseStudyText(text, name);
+    ok(loaded.ok, loaded.ok ? "" : formatProblems(loaded.problems));
+    const study = normalizeStudy(loaded.study, { text, sourcePath: new URL(name, dir).pathname });
+    ok(planStudy(study).length > 0, `${name}: something to run`);
+  }
+});
