@@ -1,19 +1,20 @@
 /**
  * Study databases with known answers for the analysis tests, built through the real runner:
- * - `walkersDb`: examples/imported-walkers.yaml (8 realisations of 20 Ornstein–Uhlenbeck walkers, D = 0.25,
+ * - `walkersDb`: examples/imported-walkers.yaml (24 realisations of 20 Ornstein–Uhlenbeck walkers, D = 0.25,
  *   τ = 0.1; test/imported/make_walkers.ts);
  * - `ballisticDb`: walkers moving in straight lines at constant speed (MSD ∝ t² at all times, so there is no
  *   diffusive regime), written as CSV files in the same format and imported the same way.
  */
 import { RandomStream } from "../engines/random.ts";
 import { loadNormalizedForTest, REPO, runForTest } from "./_study.ts";
+import { WALKERS } from "./imported/make_walkers.ts";
 
 /** Runs examples/imported-walkers.yaml into `dir`/walkers.sqlite; returns the database path. */
 export async function walkersDb(dir: string): Promise<string> {
   const study = await loadNormalizedForTest(`${REPO}examples/imported-walkers.yaml`);
   const db = `${dir}/walkers.sqlite`;
   const report = await runForTest(study, db, 2);
-  if (report.failed > 0 || report.completed !== 8) {
+  if (report.failed > 0 || report.completed !== WALKERS.realisations) {
     throw new Error(`walkers fixture: ${JSON.stringify(report)}`);
   }
   return db;

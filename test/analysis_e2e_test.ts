@@ -38,17 +38,20 @@ function find(rows: readonly EnsembleResult[], analysis: string, name: string): 
 
 const OPTIONS = { replicates: 2000, chi2: 0, vinenReplicates: 4, sensitivityReplicates: 20 };
 
-Deno.test("analyseStudy: imported walkers recover D = 0.25 within the stored 95 % interval; rows reproducible", async () => {
+Deno.test("analyseStudy: imported walkers recover D(1 − 1/N) within the stored 95 % interval; rows reproducible", async () => {
   const { walkers } = await fixtures;
   const summary = await analyseStudy(walkers, OPTIONS);
   assertEquals(summary.points.length, 1);
   const rows = rowsOf(walkers);
   const D = find(rows, "msd-fit", "D");
   assertEquals(D.detail.status, "ok");
-  // Known answer D = 0.25 (make_walkers.ts, Uhlenbeck & Ornstein 1930): inside the bootstrap interval.
-  assert(D.lower! <= WALKERS.diffusion && WALKERS.diffusion <= D.upper!, `0.25 in [${D.lower}, ${D.upper}]`);
-  // Point estimate within 15 % of the known D (8 × 20 walkers: relative sd ≈ 8 %; common practice, no source).
-  assertClose(D.value!, WALKERS.diffusion, 0.15, "D");
+  // Known answer D = 0.25 (make_walkers.ts, Uhlenbeck & Ornstein 1930). The msd observable removes the drift of
+  // the centroid of N independent walkers, which scales their MSD by (1 − 1/N) (variance of x_i − x̄,
+  // elementary statistics): expected 0.25 × 19/20 = 0.2375, inside the bootstrap interval.
+  const expected = WALKERS.diffusion * (1 - 1 / WALKERS.walkers);
+  assert(D.lower! <= expected && expected <= D.upper!, `${expected} in [${D.lower}, ${D.upper}]`);
+  // Point estimate within 10 % (24 × 20 walkers: relative sd ≈ 5 %; common practice, no source).
+  assertClose(D.value!, expected, 0.10, "D");
   const study = readStudy(openStoreReadOnly(walkers));
   assert(String(D.detail.seed).startsWith(`${study.studyHash}/`), "seed derived from the study hash");
   assertEquals(D.detail.replicates, 2000);
@@ -148,10 +151,19 @@ Deno.test("report: the Answers section shows exactly the numbers stored in ensem
     noRegime > 0 ? String(Math.round(noRegime * 100)) : null,
     `no-regime share ${noRegime}`,
   );
-  // The fit's warnings (here: fewer than 20 realisations) are shown beside the interval.
+  // The fit's warnings are shown beside the interval, one each (the 4-realisation ballistic study has one:
+  // fewer than 20 realisations).
   const warnings = find(rows, "msd-fit", "D").detail.warnings as string[];
-  assert(warnings.length > 0, "the 8-realisation walkers study carries a warning");
+  assertEquals((table.match(/warning: /g) ?? []).length, warnings.length, "one line per warning");
   for (const w of warnings) assert(table.includes(`warning: ${escapeHtml(w)}`), `warning shown: ${w}`);
+  const { ballistic } = await fixtures;
+  if (rowsOf(ballistic).length === 0) await analyseStudy(ballistic, OPTIONS);
+  const bWarnings = find(rowsOf(ballistic), "msd-fit", "D").detail.warnings as string[];
+  assert(bWarnings.length > 0, "the ballistic study carries a warning");
+  const bPage = await Deno.readTextFile(
+    (await writeReport(ballistic, { out: `${dir}/ballistic-report.html` })).html,
+  );
+  for (const w of bWarnings) assert(bPage.includes(`warning: ${escapeHtml(w)}`), `warning shown: ${w}`);
   const sens = /<table class="analysis" id="sensitivity-table">[^]*?<\/table>/.exec(page)?.[0] ?? "";
   for (const r of rows.filter((x) => x.analysis === "sensitivity" && x.value !== null)) {
     assert(sens.includes(`data-value="${r.value}"`), `sensitivity ${r.name} shown`);

@@ -32,12 +32,12 @@ import { type GeneratorState, RandomStream } from "../../engines/random.ts";
 
 /** The data set's parameters (the known answers of the tests). */
 export const WALKERS = Object.freeze({
-  /** Realisations (one file each: walkers/r0.csv … r7.csv). */
-  realisations: 8,
+  /** Realisations (one file each: walkers/r0.csv … r23.csv). */
+  realisations: 24,
   /** Walkers per realisation. */
   walkers: 20,
   /** Record times per realisation (t = 0, dt, …, (times − 1)·dt). */
-  times: 200,
+  times: 150,
   /** Time between records. */
   dt: 0.1,
   /** Long-time diffusion coefficient D (length²/time; with κ = 1 this is D/κ). */
