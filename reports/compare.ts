@@ -339,7 +339,7 @@ function comparePage(
 ${figures}
 </section>
 <section id="compare-d-table">
-<h2>D/κ per point</h2>
+<h2>Effective diffusion coefficient ν′/κ = D/κ per point</h2>
 <p class="note">Stored ensemble results (run <code>spindrift analyse</code> on a database to fill its rows).</p>
 <div class="scroll"><table id="compare-table"><thead><tr><th>study</th><th>point</th><th>D/κ (MSD) [CI]</th>` +
     `<th>D_R/κ (R_rms) [CI]</th><th>D/κ (Vinen) [CI]</th></tr></thead><tbody>${dTable}</tbody></table></div>
