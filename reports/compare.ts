@@ -186,10 +186,16 @@ const ESTIMATES = [
   { analysis: "vinen", name: "D", label: "Vinen fit" },
 ] as const;
 
-function dRows(s: StudyEntry) {
+/** Evaporation and losses, shown in the table after the three D estimates. */
+const LOSSES = [
+  { analysis: "evaporation", name: "evaporated" },
+  { analysis: "evaporation", name: "lost_fraction" },
+] as const;
+
+function dRows(s: StudyEntry, extra: readonly { analysis: string; name: string }[] = []) {
   return s.agg.points.map((p) => ({
     point: p.point.label,
-    estimates: ESTIMATES.map((e) =>
+    estimates: [...ESTIMATES, ...extra].map((e) =>
       s.results.find((r) =>
         r.pointHash === p.point.pointHash && r.analysis === e.analysis && r.name === e.name
       )
@@ -281,7 +287,7 @@ function comparePage(
       }</code></td></tr>`;
   }).join("");
   const dTable = studies.flatMap((s) =>
-    dRows(s).map((p) =>
+    dRows(s, LOSSES).map((p) =>
       `<tr data-study="${escapeHtml(s.key)}" data-point="${escapeHtml(p.point)}"><td>${
         escapeHtml(s.key)
       }</td>` +
@@ -342,7 +348,8 @@ ${figures}
 <h2>Effective diffusion coefficient ν′/κ = D/κ per point</h2>
 <p class="note">Stored ensemble results (run <code>spindrift analyse</code> on a database to fill its rows).</p>
 <div class="scroll"><table id="compare-table"><thead><tr><th>study</th><th>point</th><th>D/κ (MSD) [CI]</th>` +
-    `<th>D_R/κ (R_rms) [CI]</th><th>D/κ (Vinen) [CI]</th></tr></thead><tbody>${dTable}</tbody></table></div>
+    `<th>D_R/κ (R_rms) [CI]</th><th>D/κ (Vinen) [CI]</th><th>evaporated by the end [CI]</th>` +
+    `<th>fraction lost [CI]</th></tr></thead><tbody>${dTable}</tbody></table></div>
 </section>
 </main>
 <footer>Built by spindrift from the study databases alone.</footer>

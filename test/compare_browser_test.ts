@@ -82,7 +82,8 @@ Deno.test({
       db.close();
       const D = rows.find((r) => r.analysis === "msd-fit" && r.name === "D")!;
       const row = /<tr data-study="imported-walkers"[^]*?<\/tr>/.exec(cmp.dom)?.[0] ?? "";
-      for (const v of [D.value!, D.lower!, D.upper!]) {
+      const lost = rows.find((r) => r.analysis === "evaporation" && r.name === "lost_fraction")!;
+      for (const v of [D.value!, D.lower!, D.upper!, lost.value!]) {
         assert(row.includes(`data-value="${v}">${formatNumber(v)}<`), `compare table shows ${v}`);
       }
       const brow = /<tr data-study="ballistic-tracks"[^]*?<\/tr>/.exec(cmp.dom)?.[0] ?? "";
