@@ -130,7 +130,7 @@ function evaporationText(e: EvaporationAnalysis): string | null {
   if (e.status !== "ok") return e.status === "error" ? `evaporation: error: ${e.reason}` : null;
   const lost = e.lostFraction?.value !== null && e.lostFraction
     ? `; lost by the end: ${evText(e.lostFraction, 100)} % of the ${
-      e.objects === "loops" ? "line length" : "vortices"
+      e.objects === "loops" ? "line length (negative: it grew)" : "vortices"
     }`
     : "";
   const half = e.tHalf?.value !== null && e.tHalf

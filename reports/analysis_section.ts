@@ -302,7 +302,8 @@ function evaporationTable(ctx: Ctx): string {
       escapeHtml(objects)
     } labelled evaporated by the end of the run; ` +
     `t½, the time by which half of them had left; the rate while that first half left (count/(2t½)); and the ` +
-    `fraction of the ${lostOf} gone by the end by any channel (annihilation, friction, removed loops). ` +
+    `fraction of the ${lostOf} gone by the end by any channel (annihilation, friction, removed loops; ` +
+    `negative when it grew, as line length can by stretching). ` +
     `Intervals: bootstrap over realisations.</p>` +
     `<div class="scroll"><table class="analysis" id="evaporation-table"><thead>${head}</thead><tbody>${body}` +
     `</tbody></table></div>`;
