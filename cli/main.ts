@@ -72,7 +72,9 @@ async function loadNormalized(path: string): Promise<NormalizedStudy> {
     const n = loaded.problems.length;
     throw new UserError(
       `${path}: ${n} problem${n === 1 ? "" : "s"}\n${formatProblems(loaded.problems)}`,
-      "fix the lines above and run: spindrift check " + path,
+      loaded.problems.every((p) => p.code === "file-unreadable")
+        ? "check the path (relative paths start from the current folder)"
+        : "fix the lines above and run: spindrift check " + path,
     );
   }
   return normalizeStudy(loaded.study, { text: loaded.text, sourcePath: resolve(path) });
@@ -158,6 +160,7 @@ Typical session:
   spindrift run my-study.yaml          run or resume it (database next to the study file)
   spindrift run my-study.yaml --executor slurm    or submit it as a Slurm job array; then:
   spindrift collect my-study.yaml      fold the cluster's results into the database
+  spindrift analyse my-study.sqlite    estimate D/κ, evaporation and losses with bootstrap intervals
   spindrift report my-study.sqlite     write the HTML report page
   spindrift query my-study.sqlite "SELECT status, COUNT(*) FROM realisations GROUP BY status"
   spindrift demo                       run the bundled demo study and write its report`,
@@ -253,7 +256,9 @@ Typical session:
       printRunReport(report, dbPath);
       if (report.interrupted) Deno.exitCode = 130;
       else if (report.failed) Deno.exitCode = 1;
-      if (!report.interrupted) out(`next: spindrift report ${dbPath}`);
+      if (!report.interrupted) {
+        out(`next: spindrift analyse ${dbPath}   (D/κ with intervals), then spindrift report ${dbPath}`);
+      }
     });
 
   program.command("collect")

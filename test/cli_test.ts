@@ -42,6 +42,19 @@ Deno.test("cli: a wrong flag gets a one-line message with a suggestion, exit cod
   assertNoStackTrace(r.stderr);
 });
 
+Deno.test("cli: a study file that does not exist gets one problem and a hint about the path", async () => {
+  const r = await runCli(["run", "no-such-study.yaml"]);
+  assertEquals(r.code, 1);
+  assert(r.stderr.includes("cannot read the study file: there is no such file"), r.stderr);
+  assert(r.stderr.includes("hint: check the path"), r.stderr);
+  assertNoStackTrace(r.stderr);
+});
+
+Deno.test("cli: --help shows the typical session, analyse included", async () => {
+  const r = await runCli(["--help"]);
+  assert(/spindrift analyse my-study\.sqlite +estimate D\/κ/.test(r.stdout), r.stdout);
+});
+
 Deno.test("cli: check of a broken study lists problems with line numbers and no stack trace", async () => {
   const dir = Deno.makeTempDirSync();
   const path = `${dir}/bad.yaml`;
