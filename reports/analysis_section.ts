@@ -423,6 +423,20 @@ function dVsParameterChart(ctx: Ctx): ChartSpec {
   return { id, title, caption, spec, emptyReason: null };
 }
 
+/** The fit windows [t₁, t₂] as shaded bands on a log time axis, one colour per point (none: no layer). */
+function windowLayers(ctx: Ctx, windows: readonly Record<string, unknown>[], opacity: number): unknown[] {
+  if (windows.length === 0) return [];
+  return [{
+    data: { values: windows },
+    mark: { type: "rect", opacity },
+    encoding: {
+      x: { field: "t1", type: "quantitative", scale: { type: "log", nice: false }, title: timeTitle(ctx) },
+      x2: { field: "t2" },
+      color: colour(ctx),
+    },
+  }];
+}
+
 function msdFitChart(ctx: Ctx): ChartSpec {
   const id = "msd-fit";
   const title = "MSD with guide lines and the fit window";
@@ -487,18 +501,7 @@ function msdFitChart(ctx: Ctx): ChartSpec {
   const yTitle = lu ? `MSD [${lu}²]` : "MSD (length²)";
   const x = { field: "t", type: "quantitative", title: timeTitle(ctx), scale: { type: "log", nice: false } };
   const y = { field: "msd", type: "quantitative", title: yTitle, scale: { type: "log" } };
-  const layers: unknown[] = [];
-  if (windows.length > 0) {
-    layers.push({
-      data: { values: windows },
-      mark: { type: "rect", opacity: 0.1 },
-      encoding: {
-        x: { field: "t1", type: "quantitative", scale: { type: "log", nice: false }, title: timeTitle(ctx) },
-        x2: { field: "t2" },
-        color: colour(ctx),
-      },
-    });
-  }
+  const layers: unknown[] = windowLayers(ctx, windows, 0.1);
   layers.push({
     data: { values: data },
     mark: { type: "line", strokeWidth: 1.5 },
@@ -533,10 +536,13 @@ function localSlopeChart(ctx: Ctx): ChartSpec {
   const title = "Local slope α(t) = d ln MSD / d ln t";
   const rows: Record<string, unknown>[] = [];
   const windows: Record<string, unknown>[] = [];
+  let band: [number, number] = [0.85, 1.15];
   for (const p of ctx.points) {
     const r = p.rows.get("msd-fit/D");
     const s = rec(r?.detail.slope);
     if (!r || !s) continue;
+    const stored = arr(rec(r.detail.rules)?.alphaBand);
+    if (typeof stored[0] === "number" && typeof stored[1] === "number") band = [stored[0], stored[1]];
     const t = arr(s.t), a = arr(s.alpha);
     t.forEach((tk, k) => {
       if (typeof tk === "number" && tk > 0 && typeof a[k] === "number") {
@@ -548,12 +554,12 @@ function localSlopeChart(ctx: Ctx): ChartSpec {
   }
   const caption =
     "Smoothed local exponent on a log grid: 2 = ballistic, 1 = diffusive (grey lines). Band: the " +
-    "accepted range [0.85, 1.15] inside the window; shaded per point: the chosen window.";
+    `accepted range [${band[0]}, ${band[1]}] inside the window; shaded per point: the chosen window.`;
   if (rows.length === 0) return { id, title, caption, spec: null, emptyReason: "No stored local slope." };
   const x = { field: "t", type: "quantitative", title: timeTitle(ctx), scale: { type: "log", nice: false } };
   const layers: unknown[] = [
     {
-      data: { values: [{ lo: 0.85, hi: 1.15 }] },
+      data: { values: [{ lo: band[0], hi: band[1] }] },
       mark: { type: "rect", color: "#999999", opacity: 0.15 },
       encoding: { y: { field: "lo", type: "quantitative" }, y2: { field: "hi" } },
     },
@@ -563,17 +569,7 @@ function localSlopeChart(ctx: Ctx): ChartSpec {
       encoding: { y: { field: "a", type: "quantitative" } },
     },
   ];
-  if (windows.length > 0) {
-    layers.push({
-      data: { values: windows },
-      mark: { type: "rect", opacity: 0.08 },
-      encoding: {
-        x: { field: "t1", type: "quantitative", scale: { type: "log", nice: false }, title: timeTitle(ctx) },
-        x2: { field: "t2" },
-        color: colour(ctx),
-      },
-    });
-  }
+  layers.push(...windowLayers(ctx, windows, 0.08));
   layers.push({
     data: { values: rows },
     mark: { type: "line", strokeWidth: 2, point: { filled: true, size: 20 }, tooltip: true },
