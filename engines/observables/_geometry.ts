@@ -259,6 +259,22 @@ function swap(a: Float64Array, i: number, j: number): void {
  * (start[0] = 0); on return `start[b]` is the first slot of bucket b in `order`, which lists the objects i with
  * `bucketOf[i] ≥ 0` bucket by bucket. No allocation.
  */
+/** Buckets of a hash grid over n objects: a power of two ≥ 16 and ≥ 2n (load ≤ 1/2), so `mask = nb − 1`. */
+export function bucketCount(n: number): number {
+  let nb = 16;
+  while (nb < 2 * n) nb *= 2;
+  return nb;
+}
+
+/** Bucket-start array for up to `capacity` objects (bucketCount + 1 sentinel); `current` when long enough. */
+export function ensureBucketStarts(
+  current: Int32Array<ArrayBuffer>,
+  capacity: number,
+): Int32Array<ArrayBuffer> {
+  const nb = bucketCount(capacity);
+  return current.length < nb + 1 ? new Int32Array(nb + 1) : current;
+}
+
 export function fillBuckets(
   n: number,
   nb: number,

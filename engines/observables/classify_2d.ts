@@ -46,7 +46,15 @@
  */
 import type { EngineEvent, Frame } from "../contract.ts";
 import { assertClassificationConfig } from "./_config.ts";
-import { ensureI32, ensureU8, fillBuckets, newCentreResult, trimmedCentre } from "./_geometry.ts";
+import {
+  bucketCount,
+  ensureBucketStarts,
+  ensureI32,
+  ensureU8,
+  fillBuckets,
+  newCentreResult,
+  trimmedCentre,
+} from "./_geometry.ts";
 import { IdTable } from "./_id_table.ts";
 import type { Classification, Classifier, ObservableContext } from "./contract.ts";
 import { Label } from "./labels.ts";
@@ -356,9 +364,7 @@ class DipoleClassifier implements Classifier {
     this.#inDipole = ensureU8(this.#inDipole, n);
     this.#bucketOf = ensureI32(this.#bucketOf, n);
     this.#order = ensureI32(this.#order, n);
-    let buckets = 16;
-    while (buckets < 2 * this.#slotOf.length) buckets *= 2;
-    if (this.#bucketStart.length < buckets + 1) this.#bucketStart = new Int32Array(buckets + 1);
+    this.#bucketStart = ensureBucketStarts(this.#bucketStart, this.#slotOf.length);
   }
 
   /**
@@ -375,8 +381,7 @@ class DipoleClassifier implements Classifier {
     const bucketOf = this.#bucketOf;
     const order = this.#order;
     const start = this.#bucketStart;
-    let nb = 16;
-    while (nb < 2 * n) nb *= 2;
+    const nb = bucketCount(n);
     const mask = nb - 1;
     const inv = 1 / radius;
     start.fill(0, 0, nb + 1);

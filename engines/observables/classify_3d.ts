@@ -49,6 +49,8 @@
 import type { EngineEvent, Frame } from "../contract.ts";
 import { assertClassificationConfig } from "./_config.ts";
 import {
+  bucketCount,
+  ensureBucketStarts,
   ensureF64,
   ensureI32,
   ensureU8,
@@ -523,8 +525,7 @@ class LoopClassifier implements Classifier {
     const order = this.#order;
     const start = this.#bucketStart;
     if (!this.#gridBuilt) {
-      let nb = 16;
-      while (nb < 2 * n) nb *= 2;
+      const nb = bucketCount(n);
       this.#gridMask = nb - 1;
       this.#gridInv = 1 / radius;
       const inv = this.#gridInv;
@@ -582,9 +583,7 @@ class LoopClassifier implements Classifier {
     this.#starts = ensureI32(this.#starts, n + 1);
     this.#bucketOf = ensureI32(this.#bucketOf, n);
     this.#order = ensureI32(this.#order, n);
-    let nb = 16;
-    while (nb < 2 * this.#len.length) nb *= 2;
-    if (this.#bucketStart.length < nb + 1) this.#bucketStart = new Int32Array(nb + 1);
+    this.#bucketStart = ensureBucketStarts(this.#bucketStart, this.#len.length);
   }
 
   #ensureLoops(m: number): void {
