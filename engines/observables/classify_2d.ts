@@ -267,28 +267,14 @@ class DipoleClassifier implements Classifier {
       this.#strayStreak[s] = outside && inDipole[i] === 0 ? this.#strayStreak[s] + 1 : 0;
       this.#insideStreak[s] = inside ? this.#insideStreak[s] + 1 : 0;
       const label = this.#label[s];
-      if (label !== Label.Stray && this.#strayStreak[s] >= sticky) {
-        this.#label[s] = Label.Stray;
+      const stray = label !== Label.Stray && this.#strayStreak[s] >= sticky;
+      if (stray || (label !== Label.Main && this.#insideStreak[s] >= sticky)) {
+        // Stray (outside, in no dipole for K frames) or recaptured (inside for K frames).
+        this.#label[s] = stray ? Label.Stray : Label.Main;
+        if (!stray) this.#strayStreak[s] = 0;
         this.#events.push({
           t: frame.t,
-          kind: "stray",
-          ids: [id[i]],
-          data: {
-            fromLabel: label,
-            distance,
-            radiusLimit,
-            rmsRadius: rms,
-            centreX: cx,
-            centreY: cy,
-            frames: sticky,
-          },
-        });
-      } else if (label !== Label.Main && this.#insideStreak[s] >= sticky) {
-        this.#label[s] = Label.Main;
-        this.#strayStreak[s] = 0;
-        this.#events.push({
-          t: frame.t,
-          kind: "recapture",
+          kind: stray ? "stray" : "recapture",
           ids: [id[i]],
           data: {
             fromLabel: label,
