@@ -155,10 +155,7 @@ function bandChart(
   }
   const scale = log ? { type: "log", nice: false } : { zero: false };
   const spec = {
-    $schema: SCHEMA,
-    data: { values: rows },
-    facet: { field: "study", type: "nominal", title: null, sort: studies.map((s) => s.key) },
-    columns: Math.min(3, studies.length),
+    ...facetByStudy(studies, rows),
     spec: {
       width,
       height: 240,
@@ -191,6 +188,16 @@ const LOSSES = [
   { analysis: "evaporation", name: "evaporated" },
   { analysis: "evaporation", name: "lost_fraction" },
 ] as const;
+
+/** Data and one facet panel per study (up to three per row), in the order the studies were given. */
+function facetByStudy(studies: readonly StudyEntry[], rows: readonly Record<string, unknown>[]) {
+  return {
+    $schema: SCHEMA,
+    data: { values: rows },
+    facet: { field: "study", type: "nominal", title: null, sort: studies.map((s) => s.key) },
+    columns: Math.min(3, studies.length),
+  };
+}
 
 function dRows(s: StudyEntry, extra: readonly { analysis: string; name: string }[] = []) {
   return s.agg.points.map((p) => ({
@@ -236,10 +243,7 @@ function dChart(studies: readonly StudyEntry[], width: number): ChartSpec {
     };
   }
   const spec = {
-    $schema: SCHEMA,
-    data: { values: rows },
-    facet: { field: "study", type: "nominal", title: null, sort: studies.map((s) => s.key) },
-    columns: Math.min(3, studies.length),
+    ...facetByStudy(studies, rows),
     spec: {
       width,
       height: 240,
