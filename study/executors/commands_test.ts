@@ -33,7 +33,8 @@ Deno.test("checkExecutorOptions: options of the other executor are refused by na
   );
 });
 
-Deno.test("cluster commands: submit, status before and after a task, collect report what happened", async () => {
+/** A small study in a temp folder, its database path, a fake scheduler and an environment recording lines. */
+async function clusterFixture() {
   const { dir, studyPath } = studyInTempDir();
   const study = await loadNormalizedForTest(studyPath);
   const dbPath = `${dir}/cluster-small.sqlite`;
@@ -45,6 +46,11 @@ Deno.test("cluster commands: submit, status before and after a task, collect rep
     provenance: TEST_PROVENANCE,
     batch,
   };
+  return { study, dbPath, batch, lines, env };
+}
+
+Deno.test("cluster commands: submit, status before and after a task, collect report what happened", async () => {
+  const { study, dbPath, batch, lines, env } = await clusterFixture();
   // Queue answers in call order: at submission (empty), for the first status (task 0 running, task 1
   // pending), then empty again (both tasks ended; only task 0 stored anything).
   let polls = 0;
@@ -123,17 +129,7 @@ Deno.test("collectCommand: without a results folder the message says how to subm
 });
 
 Deno.test("clusterRunCommand --wait: polls until the job has left the queue, then collects", async () => {
-  const { dir, studyPath } = studyInTempDir();
-  const study = await loadNormalizedForTest(studyPath);
-  const dbPath = `${dir}/cluster-small.sqlite`;
-  const batch = new FakeBatch();
-  const lines: string[] = [];
-  const env = {
-    write: (l: string) => lines.push(l),
-    note: (l: string) => lines.push(`note: ${l}`),
-    provenance: TEST_PROVENANCE,
-    batch,
-  };
+  const { study, dbPath, batch, lines, env } = await clusterFixture();
   // The fake scheduler runs every task when it is first asked after the submission.
   let polls = 0;
   batch.queue = async () => {
