@@ -24,19 +24,8 @@ export function bytesSource(bytes: Uint8Array): ByteSource {
   };
 }
 
-/** A frame copied out of the engine's reused buffers. */
-export interface CopiedFrame {
-  readonly index: number;
-  readonly t: number;
-  readonly n: number;
-  readonly id: Int32Array;
-  readonly x: Float64Array;
-  readonly y: Float64Array;
-  readonly z: Float64Array | null;
-  readonly circulation: Float64Array | null;
-  readonly loop: Int32Array | null;
-  readonly marker: Uint8Array | null;
-}
+/** A frame copied out of the engine's reused buffers (arrays trimmed to n; diagnostics dropped). */
+export type CopiedFrame = Omit<Frame, "diagnostics">;
 
 export function copyFrame(f: Frame): CopiedFrame {
   const n = f.n;
