@@ -19,7 +19,7 @@ import type { TopLevelSpec } from "vega-lite";
 import type { EnsembleResult } from "../store/ensemble.ts";
 import type { StudyAggregate } from "./aggregate.ts";
 import { escapeHtml, formatNumber } from "./html.ts";
-import { type ChartOptions, type ChartSpec, CONFIG, DECADE_LABELS, SCHEMA } from "./specs.ts";
+import { type ChartOptions, type ChartSpec, CONFIG, DECADE_LABELS, estimateLayers, SCHEMA } from "./specs.ts";
 
 /** A piece of the section: HTML (already escaped) or a chart. */
 export type AnalysisPart = { readonly html: string } | { readonly chart: ChartSpec };
@@ -399,25 +399,13 @@ function dVsParameterChart(ctx: Ctx): ChartSpec {
       xOffset: swept ? undefined : { field: "estimator", type: "nominal" },
       color: { field: "estimator", type: "nominal", title: "estimator" },
     },
-    layer: [
-      {
-        mark: { type: "rule", strokeWidth: 2 },
-        encoding: { y: { field: "lower", type: "quantitative", title: "D/κ" }, y2: { field: "upper" } },
-      },
-      {
-        mark: { type: "point", filled: true, size: 70, tooltip: true },
-        encoding: {
-          y: { field: "D", type: "quantitative", title: "D/κ" },
-          tooltip: [
-            { field: "point", type: "nominal" },
-            { field: "estimator", type: "nominal" },
-            { field: "D", type: "quantitative", format: ".4g" },
-            { field: "lower", type: "quantitative", title: "CI low", format: ".4g" },
-            { field: "upper", type: "quantitative", title: "CI high", format: ".4g" },
-          ],
-        },
-      },
-    ],
+    layer: estimateLayers(70, [
+      { field: "point", type: "nominal" },
+      { field: "estimator", type: "nominal" },
+      { field: "D", type: "quantitative", format: ".4g" },
+      { field: "lower", type: "quantitative", title: "CI low", format: ".4g" },
+      { field: "upper", type: "quantitative", title: "CI high", format: ".4g" },
+    ]),
     config: CONFIG,
   } as unknown as TopLevelSpec;
   return { id, title, caption, spec, emptyReason: null };

@@ -32,7 +32,7 @@ import {
   STYLE,
 } from "./html.ts";
 import { compileChart, readVegaRuntime, renderSvg } from "./render.ts";
-import { type ChartSpec, CONFIG, SCHEMA } from "./specs.ts";
+import { type ChartSpec, CONFIG, estimateLayers, SCHEMA } from "./specs.ts";
 
 export interface CompareOptions {
   /** Page path (default `compare.html` in the current folder). */
@@ -252,16 +252,7 @@ function dChart(studies: readonly StudyEntry[], width: number): ChartSpec {
         xOffset: { field: "estimator", type: "nominal" },
         color: { field: "estimator", type: "nominal", title: "estimator" },
       },
-      layer: [
-        {
-          mark: { type: "rule", strokeWidth: 2 },
-          encoding: { y: { field: "lower", type: "quantitative", title: "D/κ" }, y2: { field: "upper" } },
-        },
-        {
-          mark: { type: "point", filled: true, size: 60, tooltip: true },
-          encoding: { y: { field: "D", type: "quantitative", title: "D/κ" } },
-        },
-      ],
+      layer: estimateLayers(60),
     },
     resolve: { scale: { x: "independent", y: "shared" } },
     config: CONFIG,

@@ -138,6 +138,26 @@ function colour(ctx: Context, lines: boolean) {
 }
 
 /** Labels only at powers of ten on a log axis (Vega's default labels every 1–9 multiple, which crowd). */
+/**
+ * Layers of a D-estimate chart: an error bar from `lower` to `upper` and a point at `D` (fields of the data
+ * rows; the tooltip lists `tooltip` when given, else every field). Shared by the report's D-vs-parameter chart and the compare page.
+ */
+export function estimateLayers(pointSize: number, tooltip?: readonly unknown[]): unknown[] {
+  return [
+    {
+      mark: { type: "rule", strokeWidth: 2 },
+      encoding: { y: { field: "lower", type: "quantitative", title: "D/κ" }, y2: { field: "upper" } },
+    },
+    {
+      mark: { type: "point", filled: true, size: pointSize, tooltip: true },
+      encoding: {
+        y: { field: "D", type: "quantitative", title: "D/κ" },
+        ...(tooltip ? { tooltip } : {}),
+      },
+    },
+  ];
+}
+
 export const DECADE_LABELS =
   "abs(log(datum.value) / LN10 - round(log(datum.value) / LN10)) < 1e-6 ? datum.label : ''";
 
