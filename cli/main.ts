@@ -158,7 +158,7 @@ export function buildProgram(): Command {
 Typical session:
   spindrift check my-study.yaml        validate the study file (every problem, with line numbers)
   spindrift run my-study.yaml          run or resume it (database next to the study file)
-  spindrift run my-study.yaml --executor slurm    or submit it as a Slurm job array; then:
+  spindrift run my-study.yaml --cluster    or submit it as a Slurm job array; then:
   spindrift collect my-study.yaml      fold the cluster's results into the database
   spindrift analyse my-study.sqlite    estimate D/κ, evaporation and losses with bootstrap intervals
   spindrift report my-study.sqlite     write the HTML report page
@@ -204,11 +204,9 @@ Typical session:
     .option("--fresh", "delete this study's stored realisations and start over", false)
     .option("--keep-failed", "do not rerun realisations that failed before", false)
     .option("-q, --quiet", "no progress output", false)
-    .addOption(
-      new Option("--executor <where>", "local (this machine's workers) or slurm (a job array on a cluster)")
-        .choices(["local", "slurm"]).default("local"),
-    )
-    .optionsGroup("Cluster options (with --executor slurm; see README, 'Running on a cluster'):")
+    .option("--cluster", "submit a Slurm job array on the cluster instead of running on this machine")
+    .addOption(new Option("--executor <where>", "deprecated: --executor slurm is --cluster").hideHelp())
+    .optionsGroup("Cluster options (with --cluster; see README, 'Running on a cluster'):")
     .option(
       "--results <dir>",
       "folder for job files and shards (default: <database name>-cluster/ beside it)",
@@ -242,7 +240,7 @@ Typical session:
     .action(async (path, o) => {
       const study = await loadNormalized(path);
       const dbPath = o.db ?? defaultDbPath(path, study);
-      if (cluster.checkExecutorOptions(o) === "slurm") {
+      if (cluster.checkExecutorOptions(o, (l) => console.error(`spindrift: ${l}`)) === "slurm") {
         const flags = { ...o, dbPath, extraLines: o.sbatchLine, launcher: LAUNCHER };
         Deno.exitCode = await cluster.clusterRunCommand(study, flags, clusterEnv());
         return;
@@ -263,7 +261,7 @@ Typical session:
 
   program.command("collect")
     .description("fold the shards of a cluster run into the study database (any time, as often as wanted)")
-    .argument("<study>", "study file (YAML) submitted with 'spindrift run --executor slurm'")
+    .argument("<study>", "study file (YAML) submitted with 'spindrift run --cluster'")
     .option("--db <path>", "database file (default: <study name>.sqlite next to the study file)")
     .option("--results <dir>", "cluster results folder (default: <database name>-cluster/ beside it)")
     .action(async (path, o) => {

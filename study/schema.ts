@@ -271,7 +271,7 @@ export const runSchema = z.strictObject({
       "depend on it.",
   ),
   cluster: clusterSchema.optional().describe(
-    "Resources for `spindrift run --executor slurm` (partition, time limit, memory, …); flags override them. " +
+    "Resources for `spindrift run --cluster` (partition, time limit, memory, …); flags override them. " +
       "Never part of a hash: results do not depend on where they were computed.",
   ),
 }).superRefine(refineWith(runRules)).describe("Run controls shared by every engine.");
