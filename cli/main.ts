@@ -68,6 +68,7 @@ function defaultWorkers(): number {
 /** Loads, validates and normalizes a study file, or throws a UserError listing every problem. */
 async function loadNormalized(path: string): Promise<NormalizedStudy> {
   const loaded = await loadStudy(path);
+  for (const w of loaded.warnings ?? []) console.error(`warning: ${formatProblems([w])}`);
   if (!loaded.ok) {
     const n = loaded.problems.length;
     throw new UserError(

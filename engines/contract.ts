@@ -172,6 +172,21 @@ export interface Engine<P = unknown> {
    * message when the realisation could not start (a missing template file, a program not found).
    */
   describeRealisation?(input: EngineRunInput<P>): readonly string[] | Promise<readonly string[]>;
+  /**
+   * Optional: rewrites parameters written in an earlier spelling (accepted for one release after a rename) into
+   * the current one, with a deprecation note per change; the study loader applies it before checking and shows
+   * the notes. Gets plain YAML values, possibly only a part of the parameters (a swept value); returns what it
+   * does not know unchanged.
+   */
+  upgradeParams?(params: Readonly<Record<string, unknown>>): ParamsUpgrade;
+}
+
+/** Parameters rewritten from an earlier spelling to the current one (`Engine.upgradeParams`). */
+export interface ParamsUpgrade {
+  /** The parameters in the current spelling (the input itself when nothing was old). */
+  readonly params: Readonly<Record<string, unknown>>;
+  /** One note per rewritten field: where it was (path inside `parameters`) and what to write instead. */
+  readonly notes: readonly { readonly path: readonly (string | number)[]; readonly message: string }[];
 }
 
 /**
