@@ -146,6 +146,11 @@ export interface Engine<P = unknown> {
   readonly title: string;
   readonly capabilities: EngineCapabilities;
   /**
+   * False when a realisation draws no random numbers (its input alone decides it, e.g. imported files): the
+   * study's `seed` may then be left out. Default true.
+   */
+  readonly usesSeed?: boolean;
+  /**
    * zod schema of the engine's `parameters` section. Every dimensional field documents its unit in
    * `.describe()`. Cross-field rules (e.g. odd vortex count with zero polarity) are refinements with a path.
    */

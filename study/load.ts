@@ -61,6 +61,7 @@ import {
   MAX_POINTS,
   observablesRules,
   runRules,
+  SEED_WHEN_UNUSED,
   splitSweepPath,
   type StudyFile,
   studyShellSchema,
@@ -264,6 +265,7 @@ function check(text: string, file: string, engines: readonly Engine<any>[]): Loa
   }
 
   if (c.count > 0) return c.result();
+  if (engine?.usesSeed === false && data.seed === undefined) data = { ...data, seed: SEED_WHEN_UNUSED };
   const shell = studyShellSchema.safeParse(data);
   if (!shell.success) {
     for (const issue of shell.error.issues) {

@@ -103,6 +103,7 @@ export const importedTracks2dEngine: Engine<Tracks2dParams> = {
   version: IMPORTED_ENGINE_VERSION,
   title: "Imported 2D vortex tracks (CSV, TSV, JSON lines, HDF5)",
   capabilities: capabilities2d,
+  usesSeed: false,
   paramsSchema: tracks2dParamsSchema,
   run: (input, sink) => runImport(2, input, sink),
 };
@@ -113,6 +114,7 @@ export const importedFilaments3dEngine: Engine<Filaments3dParams> = {
   version: IMPORTED_ENGINE_VERSION,
   title: "Imported 3D vortex-filament snapshots (CSV, TSV, JSON lines, HDF5)",
   capabilities: capabilities3d,
+  usesSeed: false,
   paramsSchema: filaments3dParamsSchema,
   scales: (params) => ({ coreRadius: lengthInStudyUnits(params.coreRadius, params.units, "coreRadius") }),
   run: (input, sink) => runImport(3, input, sink),

@@ -122,6 +122,21 @@ Deno.test("pointVortexParamsSchema rejects impossible packings and a minimum sep
   );
 });
 
+Deno.test("pointVortexParamsSchema: a cloud without minSeparation keeps twice the annihilation distance", () => {
+  // A minimal cloud with annihilation must not contradict itself through a default (minSeparation ≥
+  // 2 d_ann keeps pairs from annihilating at once: common practice, no source).
+  const p = pointVortexParamsSchema.parse({ initial: cloud(), annihilationDistance: 0.1 });
+  assert.equal(p.initial.kind === "random-cloud" && p.initial.minSeparation, 0.2);
+  const q = pointVortexParamsSchema.parse({ initial: cloud() });
+  assert.equal(q.initial.kind === "random-cloud" && q.initial.minSeparation, 0);
+  // The default can still be too large for the cloud: the message says it is the default.
+  hasIssue(
+    { initial: cloud({ count: 1000, radius: 2 }), annihilationDistance: 0.1 },
+    "initial.radius",
+    "(the default, 2 × annihilationDistance) is too large",
+  );
+});
+
 Deno.test("pointVortexParamsSchema reports every problem at once", () => {
   const list = issues({ domain: { kind: "disk", radius: 5 }, initial: cloud({ count: 63 }), bogus: 1 });
   assert.ok(list.length >= 3, JSON.stringify(list));
