@@ -22,6 +22,8 @@ import { type ExportFormat, exportRealisation } from "./export.ts";
 import { analyseAndReport, analyseCommand, replicateCount } from "./analyse.ts";
 import { compareCommand } from "./compare.ts";
 import * as cluster from "../study/executors/mod.ts";
+import { starterEngines } from "../study/starter.ts";
+import { newStudyCommand } from "./new.ts";
 
 const REPO = new URL("../", import.meta.url);
 /** The bundled demo studies; `decay` is a homogeneous-decay study run first to calibrate χ₂ (Vinen fit). */
@@ -166,6 +168,24 @@ Typical session:
   spindrift query my-study.sqlite "SELECT status, COUNT(*) FROM realisations GROUP BY status"
   spindrift demo                       run the bundled demo study and write its report`,
     );
+
+  program.command("new")
+    .description(
+      "write a commented starter study for an engine, ready for 'spindrift check' (list: spindrift new)",
+    )
+    .argument("[engine]", "engine id, e.g. point-vortex-2d (leave out to list the engines)")
+    .argument("[file]", "study file to write (default: my-study.yaml; - writes to standard output)")
+    .option("--name <name>", "study name (default: the file name without .yaml)")
+    .option("--force", "overwrite the file if it exists", false)
+    .action(async (engineId, file, o) => {
+      if (engineId === undefined) {
+        out("engines (spindrift new ENGINE [FILE] writes a starter study for one):");
+        const w = Math.max(...starterEngines().map((e) => e.id.length));
+        for (const e of starterEngines()) out(`  ${e.id.padEnd(w)}  ${e.title}`);
+        return;
+      }
+      Deno.exitCode = await newStudyCommand(engineId, file ?? "my-study.yaml", o, out);
+    });
 
   program.command("check")
     .description("validate a study file and show what it would run (nothing is computed)")

@@ -184,6 +184,29 @@ export interface Engine<P = unknown> {
    * does not know unchanged.
    */
   upgradeParams?(params: Readonly<Record<string, unknown>>): ParamsUpgrade;
+  /** What `spindrift new` writes for this engine (the starter test requires one for every registered engine). */
+  readonly starter?: EngineStarter;
+}
+
+/**
+ * A first study for an engine, written by `spindrift new <engine>`: it must pass `spindrift check` as written and
+ * explain its fields in comments. YAML snippets have their top-level keys in column 0 (the writer indents them).
+ */
+export interface EngineStarter {
+  /** What the starter study sets up and what to change first, in plain sentences (comment lines of the file). */
+  readonly about: string;
+  /** The study's `description`: the question the study asks, for the user to rewrite. */
+  readonly question: string;
+  /** The `parameters` section, commented YAML. */
+  readonly parameters: string;
+  /** An optional `sweep` section (commented YAML with `grid` or `zip` at column 0). */
+  readonly sweep?: string;
+  /** Realisations per parameter point for a first run. */
+  readonly realisations: number;
+  /** `run` section: duration and sample interval in the engine's time unit, and a comment naming that unit. */
+  readonly run: { readonly duration: number; readonly sampleInterval: number; readonly unit: string };
+  /** Optional lines for the `observables.classification` comment (e.g. why a threshold differs here). */
+  readonly classification?: string;
 }
 
 /** Parameters rewritten from an earlier spelling to the current one (`Engine.upgradeParams`). */

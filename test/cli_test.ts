@@ -177,3 +177,19 @@ Deno.test("cli: run, status, query and export work together on a small study", a
   assertEquals(lines.length - 1, objects);
   assert(/^0,\d+,-?[\d.e-]+,-?[\d.e-]+,-?1,(main|evaporated|stray)$/.test(lines[1]), lines[1]);
 });
+
+Deno.test("cli: new writes a starter study that check accepts, and never overwrites by accident", async () => {
+  const dir = Deno.makeTempDirSync();
+  const file = `${dir}/ring study.yaml`;
+  const made = await runCli(["new", "vortex-filament-3d", file]);
+  assertEquals(made.code, 0, made.stderr);
+  assert(made.stdout.includes("spindrift check"), made.stdout);
+  assert(Deno.readTextFileSync(file).includes("name: ring-study "), "study name from the file name");
+  const check = await runCli(["check", file]);
+  assertEquals(check.code, 0, check.stderr);
+  assert(check.stdout.includes(": ok"), check.stdout);
+  const again = await runCli(["new", "point-vortex-2d", file]);
+  assertEquals(again.code, 1);
+  assert(again.stderr.includes("exists already") && again.stderr.includes("--force"), again.stderr);
+  assertNoStackTrace(again.stderr);
+});

@@ -37,6 +37,7 @@ import { LoopsFileError, readLoopsFile } from "./loops_file.ts";
 import { A0_DEFAULT_M, type FilamentParams, filamentParamsSchema, KAPPA_HE4 } from "./params.ts";
 import { FilamentSimulation, type SimulationConfig } from "./simulation.ts";
 import { upgradeFilamentParams } from "./upgrade.ts";
+import { FILAMENT_STARTER } from "./starter.ts";
 import { SegmentTree } from "./tree.ts";
 import type { NormalFlow } from "./velocity.ts";
 
@@ -94,6 +95,7 @@ export const filamentEngine: Engine<FilamentParams> = {
   },
   paramsSchema: filamentParamsSchema,
   upgradeParams: upgradeFilamentParams,
+  starter: FILAMENT_STARTER,
   run(input, sink) {
     checkControls(input.controls);
     const init = input.params.initial;

@@ -34,6 +34,7 @@ import { readDelimited } from "./read_delimited.ts";
 import { readHdf5 } from "./read_hdf5.ts";
 import { readJsonLines } from "./read_jsonl.ts";
 import { lengthInStudyUnits } from "./units.ts";
+import { FILAMENTS_3D_STARTER, TRACKS_2D_STARTER } from "./starter.ts";
 
 /** Version of both imported-data engines (bumped when the same files could give different frames). */
 export const IMPORTED_ENGINE_VERSION = "1.0.0";
@@ -105,6 +106,7 @@ export const importedTracks2dEngine: Engine<Tracks2dParams> = {
   capabilities: capabilities2d,
   usesSeed: false,
   paramsSchema: tracks2dParamsSchema,
+  starter: TRACKS_2D_STARTER,
   run: (input, sink) => runImport(2, input, sink),
 };
 
@@ -116,6 +118,7 @@ export const importedFilaments3dEngine: Engine<Filaments3dParams> = {
   capabilities: capabilities3d,
   usesSeed: false,
   paramsSchema: filaments3dParamsSchema,
+  starter: FILAMENTS_3D_STARTER,
   scales: (params) => ({ coreRadius: lengthInStudyUnits(params.coreRadius, params.units, "coreRadius") }),
   run: (input, sink) => runImport(3, input, sink),
 };
