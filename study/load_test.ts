@@ -326,7 +326,7 @@ Deno.test("parseStudyText: an earlier spelling inside a swept value is rewritten
   equal(r.warnings.length, 1);
   match(
     formatProblems(r.warnings),
-    /^s\.yaml:12:9  sweep\.grid\.initial\[1\]: .*"colliding-rings" is the earlier name/,
+    /^s\.yaml:12:9 {2}sweep\.grid\.initial\[1\]: .*"colliding-rings" is the earlier name/,
   );
   const s = normalizeStudy(r.study, { text, sourcePath: "s.yaml" });
   equal((s.points[1].params as { initial: { kind: string } }).initial.kind, "ring-pair");
