@@ -18,7 +18,7 @@ import { writeReport } from "../reports/mod.ts";
 import { provenance, TOOL_VERSION } from "./provenance.ts";
 import { UserError } from "./errors.ts";
 import { openReadOnly, type QueryFormat, runQuery } from "./query.ts";
-import { type ExportFormat, exportRealisation } from "./export.ts";
+import { describeTarget, type ExportFormat, exportProvenance, exportRealisation } from "./export.ts";
 import { analyseAndReport, analyseCommand, replicateCount } from "./analyse.ts";
 import { compareCommand } from "./compare.ts";
 import * as cluster from "../study/executors/mod.ts";
@@ -56,6 +56,34 @@ function positiveInt(name: string) {
     const n = Number(v);
     if (!Number.isInteger(n) || n < 1) throw new UserError(`${name} must be a whole number ≥ 1, got '${v}'`);
     return n;
+  };
+}
+
+function nonNegativeInt(name: string) {
+  return (v: string): number => {
+    const n = Number(v);
+    if (v.trim() === "" || !Number.isInteger(n) || n < 0) {
+      throw new UserError(`${name} must be a whole number ≥ 0, got '${v}'`);
+    }
+    return n;
+  };
+}
+
+/** Writes to the file `path` (created at the first write, so a refused export leaves no file) or stdout. */
+function lazyOutput(path: string | undefined): { write(chunk: Uint8Array): Promise<void>; close(): void } {
+  let file: Deno.FsFile | null = null;
+  return {
+    async write(chunk: Uint8Array) {
+      if (path !== undefined && file === null) {
+        file = await Deno.open(path, { write: true, create: true, truncate: true });
+      }
+      const target = file ?? Deno.stdout;
+      let off = 0;
+      while (off < chunk.length) off += await target.write(chunk.subarray(off));
+    },
+    close() {
+      file?.close();
+    },
   };
 }
 
@@ -365,27 +393,53 @@ Typical session:
     });
 
   program.command("export")
-    .description("write one realisation's frames: one row per vortex per frame (time, id, position, label)")
+    .description(
+      "write one realisation's frames: one row per vortex (or filament point) per frame: time, id, position, label",
+    )
     .argument("<database>", "study database")
-    .requiredOption("-r, --realisation <id>", "realisation id (column id of table realisations)")
+    .option("-p, --point <point>", "parameter point: its index (0, 1, …) or label; not needed with one point")
+    .addOption(
+      new Option("-i, --index <n>", "realisation index within the point (0, 1, …)").argParser(
+        nonNegativeInt("--index"),
+      ),
+    )
+    .addOption(
+      new Option("--id <n>", "or: the database row id (realisations.id)").argParser(positiveInt("--id")),
+    )
+    .addOption(
+      new Option("--study <id>", "study revision id (default: the latest)").argParser(positiveInt("--study")),
+    )
     .addOption(new Option("-f, --format <format>", "output format").choices(["csv", "jsonl"]).default("csv"))
     .option("-o, --out <file>", "file to write (default: standard output)")
+    .option(
+      "--provenance <file>",
+      "also write where the export came from (study, point, index, seed) as JSON",
+    )
+    .addOption(new Option("-r, --realisation <id>", "deprecated: the database row id, now --id").hideHelp())
     .action(async (dbPath, o) => {
-      const id = positiveInt("--realisation")(o.realisation);
-      const file = o.out ? await Deno.open(o.out, { write: true, create: true, truncate: true }) : null;
-      const target = file ?? Deno.stdout;
-      const writer = {
-        async write(chunk: Uint8Array) {
-          let off = 0;
-          while (off < chunk.length) off += await target.write(chunk.subarray(off));
-        },
-      };
-      try {
-        const rows = await exportRealisation(dbPath, id, o.format as ExportFormat, writer);
-        if (o.out) out(`${rows} rows written to ${o.out}`);
-      } finally {
-        file?.close();
+      let id = o.id;
+      if (o.realisation !== undefined) {
+        console.error(
+          "spindrift: --realisation is deprecated and will be removed in the next release: it meant the database " +
+            "row id; write --id, or select by --point and --index",
+        );
+        id ??= positiveInt("--realisation")(o.realisation);
       }
+      const sel = { point: o.point, index: o.index, id, study: o.study };
+      const output = lazyOutput(o.out);
+      let res;
+      try {
+        res = await exportRealisation(dbPath, sel, o.format as ExportFormat, output);
+      } finally {
+        output.close();
+      }
+      const what = describeTarget(res.target);
+      if (o.provenance) {
+        const record = exportProvenance(dbPath, res, o.format as ExportFormat);
+        await Deno.writeTextFile(o.provenance, JSON.stringify(record, null, 2) + "\n");
+      }
+      if (o.out) out(`${res.rows} rows (${res.frames} frames) of ${what} written to ${o.out}`);
+      else console.error(`exported ${res.rows} rows (${res.frames} frames) of ${what}`);
     });
 
   program.command("status")
@@ -463,6 +517,12 @@ Typical session:
   return program;
 }
 
+/** True for the error of writing to a pipe whose reader has closed it. */
+function isClosedOutput(e: unknown): boolean {
+  return e instanceof Deno.errors.BrokenPipe ||
+    (e instanceof Error && (e as { code?: string }).code === "EPIPE");
+}
+
 function fail(message: string, hint?: string, code = 1): void {
   console.error(`spindrift: ${message}`);
   if (hint) console.error(`hint: ${hint}`);
@@ -474,6 +534,11 @@ export async function main(args: string[]): Promise<void> {
   try {
     await program.parseAsync(args, { from: "user" });
   } catch (e) {
+    if (isClosedOutput(e)) {
+      // The reader went away (e.g. `| head`): stop quietly, as command-line tools do.
+      Deno.exitCode = 0;
+      return;
+    }
     if (e instanceof CommanderError) {
       if (
         e.code === "commander.helpDisplayed" || e.code === "commander.version" || e.code === "commander.help"
