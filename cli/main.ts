@@ -13,7 +13,6 @@ import { describeFirstRealisation } from "../study/describe.ts";
 import { createProgress } from "../study/progress.ts";
 import { StoreError } from "../store/db.ts";
 import { StoreReadError } from "../store/reads.ts";
-import { studyStatus } from "../store/status.ts";
 import { writeReport } from "../reports/mod.ts";
 import { provenance, TOOL_VERSION } from "./provenance.ts";
 import { UserError } from "./errors.ts";
@@ -24,6 +23,9 @@ import { compareCommand } from "./compare.ts";
 import * as cluster from "../study/executors/mod.ts";
 import { starterEngines } from "../study/starter.ts";
 import { newStudyCommand } from "./new.ts";
+import { checkReport } from "./check.ts";
+import { statusCommand } from "./status.ts";
+import { describeUnits } from "../study/units.ts";
 
 const REPO = new URL("../", import.meta.url);
 /** The bundled demo studies; `decay` is a homogeneous-decay study run first to calibrate χ₂ (Vinen fit). */
@@ -218,7 +220,14 @@ Typical session:
   program.command("check")
     .description("validate a study file and show what it would run (nothing is computed)")
     .argument("<study>", "study file (YAML)")
-    .action(async (path) => {
+    .option("--json", "print the result as one JSON object (shape: README, 'Machine-readable output')")
+    .action(async (path, o) => {
+      if (o.json) {
+        const report = await checkReport(path);
+        out(JSON.stringify(report, null, 2));
+        if (!report.ok) Deno.exitCode = 1;
+        return;
+      }
       const study = await loadNormalized(path);
       const first = await describeFirstRealisation(study);
       if ("problem" in first) {
@@ -236,6 +245,7 @@ Typical session:
         `  duration ${study.run.duration}, frame every ${study.run.sampleInterval}, tolerance ${study.run.tolerance}`,
       );
       out(`  observables: ${study.observables.record.join(", ")}`);
+      for (const line of describeUnits(study).lines) out(`  ${line}`);
       for (const line of first.lines) out(`  ${line}`);
     });
 
@@ -289,6 +299,7 @@ Typical session:
     .action(async (path, o) => {
       const study = await loadNormalized(path);
       const dbPath = o.db ?? defaultDbPath(path, study);
+      if (!o.quiet) { for (const line of describeUnits(study).lines) out(line); }
       if (cluster.checkExecutorOptions(o, (l) => console.error(`spindrift: ${l}`)) === "slurm") {
         const flags = { ...o, dbPath, extraLines: o.sbatchLine, launcher: LAUNCHER };
         Deno.exitCode = await cluster.clusterRunCommand(study, flags, clusterEnv());
@@ -446,25 +457,24 @@ Typical session:
     .description("show per-point progress of a study database: done, failed, running, missing")
     .argument("<database>", "study database")
     .option("--results <dir>", "cluster results folder (default: <database name>-cluster/ beside it, if any)")
+    .option("--json", "print the status as one JSON object (shape: README, 'Machine-readable output')")
+    .addOption(
+      new Option(
+        "--watch [seconds]",
+        "refresh every few seconds (default 5) until Ctrl-C or the study is finished",
+      )
+        .argParser(positiveInt("--watch")),
+    )
     .action(async (dbPath, o) => {
-      const db = openReadOnly(dbPath);
+      const controller = new AbortController();
+      const stop = () => controller.abort();
+      Deno.addSignalListener("SIGINT", stop);
       try {
-        const flags = { dbPath, results: o.results, batch: cluster.slurmCommands() };
-        const lines = await cluster.clusterStatusLines(db, flags);
-        if (lines) return lines.forEach((l) => out(l));
-        const s = studyStatus(db);
-        if (!s) throw new UserError(`${dbPath} holds no study yet`, "run one with: spindrift run STUDY.yaml");
-        out(`study ${s.name} (last run ${s.lastRunAt ?? "never"})`);
-        const w = Math.max(5, ...s.points.map((p) => p.label.length));
-        out(`  ${"point".padEnd(w)}  done  failed  running  missing`);
-        for (const p of s.points) {
-          out(
-            `  ${p.label.padEnd(w)}  ${String(p.done).padStart(4)}  ${String(p.failed).padStart(6)}  ` +
-              `${String(p.running).padStart(7)}  ${String(p.missing).padStart(7)}`,
-          );
-        }
+        const watch = o.watch === true ? 5 : o.watch;
+        const flags = { results: o.results, batch: cluster.slurmCommands(), json: o.json, watch };
+        await statusCommand(dbPath, { ...flags, signal: controller.signal }, out);
       } finally {
-        db.close();
+        Deno.removeSignalListener("SIGINT", stop);
       }
     });
 

@@ -55,6 +55,7 @@ import {
   importedFilaments3dEngine,
   importedTracks2dEngine,
   lengthInStudyUnits,
+  studyUnitLabels,
   tracks2dParamsSchema,
 } from "../imported/mod.ts";
 import { type Invocation, prepareInvocation } from "./invocation.ts";
@@ -326,6 +327,7 @@ export const externalProgram2dEngine: Engine<External2dParams> = {
   capabilities: capabilities2d,
   paramsSchema: external2dParamsSchema,
   starter: EXTERNAL_2D_STARTER,
+  scales: (params) => ({ units: studyUnitLabels(params.units) }),
   run: (input, sink) => runExternal(2, EXTERNAL_2D_ID, input, sink),
   describeRealisation: (input) => describeExternal(2, EXTERNAL_2D_ID, input),
 };
@@ -338,7 +340,10 @@ export const externalProgram3dEngine: Engine<External3dParams> = {
   capabilities: capabilities3d,
   paramsSchema: external3dParamsSchema,
   starter: EXTERNAL_3D_STARTER,
-  scales: (params) => ({ coreRadius: lengthInStudyUnits(params.coreRadius, params.units, "coreRadius") }),
+  scales: (params) => ({
+    coreRadius: lengthInStudyUnits(params.coreRadius, params.units, "coreRadius"),
+    units: studyUnitLabels(params.units),
+  }),
   run: (input, sink) => runExternal(3, EXTERNAL_3D_ID, input, sink),
   describeRealisation: (input) => describeExternal(3, EXTERNAL_3D_ID, input),
 };

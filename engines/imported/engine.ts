@@ -33,7 +33,7 @@ import { assemblerSettings, planRead, selectionText } from "./plan.ts";
 import { readDelimited } from "./read_delimited.ts";
 import { readHdf5 } from "./read_hdf5.ts";
 import { readJsonLines } from "./read_jsonl.ts";
-import { lengthInStudyUnits } from "./units.ts";
+import { lengthInStudyUnits, studyUnitLabels } from "./units.ts";
 import { FILAMENTS_3D_STARTER, TRACKS_2D_STARTER } from "./starter.ts";
 
 /** Version of both imported-data engines (bumped when the same files could give different frames). */
@@ -107,6 +107,7 @@ export const importedTracks2dEngine: Engine<Tracks2dParams> = {
   usesSeed: false,
   paramsSchema: tracks2dParamsSchema,
   starter: TRACKS_2D_STARTER,
+  scales: (params) => ({ units: studyUnitLabels(params.units) }),
   run: (input, sink) => runImport(2, input, sink),
 };
 
@@ -119,6 +120,9 @@ export const importedFilaments3dEngine: Engine<Filaments3dParams> = {
   usesSeed: false,
   paramsSchema: filaments3dParamsSchema,
   starter: FILAMENTS_3D_STARTER,
-  scales: (params) => ({ coreRadius: lengthInStudyUnits(params.coreRadius, params.units, "coreRadius") }),
+  scales: (params) => ({
+    coreRadius: lengthInStudyUnits(params.coreRadius, params.units, "coreRadius"),
+    units: studyUnitLabels(params.units),
+  }),
   run: (input, sink) => runImport(3, input, sink),
 };

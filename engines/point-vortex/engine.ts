@@ -13,6 +13,7 @@
 import type { Engine } from "../contract.ts";
 import { type PointVortexParams, pointVortexParamsSchema } from "./params.ts";
 import { POINT_VORTEX_STARTER } from "./starter.ts";
+import { squared } from "../units.ts";
 import { simulate } from "./simulate.ts";
 
 export const pointVortexEngine: Engine<PointVortexParams> = {
@@ -43,7 +44,7 @@ export const pointVortexEngine: Engine<PointVortexParams> = {
   starter: POINT_VORTEX_STARTER,
   scales(params) {
     const l = params.lengthUnit;
-    return { units: { length: l, time: l.length === 1 ? `${l}²/κ` : `(${l})²/κ`, circulation: "κ" } };
+    return { units: { length: l, time: `${squared(l)}/κ`, circulation: "κ" } };
   },
   run(input, sink) {
     return simulate(input, sink);

@@ -18,7 +18,7 @@ import type { NormalizedStudy } from "../normalize.ts";
 import type { Provenance } from "../runner.ts";
 import type { PointProgress } from "./cluster_progress.ts";
 import type { MissingReport } from "./cluster_progress.ts";
-import { clusterStatus } from "./cluster_status.ts";
+import { type ClusterStatus, clusterStatus } from "./cluster_status.ts";
 import { collectStudy } from "./collect.ts";
 import { ExecutorError } from "./errors.ts";
 import { runSliceTask } from "./shard.ts";
@@ -311,6 +311,11 @@ export async function clusterStatusLines(
   }
   const s = await clusterStatus(db, { resultsDir, batch });
   if (!s) return null;
+  return clusterStatusText(s, resultsDir);
+}
+
+/** The text of `spindrift status` for a study with a cluster results folder. */
+export function clusterStatusText(s: ClusterStatus, resultsDir: string): string[] {
   const lines = [`study ${s.name} (last run ${s.lastRunAt ?? "never"})`, ...progressTable(s.points, true)];
   lines.push(`cluster results folder ${resultsDir}: ${plural(s.shards, "shard")}`);
   for (const j of s.jobs) {

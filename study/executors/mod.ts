@@ -50,11 +50,13 @@ export {
   readRealisationRefs,
   readShardRefs,
 } from "./cluster_progress.ts";
+export { type ClusterStatus, clusterStatus, type JobSummary } from "./cluster_status.ts";
 export {
   checkExecutorOptions,
   clusterRunCommand,
   type ClusterRunFlags,
   clusterStatusLines,
+  clusterStatusText,
   collectCommand,
   type CommandEnv,
   type ExecutorOptions,
