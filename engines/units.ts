@@ -43,6 +43,19 @@ export function diffusionUnit(
   return { symbol: "D", unit, header: `D (${unit})` };
 }
 
+/**
+ * Heading of one D estimate: "D/κ (MSD)" in κ units, "D (MSD, m²/s)" in physical units.
+ *
+ * @example
+ * ```ts
+ * diffusionHeading({ length: "m", time: "s" }, "D_R", "R_rms"); // "D_R (R_rms, m²/s)"
+ * ```
+ */
+export function diffusionHeading(units: UnitLabels | undefined, symbol: string, how: string): string {
+  const unit = diffusionUnit(units).unit;
+  return unit === null ? `${symbol}/κ (${how})` : `${symbol} (${how}, ${unit})`;
+}
+
 /** Metres in one `length` when it is a plain metric length (`µm`, `2.5 um`, `nm`), else undefined. */
 export function metresIn(length: string): number | undefined {
   const m = /^\s*(\d+(?:\.\d+)?(?:e[+-]?\d+)?)?\s*(m|cm|mm|µm|μm|um|nm)\s*$/.exec(length);

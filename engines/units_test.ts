@@ -1,5 +1,5 @@
 import { assertEquals } from "../test/_assert.ts";
-import { diffusionUnit, metresIn, squared, timeInKappaUnits } from "./units.ts";
+import { diffusionHeading, diffusionUnit, metresIn, squared, timeInKappaUnits } from "./units.ts";
 
 Deno.test("timeInKappaUnits: a length squared over κ is a κ-unit time; seconds are not", () => {
   for (const t of ["ℓ²/κ", "µm²/κ", "(patch radius)²/κ", "(2.5 µm)² / κ"]) {
@@ -23,4 +23,10 @@ Deno.test("squared and metresIn: unit text helpers", () => {
   assertEquals(metresIn("2.5 nm"), 2.5e-9);
   assertEquals(metresIn("patch radius"), undefined);
   assertEquals(metresIn("ℓ"), undefined);
+});
+
+Deno.test("diffusionHeading: κ-unit studies read D/κ, physical ones D with its unit (the 3D demo is in m and s)", () => {
+  assertEquals(diffusionHeading({ length: "ℓ", time: "ℓ²/κ" }, "D", "MSD"), "D/κ (MSD)");
+  assertEquals(diffusionHeading({ length: "m", time: "s" }, "D_R", "R_rms"), "D_R (R_rms, m²/s)");
+  assertEquals(diffusionHeading(undefined, "D", "Vinen"), "D/κ (Vinen)");
 });
