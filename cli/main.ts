@@ -36,6 +36,8 @@ const DEMOS: Readonly<Record<string, { readonly study: URL; readonly decay?: URL
   },
   "ring-burst": { study: new URL("examples/ring-burst.yaml", REPO) },
 };
+/** Realisations per point below which the MSD fit warns that its intervals are unreliable (msd_fit.ts). */
+const ANALYSIS_MIN_REALISATIONS = 20;
 /** The launcher cluster array tasks call (absolute path). */
 const LAUNCHER = new URL("spindrift", REPO).pathname;
 
@@ -483,7 +485,7 @@ Typical session:
       "run a bundled demo study, analyse it and write its report: film-patch (2D, default: a neutral " +
         "vortex patch stirred into a slightly warm thin superfluid film, with a periodic-box decay study " +
         "that calibrates χ₂ for the Vinen-equation fit) or ring-burst (3D: vortex rings puffed into still " +
-        "helium)",
+        "helium; a short illustration with 4 realisations per point)",
     )
     .addArgument(new Argument("[name]", "which demo").choices(Object.keys(DEMOS)).default("film-patch"))
     .addOption(new Option("-w, --workers <n>", "parallel workers (default: number of cores)").argParser(
@@ -499,6 +501,12 @@ Typical session:
         const dbPath = join(o.out, `${study.name}.sqlite`);
         out(`${role}: ${path}`);
         out(`  ${study.description.trim().split("\n")[0]}`);
+        if (study.realisations < ANALYSIS_MIN_REALISATIONS) {
+          out(
+            `  note: a short illustration: ${study.realisations} realisations per point, below the ` +
+              `${ANALYSIS_MIN_REALISATIONS} the analysis needs for trustworthy intervals; read its numbers as a demo`,
+          );
+        }
         const report = await runWithSignals(study, dbPath, {
           workers: o.workers ?? defaultWorkers(),
           fresh: o.fresh,
