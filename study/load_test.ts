@@ -29,7 +29,7 @@ Deno.test("parseStudyText accepts a valid study, fills section defaults and keep
   equal(s.run.maxDistance, 1e6);
   equal(s.run.workers, undefined);
   deepStrictEqual(s.observables.record, ["cluster", "evaporation", "msd"]);
-  // methods.md §8: f = 0.3, k = 2, K = 3 frames, outward cosine 0.5; speed tolerance 0.25 (engines/observables).
+  // docs/methods.md §8: f = 0.3, k = 2, K = 3 frames, outward cosine 0.5; speed tolerance 0.25 (engines/observables).
   deepStrictEqual(s.observables.classification, {
     separationFactor: 0.3,
     radiusFactor: 2,

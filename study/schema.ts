@@ -276,7 +276,7 @@ export const runSchema = z.strictObject({
   ),
 }).superRefine(refineWith(runRules)).describe("Run controls shared by every engine.");
 
-/** The `observables.classification` section (methods §4 and §8; defaults from `DEFAULT_CLASSIFICATION`). */
+/** The `observables.classification` section (docs/methods.md §4 and §8; defaults from `DEFAULT_CLASSIFICATION`). */
 export const classificationSchema = z.strictObject({
   separationFactor: z.number().positive().default(DEFAULT_CLASSIFICATION.separationFactor).describe(
     "f: 2D, a vortex pair is a dipole candidate when its separation is < f·ℓ, ℓ the mean intervortex distance " +
@@ -310,7 +310,7 @@ export function observablesRules(observables: unknown): RuleViolation[] {
   return out;
 }
 
-/** The `observables.profile` section: radial-profile binning of the `cluster` observable (methods §5.2). */
+/** The `observables.profile` section: radial-profile binning of the `cluster` observable (docs/methods.md §5.2). */
 export const profileSchema = z.strictObject({
   bins: z.int().min(1).max(1000).default(DEFAULT_PROFILE.bins).describe(
     "Number of radial bins (annuli in 2D, spherical shells in 3D) of the main cluster's density profile " +

@@ -144,7 +144,7 @@ Deno.test("filamentEngine: ring-ball records measured density, rms radius and re
 });
 
 Deno.test("filamentEngine: positions are unwrapped across the periodic box", async () => {
-  // A ring crossing the box boundary keeps continuous coordinates (methods §2.1: image counters).
+  // A ring crossing the box boundary keeps continuous coordinates (docs/methods.md §2.1: image counters).
   const r = await run({
     ...dimless,
     domain: { kind: "periodic", size: 3 },
@@ -190,7 +190,7 @@ Deno.test("filamentEngine guards: blow-up, point cap, bad controls, NaN", async 
 
 Deno.test("filamentEngine: uniform normal flow along the axis makes a ring grow at dR/dt = α(V − U(R))", async () => {
   // Schwarz equation with v_n ∥ n̂: radial velocity α(V − U) (Barenghi, Donnelly & Vinen, J. Low Temp. Phys.
-  // 52, 189 (1983); methods §7.2 "normal flow"). Reference: the ODE integrated here by RK4 with small steps.
+  // 52, 189 (1983); docs/methods.md §7.2 "normal flow"). Reference: the ODE integrated here by RK4 with small steps.
   const alpha = 0.2, V = 2 * ringSpeed(1, 1, 1e-4, BETA_POLYGON);
   const r = await run({
     ...dimless,
@@ -212,7 +212,7 @@ Deno.test("filamentEngine: uniform normal flow along the axis makes a ring grow 
 });
 
 Deno.test("filamentEngine: heater counter-superflow shrinks a coaxial ring as R² = R₀² − 2(ρn/ρs)u r t", async () => {
-  // v_s,ext = −(ρ_n/ρ_s) u_ref r_ref/r r̂ (methods §2.7, zero net mass flux; Khalatnikov (1965)) moves a ring
+  // v_s,ext = −(ρ_n/ρ_s) u_ref r_ref/r r̂ (docs/methods.md §2.7, zero net mass flux; Khalatnikov (1965)) moves a ring
   // coaxial with the heater radially: d(R²)/dt = −2(ρn/ρs) u_ref r_ref, with α = α′ = 0. Points entering
   // r < r_h are absorbed (events) and the remnant loop removed.
   const ratio = 0.5, u = 0.1;

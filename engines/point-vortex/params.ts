@@ -45,7 +45,7 @@ export const domainSchema = z.discriminatedUnion("kind", [
 
 const pointSchema = z.tuple([finite(), finite()]);
 
-/** A random ± cloud (methods §3.2). */
+/** A random ± cloud (docs/methods.md §3.2). */
 export const randomCloudSchema = z.object({
   kind: z.literal("random-cloud").describe(
     "Random vortices of both signs in a disk-shaped or Gaussian cloud.",

@@ -31,7 +31,7 @@ Deno.test("pointVortexParamsSchema fills documented defaults", () => {
 });
 
 Deno.test("pointVortexParamsSchema rejects an odd count with zero polarity at initial.count", () => {
-  // p = 0 means N₊ = N₋ = N/2 (methods §3.2), impossible for odd N.
+  // p = 0 means N₊ = N₋ = N/2 (docs/methods.md §3.2), impossible for odd N.
   hasIssue({ initial: cloud({ count: 63 }) }, "initial.count", "must be even");
 });
 
