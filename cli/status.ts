@@ -18,23 +18,17 @@
  */
 import type { DatabaseSync } from "node:sqlite";
 import { resolve } from "node:path";
-import { studyStatus } from "../store/status.ts";
+import { type PointStatus, studyStatus } from "../store/status.ts";
 import * as cluster from "../study/executors/mod.ts";
 import { openReadOnly } from "./query.ts";
 import { UserError } from "./errors.ts";
 
-/** Per-point counts as `status --json` prints them. */
-export interface StatusPoint {
+/** Per-point counts as `status --json` prints them (with a cluster results folder also queued, uncollected). */
+export type StatusPoint = Omit<PointStatus, "pointIndex"> & {
   readonly index: number;
-  readonly label: string;
-  readonly planned: number;
-  readonly done: number;
-  readonly failed: number;
-  readonly running: number;
-  readonly missing: number;
   readonly queued?: number;
   readonly uncollected?: number;
-}
+};
 
 /** The `status --json` object. */
 export interface StatusReport {
@@ -81,27 +75,11 @@ export async function readStatus(
   const dir = resultsFolder(dbPath, opts.results);
   const c = dir ? await cluster.clusterStatus(db, { resultsDir: dir, batch: opts.batch }) : undefined;
   const planned = s.points[0]?.planned ?? 0;
-  const points: StatusPoint[] = c
-    ? c.points.map((p) => ({
-      index: p.pointIndex,
-      label: p.label,
-      planned: p.planned,
-      done: p.done,
-      failed: p.failed,
-      running: p.running,
-      missing: p.missing,
-      queued: p.queued,
-      uncollected: p.uncollected,
-    }))
-    : s.points.map((p) => ({
-      index: p.pointIndex,
-      label: p.label,
-      planned: p.planned,
-      done: p.done,
-      failed: p.failed,
-      running: p.running,
-      missing: p.missing,
-    }));
+  // Both sources count per point under the same names; the JSON calls the point's index `index`.
+  const points: StatusPoint[] = (c?.points ?? s.points).map(({ pointIndex, ...counts }) => ({
+    index: pointIndex,
+    ...counts,
+  }));
   const sum = (k: "planned" | "done" | "failed" | "running" | "missing") =>
     points.reduce((a, p) => a + p[k], 0);
   const report: StatusReport = {
