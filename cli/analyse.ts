@@ -14,7 +14,7 @@ import { analyseStudy, AnalysisInputError, type AnalysisSummary, type Estimate }
 import type { EvaporationAnalysis } from "../study/_analyse_evaporation.ts";
 import type { EvaporationEstimate } from "../reports/analysis/evaporation.ts";
 import { openStoreReadOnly, readStudy, StoreReadError } from "../store/reads.ts";
-import { diffusionHeading, type UnitLabels } from "../engines/units.ts";
+import { diffusionHeading, timeInKappaUnits, type UnitLabels } from "../engines/units.ts";
 import { writeReport } from "../reports/mod.ts";
 import { formatNumber } from "../reports/html.ts";
 import { UserError } from "./errors.ts";
@@ -138,7 +138,7 @@ function evText(e: EvaporationEstimate | null, scale = 1): string {
 }
 
 /** One line on evaporation and losses, or null when not computed. */
-function evaporationText(e: EvaporationAnalysis): string | null {
+function evaporationText(e: EvaporationAnalysis, units?: UnitLabels): string | null {
   if (e.status !== "ok") return e.status === "error" ? `evaporation: error: ${e.reason}` : null;
   const lost = e.lostFraction?.value !== null && e.lostFraction
     ? `; lost by the end: ${evText(e.lostFraction, 100)} % of the ${
@@ -146,7 +146,9 @@ function evaporationText(e: EvaporationAnalysis): string | null {
     }`
     : "";
   const half = e.tHalf?.value !== null && e.tHalf
-    ? `, t½ = ${evText(e.tHalf)}, rate ${evText(e.rate)} per unit time`
+    ? `, t½ = ${evText(e.tHalf)}, rate ${evText(e.rate)} per ${
+      units && !timeInKappaUnits(units.time) ? units.time : "unit time"
+    }`
     : "";
   return `evaporated ${e.objects} by t = ${formatNumber(e.tEnd ?? Number.NaN)}: ${
     evText(e.evaporated)
@@ -180,7 +182,7 @@ export function formatSummary(s: AnalysisSummary, dbPath: string, units?: UnitLa
     if (p.vinen.status !== "not-available") {
       lines.push(`${pad}${label("D", "Vinen")}: ${estimateText(p.vinen)}`);
     }
-    const ev = evaporationText(p.evaporation);
+    const ev = evaporationText(p.evaporation, units);
     if (ev) lines.push(`${pad}${ev}`);
   }
   const vinenMissing = s.points.find((p) => p.vinen.status === "not-available");

@@ -501,7 +501,7 @@ Typical session:
         const dbPath = join(o.out, `${study.name}.sqlite`);
         out(`${role}: ${path}`);
         out(`  ${study.description.trim().split("\n")[0]}`);
-        if (study.realisations < ANALYSIS_MIN_REALISATIONS) {
+        if (role === "demo study" && study.realisations < ANALYSIS_MIN_REALISATIONS) {
           out(
             `  note: a short illustration: ${study.realisations} realisations per point, below the ` +
               `${ANALYSIS_MIN_REALISATIONS} the analysis needs for trustworthy intervals; read its numbers as a demo`,
