@@ -191,6 +191,7 @@ export function buildProgram(): Command {
       "after",
       `
 Typical session:
+  spindrift new point-vortex-2d my-study.yaml    write a commented starter study (list of engines: spindrift new)
   spindrift check my-study.yaml        validate the study file (every problem, with line numbers)
   spindrift run my-study.yaml          run or resume it (database next to the study file)
   spindrift run my-study.yaml --cluster    or submit it as a Slurm job array; then:

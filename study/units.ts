@@ -58,7 +58,9 @@ export function describeUnits(study: NormalizedStudy): UnitsDescription {
       );
     } else {
       lines.push(
-        `to convert: t in s = t × ℓ²/κ and D in m²/s = D/κ × κ, with ℓ = one ${u.length} in metres ` +
+        `to convert: t in s = t × ℓ²/κ and D in m²/s = D/κ × κ, with ${
+          u.length === "ℓ" ? "ℓ" : `ℓ = one ${u.length}`
+        } in metres ` +
           `(κ = ${KAPPA_HELIUM4_SI} m²/s for ⁴He)`,
       );
     }
