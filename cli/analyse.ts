@@ -13,7 +13,8 @@ import { chi2FromDecayStudy } from "../study/_analyse_decay.ts";
 import { analyseStudy, AnalysisInputError, type AnalysisSummary, type Estimate } from "../study/analyse.ts";
 import type { EvaporationAnalysis } from "../study/_analyse_evaporation.ts";
 import type { EvaporationEstimate } from "../reports/analysis/evaporation.ts";
-import { StoreReadError } from "../store/reads.ts";
+import { openStoreReadOnly, readStudy, StoreReadError } from "../store/reads.ts";
+import { diffusionHeading, timeInKappaUnits, type UnitLabels } from "../engines/units.ts";
 import { writeReport } from "../reports/mod.ts";
 import { formatNumber } from "../reports/html.ts";
 import { UserError } from "./errors.ts";
@@ -95,7 +96,18 @@ export async function analyseCommand(dbPath: string, o: AnalyseCommandOptions): 
   } catch (e) {
     throw userFacing(e, dbPath);
   }
-  return [...head, ...formatSummary(summary, dbPath)];
+  return [...head, ...formatSummary(summary, dbPath, studyUnits(dbPath, o.study))];
+}
+
+/** The units recorded with the study revision, when complete (labels D as D/κ or in m²/s). */
+function studyUnits(dbPath: string, studyId: number | undefined): UnitLabels | undefined {
+  const db = openStoreReadOnly(dbPath);
+  try {
+    const u = readStudy(db, { studyId }).units;
+    return u.length && u.time ? { length: u.length, time: u.time } : undefined;
+  } finally {
+    db.close();
+  }
 }
 
 function estimateText(e: Estimate): string {
@@ -126,7 +138,7 @@ function evText(e: EvaporationEstimate | null, scale = 1): string {
 }
 
 /** One line on evaporation and losses, or null when not computed. */
-function evaporationText(e: EvaporationAnalysis): string | null {
+function evaporationText(e: EvaporationAnalysis, units?: UnitLabels): string | null {
   if (e.status !== "ok") return e.status === "error" ? `evaporation: error: ${e.reason}` : null;
   const lost = e.lostFraction?.value !== null && e.lostFraction
     ? `; lost by the end: ${evText(e.lostFraction, 100)} % of the ${
@@ -134,21 +146,27 @@ function evaporationText(e: EvaporationAnalysis): string | null {
     }`
     : "";
   const half = e.tHalf?.value !== null && e.tHalf
-    ? `, t½ = ${evText(e.tHalf)}, rate ${evText(e.rate)} per unit time`
+    ? `, t½ = ${evText(e.tHalf)}, rate ${evText(e.rate)} per ${
+      units && !timeInKappaUnits(units.time) ? units.time : "unit time"
+    }`
     : "";
   return `evaporated ${e.objects} by t = ${formatNumber(e.tEnd ?? Number.NaN)}: ${
     evText(e.evaporated)
   }${half}${lost}`;
 }
 
-/** The printed summary: per point D/κ (MSD) with its interval or the reason, D_R and the Vinen D. */
-export function formatSummary(s: AnalysisSummary, dbPath: string): string[] {
+/**
+ * The printed summary: per point D (MSD) with its interval or the reason, D_R and the Vinen D, labelled D/κ in κ
+ * units and with their unit (m²/s) in physical units.
+ */
+export function formatSummary(s: AnalysisSummary, dbPath: string, units?: UnitLabels): string[] {
+  const label = (symbol: string, how: string) => diffusionHeading(units, symbol, how);
   const lines = [
     `study ${s.studyName} (revision #${s.studyId}), ${s.dimension}D; bootstrap B = ${s.replicates}, ` +
     `seed base ${s.seedBase.length > 24 ? `${s.seedBase.slice(0, 16)}…` : s.seedBase}`,
   ];
   const w = Math.max(5, ...s.points.map((p) => p.label.length));
-  lines.push(`  ${"point".padEnd(w)}  ${"n".padStart(3)}  D/κ (MSD) [95% CI]`);
+  lines.push(`  ${"point".padEnd(w)}  ${"n".padStart(3)}  ${label("D", "MSD")} [95% CI]`);
   for (const p of s.points) {
     lines.push(`  ${p.label.padEnd(w)}  ${String(p.realisations).padStart(3)}  ${estimateText(p.msd)}`);
     const pad = " ".repeat(w + 7);
@@ -160,9 +178,11 @@ export function formatSummary(s: AnalysisSummary, dbPath: string): string[] {
       );
     }
     for (const w of p.msd.warnings) lines.push(`${pad}warning: ${w}`);
-    if (p.radius.value !== null) lines.push(`${pad}D_R/κ (R_rms): ${estimateText(p.radius)}`);
-    if (p.vinen.status !== "not-available") lines.push(`${pad}D/κ (Vinen): ${estimateText(p.vinen)}`);
-    const ev = evaporationText(p.evaporation);
+    if (p.radius.value !== null) lines.push(`${pad}${label("D_R", "R_rms")}: ${estimateText(p.radius)}`);
+    if (p.vinen.status !== "not-available") {
+      lines.push(`${pad}${label("D", "Vinen")}: ${estimateText(p.vinen)}`);
+    }
+    const ev = evaporationText(p.evaporation, units);
     if (ev) lines.push(`${pad}${ev}`);
   }
   const vinenMissing = s.points.find((p) => p.vinen.status === "not-available");

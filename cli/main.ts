@@ -13,15 +13,19 @@ import { describeFirstRealisation } from "../study/describe.ts";
 import { createProgress } from "../study/progress.ts";
 import { StoreError } from "../store/db.ts";
 import { StoreReadError } from "../store/reads.ts";
-import { studyStatus } from "../store/status.ts";
 import { writeReport } from "../reports/mod.ts";
 import { provenance, TOOL_VERSION } from "./provenance.ts";
 import { UserError } from "./errors.ts";
 import { openReadOnly, type QueryFormat, runQuery } from "./query.ts";
-import { type ExportFormat, exportRealisation } from "./export.ts";
+import { describeTarget, type ExportFormat, exportProvenance, exportRealisation } from "./export.ts";
 import { analyseAndReport, analyseCommand, replicateCount } from "./analyse.ts";
 import { compareCommand } from "./compare.ts";
 import * as cluster from "../study/executors/mod.ts";
+import { starterEngines } from "../study/starter.ts";
+import { newStudyCommand } from "./new.ts";
+import { checkReport } from "./check.ts";
+import { statusCommand } from "./status.ts";
+import { describeUnits } from "../study/units.ts";
 
 const REPO = new URL("../", import.meta.url);
 /** The bundled demo studies; `decay` is a homogeneous-decay study run first to calibrate χ₂ (Vinen fit). */
@@ -32,6 +36,8 @@ const DEMOS: Readonly<Record<string, { readonly study: URL; readonly decay?: URL
   },
   "ring-burst": { study: new URL("examples/ring-burst.yaml", REPO) },
 };
+/** Realisations per point below which the MSD fit warns that its intervals are unreliable (msd_fit.ts). */
+const ANALYSIS_MIN_REALISATIONS = 20;
 /** The launcher cluster array tasks call (absolute path). */
 const LAUNCHER = new URL("spindrift", REPO).pathname;
 
@@ -57,6 +63,34 @@ function positiveInt(name: string) {
   };
 }
 
+function nonNegativeInt(name: string) {
+  return (v: string): number => {
+    const n = Number(v);
+    if (v.trim() === "" || !Number.isInteger(n) || n < 0) {
+      throw new UserError(`${name} must be a whole number ≥ 0, got '${v}'`);
+    }
+    return n;
+  };
+}
+
+/** Writes to the file `path` (created at the first write, so a refused export leaves no file) or stdout. */
+function lazyOutput(path: string | undefined): { write(chunk: Uint8Array): Promise<void>; close(): void } {
+  let file: Deno.FsFile | null = null;
+  return {
+    async write(chunk: Uint8Array) {
+      if (path !== undefined && file === null) {
+        file = await Deno.open(path, { write: true, create: true, truncate: true });
+      }
+      const target = file ?? Deno.stdout;
+      let off = 0;
+      while (off < chunk.length) off += await target.write(chunk.subarray(off));
+    },
+    close() {
+      file?.close();
+    },
+  };
+}
+
 function collectValues(value: string, previous: string[] | undefined): string[] {
   return [...(previous ?? []), value];
 }
@@ -68,6 +102,7 @@ function defaultWorkers(): number {
 /** Loads, validates and normalizes a study file, or throws a UserError listing every problem. */
 async function loadNormalized(path: string): Promise<NormalizedStudy> {
   const loaded = await loadStudy(path);
+  for (const w of loaded.warnings ?? []) console.error(`warning: ${formatProblems([w])}`);
   if (!loaded.ok) {
     const n = loaded.problems.length;
     throw new UserError(
@@ -156,9 +191,10 @@ export function buildProgram(): Command {
       "after",
       `
 Typical session:
+  spindrift new point-vortex-2d my-study.yaml    write a commented starter study (list of engines: spindrift new)
   spindrift check my-study.yaml        validate the study file (every problem, with line numbers)
   spindrift run my-study.yaml          run or resume it (database next to the study file)
-  spindrift run my-study.yaml --executor slurm    or submit it as a Slurm job array; then:
+  spindrift run my-study.yaml --cluster    or submit it as a Slurm job array; then:
   spindrift collect my-study.yaml      fold the cluster's results into the database
   spindrift analyse my-study.sqlite    estimate D/κ, evaporation and losses with bootstrap intervals
   spindrift report my-study.sqlite     write the HTML report page
@@ -166,10 +202,35 @@ Typical session:
   spindrift demo                       run the bundled demo study and write its report`,
     );
 
+  program.command("new")
+    .description(
+      "write a commented starter study for an engine, ready for 'spindrift check' (list: spindrift new)",
+    )
+    .argument("[engine]", "engine id, e.g. point-vortex-2d (leave out to list the engines)")
+    .argument("[file]", "study file to write (default: my-study.yaml; - writes to standard output)")
+    .option("--name <name>", "study name (default: the file name without .yaml)")
+    .option("--force", "overwrite the file if it exists", false)
+    .action(async (engineId, file, o) => {
+      if (engineId === undefined) {
+        out("engines (spindrift new ENGINE [FILE] writes a starter study for one):");
+        const w = Math.max(...starterEngines().map((e) => e.id.length));
+        for (const e of starterEngines()) out(`  ${e.id.padEnd(w)}  ${e.title}`);
+        return;
+      }
+      Deno.exitCode = await newStudyCommand(engineId, file ?? "my-study.yaml", o, out);
+    });
+
   program.command("check")
     .description("validate a study file and show what it would run (nothing is computed)")
     .argument("<study>", "study file (YAML)")
-    .action(async (path) => {
+    .option("--json", "print the result as one JSON object (shape: README, 'Machine-readable output')")
+    .action(async (path, o) => {
+      if (o.json) {
+        const report = await checkReport(path);
+        out(JSON.stringify(report, null, 2));
+        if (!report.ok) Deno.exitCode = 1;
+        return;
+      }
       const study = await loadNormalized(path);
       const first = await describeFirstRealisation(study);
       if ("problem" in first) {
@@ -187,6 +248,7 @@ Typical session:
         `  duration ${study.run.duration}, frame every ${study.run.sampleInterval}, tolerance ${study.run.tolerance}`,
       );
       out(`  observables: ${study.observables.record.join(", ")}`);
+      for (const line of describeUnits(study).lines) out(`  ${line}`);
       for (const line of first.lines) out(`  ${line}`);
     });
 
@@ -204,11 +266,9 @@ Typical session:
     .option("--fresh", "delete this study's stored realisations and start over", false)
     .option("--keep-failed", "do not rerun realisations that failed before", false)
     .option("-q, --quiet", "no progress output", false)
-    .addOption(
-      new Option("--executor <where>", "local (this machine's workers) or slurm (a job array on a cluster)")
-        .choices(["local", "slurm"]).default("local"),
-    )
-    .optionsGroup("Cluster options (with --executor slurm; see README, 'Running on a cluster'):")
+    .option("--cluster", "submit a Slurm job array on the cluster instead of running on this machine")
+    .addOption(new Option("--executor <where>", "deprecated: --executor slurm is --cluster").hideHelp())
+    .optionsGroup("Cluster options (with --cluster; see README, 'Running on a cluster'):")
     .option(
       "--results <dir>",
       "folder for job files and shards (default: <database name>-cluster/ beside it)",
@@ -242,7 +302,8 @@ Typical session:
     .action(async (path, o) => {
       const study = await loadNormalized(path);
       const dbPath = o.db ?? defaultDbPath(path, study);
-      if (cluster.checkExecutorOptions(o) === "slurm") {
+      if (!o.quiet) { for (const line of describeUnits(study).lines) out(line); }
+      if (cluster.checkExecutorOptions(o, (l) => console.error(`spindrift: ${l}`)) === "slurm") {
         const flags = { ...o, dbPath, extraLines: o.sbatchLine, launcher: LAUNCHER };
         Deno.exitCode = await cluster.clusterRunCommand(study, flags, clusterEnv());
         return;
@@ -263,7 +324,7 @@ Typical session:
 
   program.command("collect")
     .description("fold the shards of a cluster run into the study database (any time, as often as wanted)")
-    .argument("<study>", "study file (YAML) submitted with 'spindrift run --executor slurm'")
+    .argument("<study>", "study file (YAML) submitted with 'spindrift run --cluster'")
     .option("--db <path>", "database file (default: <study name>.sqlite next to the study file)")
     .option("--results <dir>", "cluster results folder (default: <database name>-cluster/ beside it)")
     .action(async (path, o) => {
@@ -346,52 +407,77 @@ Typical session:
     });
 
   program.command("export")
-    .description("write one realisation's frames: one row per vortex per frame (time, id, position, label)")
+    .description(
+      "write one realisation's frames: one row per vortex (or filament point) per frame: time, id, position, label",
+    )
     .argument("<database>", "study database")
-    .requiredOption("-r, --realisation <id>", "realisation id (column id of table realisations)")
+    .option("-p, --point <point>", "parameter point: its index (0, 1, …) or label; not needed with one point")
+    .addOption(
+      new Option("-i, --index <n>", "realisation index within the point (0, 1, …)").argParser(
+        nonNegativeInt("--index"),
+      ),
+    )
+    .addOption(
+      new Option("--id <n>", "or: the database row id (realisations.id)").argParser(positiveInt("--id")),
+    )
+    .addOption(
+      new Option("--study <id>", "study revision id (default: the latest)").argParser(positiveInt("--study")),
+    )
     .addOption(new Option("-f, --format <format>", "output format").choices(["csv", "jsonl"]).default("csv"))
     .option("-o, --out <file>", "file to write (default: standard output)")
+    .option(
+      "--provenance <file>",
+      "also write where the export came from (study, point, index, seed) as JSON",
+    )
+    .addOption(new Option("-r, --realisation <id>", "deprecated: the database row id, now --id").hideHelp())
     .action(async (dbPath, o) => {
-      const id = positiveInt("--realisation")(o.realisation);
-      const file = o.out ? await Deno.open(o.out, { write: true, create: true, truncate: true }) : null;
-      const target = file ?? Deno.stdout;
-      const writer = {
-        async write(chunk: Uint8Array) {
-          let off = 0;
-          while (off < chunk.length) off += await target.write(chunk.subarray(off));
-        },
-      };
-      try {
-        const rows = await exportRealisation(dbPath, id, o.format as ExportFormat, writer);
-        if (o.out) out(`${rows} rows written to ${o.out}`);
-      } finally {
-        file?.close();
+      let id = o.id;
+      if (o.realisation !== undefined) {
+        console.error(
+          "spindrift: --realisation is deprecated and will be removed in the next release: it meant the database " +
+            "row id; write --id, or select by --point and --index",
+        );
+        id ??= positiveInt("--realisation")(o.realisation);
       }
+      const sel = { point: o.point, index: o.index, id, study: o.study };
+      const output = lazyOutput(o.out);
+      let res;
+      try {
+        res = await exportRealisation(dbPath, sel, o.format as ExportFormat, output);
+      } finally {
+        output.close();
+      }
+      const what = describeTarget(res.target);
+      if (o.provenance) {
+        const record = exportProvenance(dbPath, res, o.format as ExportFormat);
+        await Deno.writeTextFile(o.provenance, JSON.stringify(record, null, 2) + "\n");
+      }
+      if (o.out) out(`${res.rows} rows (${res.frames} frames) of ${what} written to ${o.out}`);
+      else console.error(`exported ${res.rows} rows (${res.frames} frames) of ${what}`);
     });
 
   program.command("status")
     .description("show per-point progress of a study database: done, failed, running, missing")
     .argument("<database>", "study database")
     .option("--results <dir>", "cluster results folder (default: <database name>-cluster/ beside it, if any)")
+    .option("--json", "print the status as one JSON object (shape: README, 'Machine-readable output')")
+    .addOption(
+      new Option(
+        "--watch [seconds]",
+        "refresh every few seconds (default 5) until Ctrl-C or the study is finished",
+      )
+        .argParser(positiveInt("--watch")),
+    )
     .action(async (dbPath, o) => {
-      const db = openReadOnly(dbPath);
+      const controller = new AbortController();
+      const stop = () => controller.abort();
+      Deno.addSignalListener("SIGINT", stop);
       try {
-        const flags = { dbPath, results: o.results, batch: cluster.slurmCommands() };
-        const lines = await cluster.clusterStatusLines(db, flags);
-        if (lines) return lines.forEach((l) => out(l));
-        const s = studyStatus(db);
-        if (!s) throw new UserError(`${dbPath} holds no study yet`, "run one with: spindrift run STUDY.yaml");
-        out(`study ${s.name} (last run ${s.lastRunAt ?? "never"})`);
-        const w = Math.max(5, ...s.points.map((p) => p.label.length));
-        out(`  ${"point".padEnd(w)}  done  failed  running  missing`);
-        for (const p of s.points) {
-          out(
-            `  ${p.label.padEnd(w)}  ${String(p.done).padStart(4)}  ${String(p.failed).padStart(6)}  ` +
-              `${String(p.running).padStart(7)}  ${String(p.missing).padStart(7)}`,
-          );
-        }
+        const watch = o.watch === true ? 5 : o.watch;
+        const flags = { results: o.results, batch: cluster.slurmCommands(), json: o.json, watch };
+        await statusCommand(dbPath, { ...flags, signal: controller.signal }, out);
       } finally {
-        db.close();
+        Deno.removeSignalListener("SIGINT", stop);
       }
     });
 
@@ -400,7 +486,7 @@ Typical session:
       "run a bundled demo study, analyse it and write its report: film-patch (2D, default: a neutral " +
         "vortex patch stirred into a slightly warm thin superfluid film, with a periodic-box decay study " +
         "that calibrates χ₂ for the Vinen-equation fit) or ring-burst (3D: vortex rings puffed into still " +
-        "helium)",
+        "helium; a short illustration with 4 realisations per point)",
     )
     .addArgument(new Argument("[name]", "which demo").choices(Object.keys(DEMOS)).default("film-patch"))
     .addOption(new Option("-w, --workers <n>", "parallel workers (default: number of cores)").argParser(
@@ -416,6 +502,12 @@ Typical session:
         const dbPath = join(o.out, `${study.name}.sqlite`);
         out(`${role}: ${path}`);
         out(`  ${study.description.trim().split("\n")[0]}`);
+        if (role === "demo study" && study.realisations < ANALYSIS_MIN_REALISATIONS) {
+          out(
+            `  note: a short illustration: ${study.realisations} realisations per point, below the ` +
+              `${ANALYSIS_MIN_REALISATIONS} the analysis needs for trustworthy intervals; read its numbers as a demo`,
+          );
+        }
         const report = await runWithSignals(study, dbPath, {
           workers: o.workers ?? defaultWorkers(),
           fresh: o.fresh,
@@ -444,6 +536,12 @@ Typical session:
   return program;
 }
 
+/** True for the error of writing to a pipe whose reader has closed it. */
+function isClosedOutput(e: unknown): boolean {
+  return e instanceof Deno.errors.BrokenPipe ||
+    (e instanceof Error && (e as { code?: string }).code === "EPIPE");
+}
+
 function fail(message: string, hint?: string, code = 1): void {
   console.error(`spindrift: ${message}`);
   if (hint) console.error(`hint: ${hint}`);
@@ -455,6 +553,11 @@ export async function main(args: string[]): Promise<void> {
   try {
     await program.parseAsync(args, { from: "user" });
   } catch (e) {
+    if (isClosedOutput(e)) {
+      // The reader went away (e.g. `| head`): stop quietly, as command-line tools do.
+      Deno.exitCode = 0;
+      return;
+    }
     if (e instanceof CommanderError) {
       if (
         e.code === "commander.helpDisplayed" || e.code === "commander.version" || e.code === "commander.help"

@@ -2,6 +2,7 @@
 import type { DatabaseSync } from "node:sqlite";
 import { openStoreReadOnly, StoreReadError } from "../store/reads.ts";
 import { UserError } from "./errors.ts";
+import { registerFrameViews } from "./frame_sql.ts";
 
 export type QueryFormat = "table" | "csv" | "json";
 
@@ -37,6 +38,7 @@ function csvField(s: string): string {
 export function runQuery(path: string, sql: string, format: QueryFormat): string {
   const db = openReadOnly(path);
   try {
+    registerFrameViews(db); // frame_points: positions as rows (cli/frame_sql.ts)
     let rows: Record<string, unknown>[];
     let columns: string[];
     try {

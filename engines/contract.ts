@@ -146,6 +146,11 @@ export interface Engine<P = unknown> {
   readonly title: string;
   readonly capabilities: EngineCapabilities;
   /**
+   * False when a realisation draws no random numbers (its input alone decides it, e.g. imported files): the
+   * study's `seed` may then be left out. Default true.
+   */
+  readonly usesSeed?: boolean;
+  /**
    * zod schema of the engine's `parameters` section. Every dimensional field documents its unit in
    * `.describe()`. Cross-field rules (e.g. odd vortex count with zero polarity) are refinements with a path.
    */
@@ -172,6 +177,44 @@ export interface Engine<P = unknown> {
    * message when the realisation could not start (a missing template file, a program not found).
    */
   describeRealisation?(input: EngineRunInput<P>): readonly string[] | Promise<readonly string[]>;
+  /**
+   * Optional: rewrites parameters written in an earlier spelling (accepted for one release after a rename) into
+   * the current one, with a deprecation note per change; the study loader applies it before checking and shows
+   * the notes. Gets plain YAML values, possibly only a part of the parameters (a swept value); returns what it
+   * does not know unchanged.
+   */
+  upgradeParams?(params: Readonly<Record<string, unknown>>): ParamsUpgrade;
+  /** What `spindrift new` writes for this engine (the starter test requires one for every registered engine). */
+  readonly starter?: EngineStarter;
+}
+
+/**
+ * A first study for an engine, written by `spindrift new <engine>`: it must pass `spindrift check` as written and
+ * explain its fields in comments. YAML snippets have their top-level keys in column 0 (the writer indents them).
+ */
+export interface EngineStarter {
+  /** What the starter study sets up and what to change first, in plain sentences (comment lines of the file). */
+  readonly about: string;
+  /** The study's `description`: the question the study asks, for the user to rewrite. */
+  readonly question: string;
+  /** The `parameters` section, commented YAML. */
+  readonly parameters: string;
+  /** An optional `sweep` section (commented YAML with `grid` or `zip` at column 0). */
+  readonly sweep?: string;
+  /** Realisations per parameter point for a first run. */
+  readonly realisations: number;
+  /** `run` section: duration and sample interval in the engine's time unit, and a comment naming that unit. */
+  readonly run: { readonly duration: number; readonly sampleInterval: number; readonly unit: string };
+  /** Optional lines for the `observables.classification` comment (e.g. why a threshold differs here). */
+  readonly classification?: string;
+}
+
+/** Parameters rewritten from an earlier spelling to the current one (`Engine.upgradeParams`). */
+export interface ParamsUpgrade {
+  /** The parameters in the current spelling (the input itself when nothing was old). */
+  readonly params: Readonly<Record<string, unknown>>;
+  /** One note per rewritten field: where it was (path inside `parameters`) and what to write instead. */
+  readonly notes: readonly { readonly path: readonly (string | number)[]; readonly message: string }[];
 }
 
 /**

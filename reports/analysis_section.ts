@@ -20,6 +20,7 @@ import type { EnsembleResult } from "../store/ensemble.ts";
 import type { StudyAggregate } from "./aggregate.ts";
 import { escapeHtml, formatNumber } from "./html.ts";
 import { type ChartOptions, type ChartSpec, CONFIG, DECADE_LABELS, estimateLayers, SCHEMA } from "./specs.ts";
+import { diffusionHeading, diffusionUnit } from "../engines/units.ts";
 
 /** A piece of the section: HTML (already escaped) or a chart. */
 export type AnalysisPart = { readonly html: string } | { readonly chart: ChartSpec };
@@ -198,7 +199,11 @@ function intro(ctx: Ctx): string {
     `over the same window; the Vinen-equation fit uses the radial profiles and a given χ₂. D is in ` +
     `length²/time of the study's units${
       units ? ` (${escapeHtml(units.length)}²/(${escapeHtml(units.time)}))` : ""
-    }, i.e. D/κ when time is measured in ℓ²/κ. Computed ${escapeHtml(computed)}.</p>`;
+    }, ${
+      diffusionUnit(units).unit === null
+        ? "i.e. D/κ, since time is measured in ℓ²/κ"
+        : `i.e. in ${escapeHtml(diffusionUnit(units).unit!)}: divide by κ for D/κ`
+    }. Computed ${escapeHtml(computed)}.</p>`;
 }
 
 /** Share of bootstrap replicates in which the window rule found no diffusive regime (left out of the CI). */
@@ -215,8 +220,10 @@ function warningNotes(warnings: unknown): string {
 }
 
 function diffusionTable(ctx: Ctx): string {
-  const head = `<tr><th>point</th><th class="num">n</th><th>D/κ (MSD) [${pct(ctx.level)} CI]</th>` +
-    `<th>D_R/κ (R_rms) [CI]</th><th>D/κ (Vinen) [CI]</th><th class="num">τ_c</th>` +
+  const head = `<tr><th>point</th><th class="num">n</th>` +
+    `<th>${escapeHtml(diffusionHeading(ctx.opts.units, "D", "MSD"))} [${pct(ctx.level)} CI]</th>` +
+    `<th>${escapeHtml(diffusionHeading(ctx.opts.units, "D_R", "R_rms"))} [CI]</th>` +
+    `<th>${escapeHtml(diffusionHeading(ctx.opts.units, "D", "Vinen"))} [CI]</th><th class="num">τ_c</th>` +
     `<th class="num">window t₁</th><th class="num">window t₂</th><th>interval, seed</th></tr>`;
   const body = ctx.points.map((p) => {
     const d = p.rows.get("msd-fit/D");
@@ -257,7 +264,11 @@ function sensitivityTable(ctx: Ctx): string {
   const order = (n: string) => (n === "base" ? "" : n);
   names.sort((a, b) => order(a).localeCompare(order(b)));
   const head = `<tr><th>classification</th>${
-    ctx.points.map((p) => `<th>${escapeHtml(p.label)}: D/κ</th><th class="num">ΔD/D</th>`).join("")
+    ctx.points.map((p) =>
+      `<th>${escapeHtml(p.label)}: ${
+        escapeHtml(diffusionUnit(ctx.opts.units).header)
+      }</th><th class="num">ΔD/D</th>`
+    ).join("")
   }</tr>`;
   const body = names.map((n) => {
     const cells = ctx.points.map((p) => {
@@ -374,7 +385,7 @@ function dVsParameterChart(ctx: Ctx): ChartSpec {
     }
   }
   const id = "d-vs-parameter";
-  const title = "D/κ per parameter point, three estimates";
+  const title = `${diffusionUnit(ctx.opts.units).header} per parameter point, three estimates`;
   const caption = `Each estimate with its ${pct(ctx.level)} bootstrap interval (error bars; none drawn ` +
     `when no interval was computed). Points without a diffusive regime have no MSD or D_R value.`;
   if (rows.length === 0) {
@@ -405,7 +416,7 @@ function dVsParameterChart(ctx: Ctx): ChartSpec {
       { field: "D", type: "quantitative", format: ".4g" },
       { field: "lower", type: "quantitative", title: "CI low", format: ".4g" },
       { field: "upper", type: "quantitative", title: "CI high", format: ".4g" },
-    ]),
+    ], diffusionUnit(ctx.opts.units).header),
     config: CONFIG,
   } as unknown as TopLevelSpec;
   return { id, title, caption, spec, emptyReason: null };

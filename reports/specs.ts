@@ -141,17 +141,18 @@ function colour(ctx: Context, lines: boolean) {
 /**
  * Layers of a D-estimate chart: an error bar from `lower` to `upper` and a point at `D` (fields of the data
  * rows; the tooltip lists `tooltip` when given, else every field). Shared by the report's D-vs-parameter chart and the compare page.
+ * `yTitle`: the axis title, "D/κ" (κ units) or e.g. "D (m²/s)" (engines/units.ts `diffusionUnit`).
  */
-export function estimateLayers(pointSize: number, tooltip?: readonly unknown[]): unknown[] {
+export function estimateLayers(pointSize: number, tooltip?: readonly unknown[], yTitle = "D/κ"): unknown[] {
   return [
     {
       mark: { type: "rule", strokeWidth: 2 },
-      encoding: { y: { field: "lower", type: "quantitative", title: "D/κ" }, y2: { field: "upper" } },
+      encoding: { y: { field: "lower", type: "quantitative", title: yTitle }, y2: { field: "upper" } },
     },
     {
       mark: { type: "point", filled: true, size: pointSize, tooltip: true },
       encoding: {
-        y: { field: "D", type: "quantitative", title: "D/κ" },
+        y: { field: "D", type: "quantitative", title: yTitle },
         ...(tooltip ? { tooltip } : {}),
       },
     },

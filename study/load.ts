@@ -16,6 +16,10 @@
  *    the swept values applied) passes the engine's schema, problems with a swept value being reported at that
  *    value in the sweep; no two points are identical; at most `MAX_POINTS` points.
  *
+ * Before 2.–5., parameters an engine renamed (`Engine.upgradeParams`) are rewritten from their earlier spelling,
+ * in `parameters` and in swept values; each rewrite is a warning (code `deprecated`) at the old spelling, and
+ * the study goes on in the current spelling.
+ *
  * Nothing here throws on bad input; exceptions from an engine's own checks become problems too.
  *
  * @example
@@ -57,6 +61,7 @@ import {
   MAX_POINTS,
   observablesRules,
   runRules,
+  SEED_WHEN_UNUSED,
   splitSweepPath,
   type StudyFile,
   studyShellSchema,
@@ -68,8 +73,14 @@ import { canonicalJson } from "./hash.ts";
 
 /** Outcome of loading a study: the validated study and its text, or every problem found. */
 export type LoadResult =
-  | { readonly ok: true; readonly study: StudyFile; readonly text: string }
-  | { readonly ok: false; readonly problems: StudyProblem[] };
+  | {
+    readonly ok: true;
+    readonly study: StudyFile;
+    readonly text: string;
+    /** Deprecated spellings that were accepted and rewritten (say what to write instead). */
+    readonly warnings: readonly StudyProblem[];
+  }
+  | { readonly ok: false; readonly problems: StudyProblem[]; readonly warnings?: readonly StudyProblem[] };
 
 /** Options of `loadStudy` and `parseStudyText`. */
 export interface LoadOptions {
@@ -179,14 +190,14 @@ function check(text: string, file: string, engines: readonly Engine<any>[]): Loa
     },
   });
   if (fatal) return c.result();
-  let data: unknown;
+  let raw: unknown;
   try {
-    data = doc.toJS({ maxAliasCount: 1000 });
+    raw = doc.toJS({ maxAliasCount: 1000 });
   } catch (e) {
     c.addAt(0, "yaml-reference", `the YAML cannot be read: ${e instanceof Error ? e.message : String(e)}`);
     return c.result();
   }
-  if (data === null || data === undefined) {
+  if (raw === null || raw === undefined) {
     c.addAt(
       0,
       "not-a-study",
@@ -194,12 +205,13 @@ function check(text: string, file: string, engines: readonly Engine<any>[]): Loa
     );
     return c.result();
   }
-  if (!isRecord(data)) {
+  if (!isRecord(raw)) {
     c.add([], "not-a-study", "a study file is a map of sections (name, engine, parameters, seed, run, …)", {
       value: true,
     });
     return c.result();
   }
+  let data: Record<string, unknown> = raw;
 
   // The engine decides which schema applies.
   const engineId = data.engine;
@@ -220,6 +232,9 @@ function check(text: string, file: string, engines: readonly Engine<any>[]): Loa
       c.add(["engine"], "wrong-type", `must be an engine id, one of ${known.join(", ")}`, { value: true });
     }
   }
+  // Earlier spellings of renamed engine parameters: rewritten, with a warning at the old spelling.
+  if (engine?.upgradeParams) data = upgradeSpellings(c, engine, data);
+
   // 2. Cross-field rules first, so that they are reported at the place chosen here (zod repeats them when it
   // can run them; duplicates are dropped), and also when other fields of the same section are wrong.
   for (const r of runRules(data.run)) c.add(["run", ...r.path], "rule", r.message, { value: true });
@@ -250,6 +265,7 @@ function check(text: string, file: string, engines: readonly Engine<any>[]): Loa
   }
 
   if (c.count > 0) return c.result();
+  if (engine?.usesSeed === false && data.seed === undefined) data = { ...data, seed: SEED_WHEN_UNUSED };
   const shell = studyShellSchema.safeParse(data);
   if (!shell.success) {
     for (const issue of shell.error.issues) {
@@ -257,7 +273,57 @@ function check(text: string, file: string, engines: readonly Engine<any>[]): Loa
     }
     return c.result();
   }
-  return { ok: true, study: shell.data, text };
+  return { ok: true, study: shell.data, text, warnings: c.warnings };
+}
+
+/** `data` with `parameters` and swept values in the engine's current spelling; each rewrite warns. */
+function upgradeSpellings(
+  c: Collector,
+  // deno-lint-ignore no-explicit-any
+  engine: Engine<any>,
+  data: Record<string, unknown>,
+): Record<string, unknown> {
+  const upgrade = engine.upgradeParams!;
+  const out = { ...data };
+  if (isRecord(data.parameters)) {
+    const up = upgrade(data.parameters);
+    for (const n of up.notes) c.warn(["parameters", ...n.path], n.message);
+    if (up.notes.length > 0) out.parameters = up.params;
+  }
+  if (!isRecord(data.sweep)) return out;
+  const sweep = structuredClone(data.sweep) as Record<string, unknown>;
+  let changed = false;
+  for (const site of sweepPathSites(sweep)) {
+    const list = getAt(sweep, site.at);
+    if (!Array.isArray(list)) continue;
+    list.forEach((value, i) => {
+      const alone = applySetting({}, { [site.path]: value });
+      const up = upgrade(alone);
+      if (up.notes.length === 0) return;
+      const now = getAt(up.params, splitSweepPath(site.path));
+      if (
+        now !== undefined &&
+        canonicalJson(applySetting({}, { [site.path]: now })) === canonicalJson(up.params)
+      ) {
+        list[i] = now;
+        changed = true;
+        for (const n of up.notes) {
+          c.warn(["sweep", ...site.at, i], `${n.message} (parameters.${formatPath(n.path)})`);
+        }
+      } else {
+        c.add(
+          ["sweep", ...site.at],
+          "sweep-path",
+          `uses an earlier spelling that cannot be swept as written: ${
+            up.notes[0].message
+          }; sweep the new fields`,
+          { key: true },
+        );
+      }
+    });
+  }
+  if (changed) out.sweep = sweep;
+  return out;
 }
 
 // deno-lint-ignore no-explicit-any
@@ -381,6 +447,7 @@ function yamlErrorMessage(e: YAMLError): string {
 class Collector {
   readonly #file: string;
   readonly #problems: StudyProblem[] = [];
+  readonly #warnings: StudyProblem[] = [];
   readonly #seen = new Set<string>();
   readonly #paths: (readonly PropertyKey[])[] = [];
   readonly locator: YamlLocator;
@@ -404,6 +471,28 @@ class Collector {
     this.#seen.add(key);
     this.#problems.push(p);
     this.#paths.push(path);
+  }
+
+  /** A warning (the study is still valid) at a field path: an earlier spelling that was accepted. */
+  warn(path: readonly PropertyKey[], message: string): void {
+    let loc = this.locator.locate(path, {});
+    // A block map or list is pointed at by its key, without repeating it.
+    const block = loc.value === "a map" || loc.value?.startsWith("a list of ") === true;
+    if (block) loc = this.locator.locate(path, { key: true });
+    const value = loc.exact && !block ? loc.value : undefined;
+    this.#warnings.push({
+      file: this.#file,
+      line: loc.line,
+      column: loc.column,
+      path: formatPath(path),
+      ...(value !== undefined ? { value } : {}),
+      message,
+      code: "deprecated",
+    });
+  }
+
+  get warnings(): StudyProblem[] {
+    return sortProblems(this.#warnings);
   }
 
   /** A problem at a character offset (YAML errors; only the first at each place, later ones are echoes). */
@@ -467,7 +556,7 @@ class Collector {
   }
 
   result(): LoadResult {
-    return { ok: false, problems: sortProblems(this.#problems) };
+    return { ok: false, problems: sortProblems(this.#problems), warnings: this.warnings };
   }
 }
 

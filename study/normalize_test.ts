@@ -16,7 +16,7 @@ Deno.test("normalizeStudy fills engine, run and observable defaults", () => {
   equal(s.realisations, 1);
   deepStrictEqual(s.run, { duration: 10, sampleInterval: 0.5, tolerance: 1e-9, maxDistance: 1e6 });
   deepStrictEqual(s.observables.record, ["cluster", "evaporation", "msd"]);
-  // Defaults of methods.md §8 (f = 0.3, k = 2, K = 3, outward cosine 0.5) and engines/observables (0.25).
+  // Defaults of docs/methods.md §8 (f = 0.3, k = 2, K = 3, outward cosine 0.5) and engines/observables (0.25).
   deepStrictEqual(s.observables.classification, {
     separationFactor: 0.3,
     radiusFactor: 2,

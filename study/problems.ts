@@ -66,7 +66,9 @@ export type ProblemCode =
   /** A sweep that produces identical parameter points or too many of them. */
   | "sweep-points"
   /** A defect of the checker itself (reported instead of crashing). */
-  | "internal";
+  | "internal"
+  /** A warning, not an error: an earlier spelling that is still accepted (say what to write instead). */
+  | "deprecated";
 
 /** One problem in a study file. */
 export interface StudyProblem {

@@ -271,12 +271,12 @@ export const runSchema = z.strictObject({
       "depend on it.",
   ),
   cluster: clusterSchema.optional().describe(
-    "Resources for `spindrift run --executor slurm` (partition, time limit, memory, …); flags override them. " +
+    "Resources for `spindrift run --cluster` (partition, time limit, memory, …); flags override them. " +
       "Never part of a hash: results do not depend on where they were computed.",
   ),
 }).superRefine(refineWith(runRules)).describe("Run controls shared by every engine.");
 
-/** The `observables.classification` section (methods §4 and §8; defaults from `DEFAULT_CLASSIFICATION`). */
+/** The `observables.classification` section (docs/methods.md §4 and §8; defaults from `DEFAULT_CLASSIFICATION`). */
 export const classificationSchema = z.strictObject({
   separationFactor: z.number().positive().default(DEFAULT_CLASSIFICATION.separationFactor).describe(
     "f: 2D, a vortex pair is a dipole candidate when its separation is < f·ℓ, ℓ the mean intervortex distance " +
@@ -310,7 +310,7 @@ export function observablesRules(observables: unknown): RuleViolation[] {
   return out;
 }
 
-/** The `observables.profile` section: radial-profile binning of the `cluster` observable (methods §5.2). */
+/** The `observables.profile` section: radial-profile binning of the `cluster` observable (docs/methods.md §5.2). */
 export const profileSchema = z.strictObject({
   bins: z.int().min(1).max(1000).default(DEFAULT_PROFILE.bins).describe(
     "Number of radial bins (annuli in 2D, spherical shells in 3D) of the main cluster's density profile " +
@@ -344,7 +344,15 @@ const seedSchema = z.union([z.int(), z.string().min(1).max(200)], {
   error: "must be an integer (at most 9007199254740991 in size; quote longer numbers) or a non-empty text",
 }).describe("Master seed: an integer or a text. Every realisation's generator state is hashed from it.");
 
-function studyShape<E extends z.ZodType, P extends z.ZodType>(engine: E, parameters: P) {
+/** The master seed of a study whose engine draws no random numbers and that gives none (`Engine.usesSeed`). */
+export const SEED_WHEN_UNUSED = 0;
+
+/** `seed` of an engine that draws no random numbers: optional. */
+const unusedSeedSchema = seedSchema.default(SEED_WHEN_UNUSED).describe(
+  "Master seed: optional for this engine, whose realisations draw no random numbers (default 0).",
+);
+
+function studyShape<E extends z.ZodType, P extends z.ZodType>(engine: E, parameters: P, usesSeed = true) {
   return {
     name: nameSchema,
     description: descriptionSchema,
@@ -354,7 +362,7 @@ function studyShape<E extends z.ZodType, P extends z.ZodType>(engine: E, paramet
     realisations: z.int().min(1).max(MAX_REALISATIONS).default(1).describe(
       "Independent realisations per parameter point (each with its own seed), integer ≥ 1.",
     ),
-    seed: seedSchema,
+    seed: usesSeed ? seedSchema : unusedSeedSchema,
     run: runSchema,
     observables: observablesSchema,
   };
@@ -385,6 +393,7 @@ export function engineStudySchema(engine: Engine<any>) {
     studyShape(
       z.literal(engine.id).describe(engine.title),
       engine.paramsSchema.describe(`Parameters of the ${engine.id} engine (${engine.title}).`),
+      engine.usesSeed !== false,
     ),
   );
 }

@@ -167,13 +167,49 @@ Deno.test("cli: run, status, query and export work together on a small study", a
     "json",
   ]);
   assertEquals(JSON.parse(q.stdout), [{ n: 4 }]);
-  const ex = await runCli(["export", dbPath, "--realisation", "1"]);
+  const ex = await runCli(["export", dbPath, "--point", "initial.count=24", "--index", "1"]);
   assertEquals(ex.code, 0, ex.stderr);
-  const lines = ex.stdout.trim().split("\n").filter((l) => !l.startsWith("#"));
-  assertEquals(lines[0], "t,id,x,y,circulation,label");
-  const frames = countWhere(dbPath, "SELECT COUNT(*) AS c FROM frames WHERE realisation_id = 1");
-  const objects = countWhere(dbPath, "SELECT SUM(n) AS c FROM frames WHERE realisation_id = 1");
+  const lines = ex.stdout.trim().split("\n");
+  assertEquals(lines[0], "t,id,x,y,circulation,label"); // no comment line above the header
+  const which = "realisation_id = (SELECT r.id FROM realisations r JOIN study_points sp USING (point_hash) " +
+    "WHERE sp.point_index = 1 AND r.idx = 1)";
+  const frames = countWhere(dbPath, `SELECT COUNT(*) AS c FROM frames WHERE ${which}`);
+  const objects = countWhere(dbPath, `SELECT SUM(n) AS c FROM frames WHERE ${which}`);
   assert(frames > 10);
   assertEquals(lines.length - 1, objects);
   assert(/^0,\d+,-?[\d.e-]+,-?[\d.e-]+,-?1,(main|evaporated|stray)$/.test(lines[1]), lines[1]);
+  assert(ex.stderr.includes("realisation 1 of point 1 (initial.count=24)"), ex.stderr);
+  // The old option still works for one release and says what it meant.
+  const old = await runCli(["export", dbPath, "--realisation", "1"]);
+  assertEquals(old.code, 0, old.stderr);
+  assert(old.stderr.includes("--realisation is deprecated") && old.stderr.includes("--id"), old.stderr);
+  // A reader that stops early (`| head`) ends export and query quietly. The query's output (30000 rows) is far
+  // larger than a pipe's buffer (64 KiB on Linux), so its writes do meet the closed pipe.
+  const many =
+    "WITH RECURSIVE c(i) AS (SELECT 1 UNION ALL SELECT i + 1 FROM c WHERE i < 30000) SELECT i FROM c";
+  for (const args of [["export", dbPath, "-p", "1", "-i", "1", "-f", "jsonl"], ["query", dbPath, many]]) {
+    const child = cli(args).spawn();
+    const reader = child.stdout.getReader();
+    await reader.read();
+    await reader.cancel();
+    const [ended, stderr] = await Promise.all([child.status, new Response(child.stderr).text()]);
+    assertEquals(ended.code, 0, `${args[0]}: ${stderr}`);
+    assert(!stderr.includes("error"), stderr);
+  }
+});
+
+Deno.test("cli: new writes a starter study that check accepts, and never overwrites by accident", async () => {
+  const dir = Deno.makeTempDirSync();
+  const file = `${dir}/ring study.yaml`;
+  const made = await runCli(["new", "vortex-filament-3d", file]);
+  assertEquals(made.code, 0, made.stderr);
+  assert(made.stdout.includes("spindrift check"), made.stdout);
+  assert(Deno.readTextFileSync(file).includes("name: ring-study "), "study name from the file name");
+  const check = await runCli(["check", file]);
+  assertEquals(check.code, 0, check.stderr);
+  assert(check.stdout.includes(": ok"), check.stdout);
+  const again = await runCli(["new", "point-vortex-2d", file]);
+  assertEquals(again.code, 1);
+  assert(again.stderr.includes("exists already") && again.stderr.includes("--force"), again.stderr);
+  assertNoStackTrace(again.stderr);
 });

@@ -105,6 +105,18 @@ Deno.test("cluster CLI without Slurm: run-slice and collect through the launcher
   assert(!/\n\s+at .+:\d+:\d+/.test(bad.stderr), bad.stderr);
 });
 
+Deno.test("launcher: run --cluster (and the deprecated --executor slurm) may ask Slurm; --dry-run writes the script", async () => {
+  const { dir, studyPath } = studyInTempDir();
+  for (const flags of [["--cluster"], ["--executor", "slurm"], ["--executor=slurm"]]) {
+    const r = await launcher(["run", studyPath, ...flags, "--dry-run"], dir);
+    assertEquals(r.code, 0, r.stdout + r.stderr);
+    assert(r.stdout.includes("#SBATCH --array=0-"), r.stdout);
+    // Without the launcher's --allow-run=sbatch,squeue the queue question would fail on permissions.
+    assert(!r.stderr.includes("internal error") && !/NotCapable|--allow-run/.test(r.stderr), r.stderr);
+    assertEquals(r.stderr.includes("--executor is deprecated"), flags[0] !== "--cluster", r.stderr);
+  }
+});
+
 const unavailable = await slurmUnavailable();
 if (unavailable !== null) console.log(`slurm_e2e_test: real-Slurm test skipped: ${unavailable}`);
 
@@ -121,7 +133,7 @@ Deno.test({
 
     // Submit: 3 array tasks of 2 realisations.
     const sub = await launcher(
-      ["run", studyPath, "--executor", "slurm", "--slice-size", "2", "--time-limit", "10", "--memory", "1G"],
+      ["run", studyPath, "--cluster", "--slice-size", "2", "--time-limit", "10", "--memory", "1G"],
       dir,
     );
     assertEquals(sub.code, 0, sub.stdout + sub.stderr);
@@ -142,9 +154,10 @@ Deno.test({
     }
     assertEquals(digestResults(dbPath), digestResults(`${dir}/local.sqlite`));
 
-    // Nothing left to submit.
+    // Nothing left to submit (asked with the deprecated spelling, which still gets the permissions it needs).
     const again = await launcher(["run", studyPath, "--executor", "slurm"], dir);
     assertEquals(again.code, 0, again.stderr);
+    assert(again.stderr.includes("--executor is deprecated"), again.stderr);
     assert(again.stdout.includes("nothing to submit: of 6 realisations, 6 done"), again.stdout);
 
     // Lose one task's results (its shard and what was collected from it): only those two are resubmitted.
@@ -158,7 +171,7 @@ Deno.test({
     const status = await launcher(["status", dbPath], dir);
     assert(/missing: 2 realisations: 2 in 1 array task that ended/.test(status.stdout), status.stdout);
     const resub = await launcher(
-      ["run", studyPath, "--executor", "slurm", "--time-limit", "10", "--memory", "1G", "--wait"],
+      ["run", studyPath, "--cluster", "--time-limit", "10", "--memory", "1G", "--wait"],
       dir,
     );
     assertEquals(resub.code, 0, resub.stdout + resub.stderr);

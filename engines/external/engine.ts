@@ -55,6 +55,7 @@ import {
   importedFilaments3dEngine,
   importedTracks2dEngine,
   lengthInStudyUnits,
+  studyUnitLabels,
   tracks2dParamsSchema,
 } from "../imported/mod.ts";
 import { type Invocation, prepareInvocation } from "./invocation.ts";
@@ -69,6 +70,7 @@ import {
 } from "./params.ts";
 import { prepareWorkFolder, type ProgramResult, runProgram } from "./run_program.ts";
 import { lastLines } from "./tail.ts";
+import { EXTERNAL_2D_STARTER, EXTERNAL_3D_STARTER } from "./starter.ts";
 
 /** Version of both external-program engines (bumped when the same program output could give other frames). */
 export const EXTERNAL_ENGINE_VERSION = "1.0.0";
@@ -324,6 +326,8 @@ export const externalProgram2dEngine: Engine<External2dParams> = {
   title: "Your own program, run per realisation (2D vortex tracks read from its output)",
   capabilities: capabilities2d,
   paramsSchema: external2dParamsSchema,
+  starter: EXTERNAL_2D_STARTER,
+  scales: (params) => ({ units: studyUnitLabels(params.units) }),
   run: (input, sink) => runExternal(2, EXTERNAL_2D_ID, input, sink),
   describeRealisation: (input) => describeExternal(2, EXTERNAL_2D_ID, input),
 };
@@ -335,7 +339,11 @@ export const externalProgram3dEngine: Engine<External3dParams> = {
   title: "Your own program, run per realisation (3D filament snapshots read from its output)",
   capabilities: capabilities3d,
   paramsSchema: external3dParamsSchema,
-  scales: (params) => ({ coreRadius: lengthInStudyUnits(params.coreRadius, params.units, "coreRadius") }),
+  starter: EXTERNAL_3D_STARTER,
+  scales: (params) => ({
+    coreRadius: lengthInStudyUnits(params.coreRadius, params.units, "coreRadius"),
+    units: studyUnitLabels(params.units),
+  }),
   run: (input, sink) => runExternal(3, EXTERNAL_3D_ID, input, sink),
   describeRealisation: (input) => describeExternal(3, EXTERNAL_3D_ID, input),
 };

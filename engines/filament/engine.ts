@@ -3,13 +3,13 @@
  * Biot–Savart (direct or Barnes–Hut tree) or LIA, RK4 steps tied to the spacing, remeshing, Type II
  * reconnections, mutual friction with a prescribed normal fluid, unbounded or periodic domain.
  *
- * One realisation: parameters → initial loops (ring, colliding rings, Kelvin wave, ring cloud, explicit or file
- * loops; generated shapes use spacing (δ_min + δ)/2) → spacing brought into [δ_min, δ] → frames at t = k·Δt_sample (k = 0..⌊duration/Δt_sample⌋; steps are
+ * One realisation: parameters → initial loops (ring, ring pair, helix, ring ball, loops given or read from a file;
+ * generated shapes use spacing (δ_min + δ)/2) → spacing brought into [δ_min, δ] → frames at t = k·Δt_sample (k = 0..⌊duration/Δt_sample⌋; steps are
  * clamped to land on them) → end scalars. Events (reconnection, loop removal, marker transfer, heater
  * absorption) go to the sink as they happen.
  *
  * Initial scalars: `initial_line_density` is measured, not nominal: total line length after the initial
- * remesh divided by the volume of a ball — the cloud ball (ring-cloud), the periodic box (periodic domain), or
+ * remesh divided by the volume of a ball — the cloud ball (ring-ball), the periodic box (periodic domain), or
  * otherwise the smallest ball about the length-weighted centroid containing every point.
  * `initial_rms_radius` is the length-weighted RMS distance of the points from that centroid.
  *
@@ -36,6 +36,8 @@ import { energy, EnergyWork, impulse, lineLength } from "./diagnostics.ts";
 import { LoopsFileError, readLoopsFile } from "./loops_file.ts";
 import { A0_DEFAULT_M, type FilamentParams, filamentParamsSchema, KAPPA_HE4 } from "./params.ts";
 import { FilamentSimulation, type SimulationConfig } from "./simulation.ts";
+import { upgradeFilamentParams } from "./upgrade.ts";
+import { FILAMENT_STARTER } from "./starter.ts";
 import { SegmentTree } from "./tree.ts";
 import type { NormalFlow } from "./velocity.ts";
 
@@ -92,10 +94,12 @@ export const filamentEngine: Engine<FilamentParams> = {
     },
   },
   paramsSchema: filamentParamsSchema,
+  upgradeParams: upgradeFilamentParams,
+  starter: FILAMENT_STARTER,
   run(input, sink) {
     checkControls(input.controls);
     const init = input.params.initial;
-    if (init.kind === "loops" && init.file !== undefined) {
+    if (init.kind === "given" && init.file !== undefined) {
       return readLoopsFile(init.file).then(
         (loops) => runWithLoops(input, sink, loops),
         (e) => {
@@ -146,16 +150,15 @@ export function resolveSettings(p: FilamentParams): ResolvedSettings {
   }
   let normal: NormalFlow = { kind: "rest" };
   let heaterRadius = 0;
-  const nf = p.normalFluid;
-  if (nf.kind === "uniform") normal = { kind: "uniform", velocity: nf.velocity };
-  else if (nf.kind === "line-heater") {
+  const h = p.heater;
+  if (h !== undefined) {
     normal = {
       kind: "line-heater",
-      strength: nf.referenceVelocity * nf.referenceRadius,
-      normalToSuperRatio: nf.normalToSuperRatio ?? ratio ?? 0,
+      strength: h.referenceVelocity * h.referenceRadius,
+      normalToSuperRatio: h.normalToSuperRatio ?? ratio ?? 0,
     };
-    heaterRadius = nf.heaterRadius;
-  }
+    heaterRadius = h.radius;
+  } else if (p.normalVelocity.some((v) => v !== 0)) normal = { kind: "uniform", velocity: p.normalVelocity };
   return {
     kappa,
     coreRadius,
@@ -204,7 +207,7 @@ export function simulationConfig(
   };
 }
 
-/** Initial loops of the parameters (file loops passed in), with the ring-cloud bookkeeping. */
+/** Initial loops of the parameters (file loops passed in), with the ring-ball bookkeeping. */
 export function initialLoops(
   p: FilamentParams,
   input: EngineRunInput<FilamentParams>,
@@ -220,14 +223,14 @@ export function initialLoops(
         ballRadius: null,
         ballCentre: [],
       };
-    case "colliding-rings":
+    case "ring-pair":
       return {
         loops: collidingRingsPoints(init.radius, init.separation, init.offset, init.angle, d),
         rejectedFraction: 0,
         ballRadius: null,
         ballCentre: [],
       };
-    case "kelvin-wave": {
+    case "helix": {
       const L = p.domain.kind === "periodic" ? p.domain.size : 0;
       return {
         loops: [kelvinWavePoints(L, init.waves, init.amplitude, d)],
@@ -236,7 +239,7 @@ export function initialLoops(
         ballCentre: [],
       };
     }
-    case "ring-cloud": {
+    case "ring-ball": {
       const c = ringCloud(
         {
           count: init.count,
@@ -256,7 +259,7 @@ export function initialLoops(
         ballCentre: init.centre,
       };
     }
-    case "loops":
+    case "given":
       return { loops: fileLoops ?? init.loops ?? [], rejectedFraction: 0, ballRadius: null, ballCentre: [] };
   }
 }

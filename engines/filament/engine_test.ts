@@ -83,7 +83,7 @@ Deno.test("filamentEngine: a ring in SI units moves at 8.8195e-2 m/s (R = 1 µm,
 Deno.test("filamentEngine streams frames with contiguous loops, persistent marker ids and diagnostics", async () => {
   const r = await run({
     ...dimless,
-    initial: { kind: "colliding-rings", radius: 1, separation: 1.6, angle: 0.6 },
+    initial: { kind: "ring-pair", radius: 1, separation: 1.6, angle: 0.6 },
   }, {
     duration: 0.5,
     sampleInterval: 0.1,
@@ -127,10 +127,10 @@ Deno.test("filamentEngine: a single ring conserves impulse and energy (drift sca
   assertRelClose(r.frames[4].d.impulse_z, Math.PI, 2e-3, "impulse πκR²");
 });
 
-Deno.test("filamentEngine: ring-cloud records measured density, rms radius and rejected fraction", async () => {
+Deno.test("filamentEngine: ring-ball records measured density, rms radius and rejected fraction", async () => {
   const r = await run({
     ...dimless,
-    initial: { kind: "ring-cloud", count: 6, radius: { mean: 0.5, sd: 0.2 }, cloudRadius: 2 },
+    initial: { kind: "ring-ball", count: 6, radius: { mean: 0.5, sd: 0.2 }, cloudRadius: 2 },
   }, { duration: 0.02, sampleInterval: 0.02 });
   const L0 = r.frames[0].d.line_length;
   assertRelClose(r.scalars.initial_line_density, L0 / (4 / 3 * Math.PI * 8), 1e-12, "initial_line_density");
@@ -138,13 +138,13 @@ Deno.test("filamentEngine: ring-cloud records measured density, rms radius and r
   assert.equal(r.scalars.initial_loop_count, 6);
   const again = await run({
     ...dimless,
-    initial: { kind: "ring-cloud", count: 6, radius: { mean: 0.5, sd: 0.2 }, cloudRadius: 2 },
+    initial: { kind: "ring-ball", count: 6, radius: { mean: 0.5, sd: 0.2 }, cloudRadius: 2 },
   }, { duration: 0.02, sampleInterval: 0.02 });
   assert.deepEqual(again.frames, r.frames, "same seed, same frames");
 });
 
 Deno.test("filamentEngine: positions are unwrapped across the periodic box", async () => {
-  // A ring crossing the box boundary keeps continuous coordinates (methods §2.1: image counters).
+  // A ring crossing the box boundary keeps continuous coordinates (docs/methods.md §2.1: image counters).
   const r = await run({
     ...dimless,
     domain: { kind: "periodic", size: 3 },
@@ -158,14 +158,14 @@ Deno.test("filamentEngine reads loops from a file (asynchronous run)", async () 
   const dir = await Deno.makeTempDir();
   const path = `${dir}/ring.json`;
   await Deno.writeTextFile(path, JSON.stringify({ loops: [ringPoints(1, [0, 0, 0], [0, 0, 1], 0.3, 0)] }));
-  const r = await run({ ...dimless, initial: { kind: "loops", file: path } }, {
+  const r = await run({ ...dimless, initial: { kind: "given", file: path } }, {
     duration: 0.1,
     sampleInterval: 0.1,
   });
   assert.ok(r.frames[0].n >= 63, `remeshed to δ: ${r.frames[0].n} points`);
   await Deno.remove(dir, { recursive: true });
   await assert.rejects(
-    () => run({ ...dimless, initial: { kind: "loops", file: `${dir}/none.json` } }),
+    () => run({ ...dimless, initial: { kind: "given", file: `${dir}/none.json` } }),
     (e: unknown) => e instanceof EngineFailure && e.kind === "invalid-state",
   );
 });
@@ -190,12 +190,12 @@ Deno.test("filamentEngine guards: blow-up, point cap, bad controls, NaN", async 
 
 Deno.test("filamentEngine: uniform normal flow along the axis makes a ring grow at dR/dt = α(V − U(R))", async () => {
   // Schwarz equation with v_n ∥ n̂: radial velocity α(V − U) (Barenghi, Donnelly & Vinen, J. Low Temp. Phys.
-  // 52, 189 (1983); methods §7.2 "normal flow"). Reference: the ODE integrated here by RK4 with small steps.
+  // 52, 189 (1983); docs/methods.md §7.2 "normal flow"). Reference: the ODE integrated here by RK4 with small steps.
   const alpha = 0.2, V = 2 * ringSpeed(1, 1, 1e-4, BETA_POLYGON);
   const r = await run({
     ...dimless,
     friction: { kind: "coefficients", alpha, alphaPrime: 0 },
-    normalFluid: { kind: "uniform", velocity: [0, 0, V] },
+    normalVelocity: [0, 0, V],
     initial: { kind: "ring", radius: 1 },
   }, { duration: 1, sampleInterval: 1 });
   let R = 1;
@@ -211,20 +211,14 @@ Deno.test("filamentEngine: uniform normal flow along the axis makes a ring grow 
   assertRelClose(Rsim, R, 2e-3, "R(1) vs ODE");
 });
 
-Deno.test("filamentEngine: line-heater counter-superflow shrinks a coaxial ring as R² = R₀² − 2(ρn/ρs)u r t", async () => {
-  // v_s,ext = −(ρ_n/ρ_s) u_ref r_ref/r r̂ (methods §2.7, zero net mass flux; Khalatnikov (1965)) moves a ring
+Deno.test("filamentEngine: heater counter-superflow shrinks a coaxial ring as R² = R₀² − 2(ρn/ρs)u r t", async () => {
+  // v_s,ext = −(ρ_n/ρ_s) u_ref r_ref/r r̂ (docs/methods.md §2.7, zero net mass flux; Khalatnikov (1965)) moves a ring
   // coaxial with the heater radially: d(R²)/dt = −2(ρn/ρs) u_ref r_ref, with α = α′ = 0. Points entering
   // r < r_h are absorbed (events) and the remnant loop removed.
   const ratio = 0.5, u = 0.1;
   const params = {
     ...dimless,
-    normalFluid: {
-      kind: "line-heater",
-      referenceRadius: 1,
-      referenceVelocity: u,
-      heaterRadius: 0.5,
-      normalToSuperRatio: ratio,
-    },
+    heater: { radius: 0.5, referenceRadius: 1, referenceVelocity: u, normalToSuperRatio: ratio },
     initial: { kind: "ring", radius: 1 },
   };
   const r = await run(params, { duration: 8, sampleInterval: 2 });
@@ -235,14 +229,14 @@ Deno.test("filamentEngine: line-heater counter-superflow shrinks a coaxial ring 
   assert.equal(r.frames[4].n, 0, "ring absorbed by t = 8");
 });
 
-Deno.test("filamentEngine: kelvin-wave in a periodic box keeps its line and rotates", async () => {
-  // Path test of the kelvin-wave initial condition (physics checked in simulation_test.ts): one line, no
+Deno.test("filamentEngine: helix in a periodic box keeps its line and rotates", async () => {
+  // Path test of the helix initial shape (physics checked in simulation_test.ts): one line, no
   // reconnection, constant length to 1e-9 (a helix of small amplitude rotates rigidly; check-values §3.3).
   const r = await run({
     ...dimless,
     resolution: 1 / 24,
     domain: { kind: "periodic", size: 1 },
-    initial: { kind: "kelvin-wave", waves: 2, amplitude: 1e-3 },
+    initial: { kind: "helix", waves: 2, amplitude: 1e-3 },
   }, { duration: 0.004, sampleInterval: 0.002 });
   assert.equal(r.frames.at(-1)!.d.loop_count, 1);
   assertRelClose(r.frames.at(-1)!.d.line_length, r.frames[0].d.line_length, 1e-9, "line length");

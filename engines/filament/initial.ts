@@ -1,8 +1,9 @@
 /**
- * Initial filament configurations: single ring, two colliding rings, a Kelvin wave on a periodic line, and a
- * random cloud of rings.
+ * Initial filament shapes, one function per `initial.kind` of the study file: `ring` (`ringPoints`), `ring-pair`
+ * (two tilted rings whose rims meet first, `collidingRingsPoints`), `helix` (a periodic line carrying a helical
+ * Kelvin wave, `kelvinWavePoints`) and `ring-ball` (random rings with centres in a ball, `ringCloud`).
  *
- * Method (ring cloud). Radii fixed or normal N(μ, σ) truncated below at R_min = max(3δ, μ − 3σ) by resampling
+ * Method (ring ball). Radii fixed or normal N(μ, σ) truncated below at R_min = max(3δ, μ − 3σ) by resampling
  * (the rejected fraction is recorded; the mean of the truncated law, μ + σφ(a)/(1 − Φ(a)) with
  * a = (R_min − μ)/σ, converts a target line density into a ring count). Centres uniform in a ball of radius R_c
  * (r = R_c u^{1/3}, direction uniform on S²), ring normals uniform on S² (normalised triple of normals), random

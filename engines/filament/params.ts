@@ -7,6 +7,11 @@
  * κ = 1, lengths in a unit ℓ of the study's choosing (state it in the study; usually the initial intervortex
  * spacing), times in ℓ²/κ; a₀ must then be given in ℓ.
  *
+ * Shapes at t = 0 (`initial.kind`): ring, ring-pair, helix (periodic box only), ring-ball, given (loops listed
+ * or read from a file). The normal fluid moves uniformly with `normalVelocity` (default at rest); `heater` adds
+ * a heated wire along the z axis. Earlier spellings (`colliding-rings`, `kelvin-wave`, `ring-cloud`, `loops`,
+ * and the `normalFluid` section) are accepted for one release by `upgradeFilamentParams` (`upgrade.ts`).
+ *
  * @example
  * ```ts
  * import { filamentParamsSchema } from "./params.ts";
@@ -39,8 +44,8 @@ const ringSchema = z.strictObject({
   normal: vec3("direction of motion (ring normal), any non-zero vector (dimensionless)").default([0, 0, 1]),
 }).describe("one circular ring; it moves along +normal");
 
-const collidingSchema = z.strictObject({
-  kind: z.literal("colliding-rings"),
+const ringPairSchema = z.strictObject({
+  kind: z.literal("ring-pair"),
   radius: pos(`radius of both rings (${LEN})`),
   separation: pos(`distance between the ring centres along x (${LEN})`),
   offset: z.number().finite().default(0).describe(`lateral offset of the centres along y (${LEN})`),
@@ -49,8 +54,8 @@ const collidingSchema = z.strictObject({
   ),
 }).describe("two rings approaching each other along x whose leaning rims meet first");
 
-const kelvinSchema = z.strictObject({
-  kind: z.literal("kelvin-wave"),
+const helixSchema = z.strictObject({
+  kind: z.literal("helix"),
   waves: z.number().int().min(1).default(1).describe(
     "wavelengths per box side (k = 2π·waves/L), an integer count (dimensionless)",
   ),
@@ -65,8 +70,8 @@ const radiusLaw = z.union([
   }).describe("normal radius law truncated below at max(3δ, μ − 3σ) by resampling"),
 ]);
 
-const cloudSchema = z.strictObject({
-  kind: z.literal("ring-cloud"),
+const ringBallSchema = z.strictObject({
+  kind: z.literal("ring-ball"),
   count: z.number().int().min(1).optional().describe(
     "number of rings (a count, dimensionless; give this or targetLineDensity)",
   ),
@@ -78,8 +83,8 @@ const cloudSchema = z.strictObject({
   centre: vec3(`centre of the cloud ball (${LEN})`).default([0, 0, 0]),
 }).describe("random cloud of rings: centres uniform in a ball, orientations uniform, random phase");
 
-const loopsSchema = z.strictObject({
-  kind: z.literal("loops"),
+const givenSchema = z.strictObject({
+  kind: z.literal("given"),
   loops: z.array(z.array(point).min(3)).min(1).optional().describe(
     `explicit closed loops, each an ordered list of [x, y, z] points (${LEN}); the last links to the first`,
   ),
@@ -91,11 +96,11 @@ const loopsSchema = z.strictObject({
 
 const initialSchema = z.discriminatedUnion("kind", [
   ringSchema,
-  collidingSchema,
-  kelvinSchema,
-  cloudSchema,
-  loopsSchema,
-]);
+  ringPairSchema,
+  helixSchema,
+  ringBallSchema,
+  givenSchema,
+]).describe("the vortex lines at t = 0");
 
 const frictionSchema = z.discriminatedUnion("kind", [
   z.strictObject({ kind: z.literal("none") }).describe("T = 0: no mutual friction (α = α′ = 0)"),
@@ -112,23 +117,19 @@ const frictionSchema = z.discriminatedUnion("kind", [
   }).describe("mutual friction coefficients given directly"),
 ]);
 
-const normalSchema = z.discriminatedUnion("kind", [
-  z.strictObject({ kind: z.literal("rest") }).describe("normal fluid at rest"),
-  z.strictObject({ kind: z.literal("uniform"), velocity: vec3(`normal-fluid velocity (${VEL})`) }),
-  z.strictObject({
-    kind: z.literal("line-heater"),
-    referenceRadius: pos(`reference radius r_ref from the heater axis (z axis) (${LEN})`),
-    referenceVelocity: pos(
-      `normal-fluid speed at r_ref (${VEL}); equals q′/(2π r_ref ρ s T) for heater power q′ per length`,
-    ),
-    heaterRadius: pos(`heater radius r_h: points closer to the z axis are absorbed (${LEN})`),
-    normalToSuperRatio: z.number().positive().finite().optional().describe(
-      "ρ_n/ρ_s for the counter-superflow v_s = −(ρ_n/ρ_s)v_n (dimensionless); default from the temperature table",
-    ),
-  }).describe(
-    "radial normal outflow v_n = u_ref r_ref/r from a heated line on the z axis, with counter-superflow",
+const heaterSchema = z.strictObject({
+  radius: pos(`wire radius r_h: points closer to the z axis are absorbed (${LEN})`),
+  referenceRadius: pos(`reference distance r_ref from the wire (z axis) (${LEN})`),
+  referenceVelocity: pos(
+    `normal-fluid speed at r_ref (${VEL}); equals q′/(2π r_ref ρ s T) for heater power q′ per length`,
   ),
-]);
+  normalToSuperRatio: z.number().positive().finite().optional().describe(
+    "ρ_n/ρ_s for the counter-superflow v_s = −(ρ_n/ρ_s)v_n (dimensionless); default from the temperature table",
+  ),
+}).describe(
+  "a heated wire along the z axis: radial normal outflow v_n = u_ref r_ref/r with counter-superflow " +
+    "(unbounded domain only; the normal fluid is otherwise at rest)",
+);
 
 const domainSchema = z.discriminatedUnion("kind", [
   z.strictObject({ kind: z.literal("unbounded") }).describe("open space (no images)"),
@@ -162,7 +163,7 @@ const numericsSchema = z.strictObject({
   maxPoints: z.number().int().min(10).default(200000).describe(
     "point-count cap (a count, dimensionless; invalid-state failure beyond)",
   ),
-}).describe("numerical settings (defaults follow the methods cheat-sheet)");
+}).describe("numerical settings (defaults: docs/methods.md §8)");
 
 /** The engine's parameter schema. */
 export const filamentParamsSchema = z.strictObject({
@@ -181,8 +182,13 @@ export const filamentParamsSchema = z.strictObject({
   ),
   domain: domainSchema.default({ kind: "unbounded" }),
   friction: frictionSchema.default({ kind: "none" }),
-  normalFluid: normalSchema.default({ kind: "rest" }),
   initial: initialSchema,
+  normalVelocity: vec3(`uniform normal-fluid velocity v_n (${VEL}); acts through mutual friction`).default([
+    0,
+    0,
+    0,
+  ]),
+  heater: heaterSchema.optional(),
   removeBeyond: z.number().positive().optional().describe(
     `loops whose centroid gets farther than this from the origin are removed (${LEN}); default never`,
   ),
@@ -221,11 +227,11 @@ export const filamentParamsSchema = z.strictObject({
     });
   }
   const periodic = p.domain.kind === "periodic";
-  if (p.initial.kind === "kelvin-wave" && !periodic) {
+  if (p.initial.kind === "helix" && !periodic) {
     ctx.addIssue({
       code: "custom",
       path: ["initial", "kind"],
-      message: "kelvin-wave requires domain.kind: periodic",
+      message: "helix requires domain.kind: periodic (the line closes through the box)",
     });
   }
   if (periodic && p.domain.kind === "periodic" && p.domain.size < 10 * p.resolution) {
@@ -235,13 +241,13 @@ export const filamentParamsSchema = z.strictObject({
       message: `periodic box side ${p.domain.size} must be at least 10·resolution = ${10 * p.resolution}`,
     });
   }
-  if (p.initial.kind === "ring-cloud") {
+  if (p.initial.kind === "ring-ball") {
     const c = p.initial;
     if ((c.count === undefined) === (c.targetLineDensity === undefined)) {
       ctx.addIssue({
         code: "custom",
         path: ["initial"],
-        message: "ring-cloud needs exactly one of count, targetLineDensity",
+        message: "ring-ball needs exactly one of count, targetLineDensity",
       });
     }
     const mu = typeof c.radius === "number" ? c.radius : c.radius.mean;
@@ -255,8 +261,8 @@ export const filamentParamsSchema = z.strictObject({
       });
     }
   }
-  if (p.initial.kind === "loops" && (p.initial.loops === undefined) === (p.initial.file === undefined)) {
-    ctx.addIssue({ code: "custom", path: ["initial"], message: "loops needs exactly one of loops, file" });
+  if (p.initial.kind === "given" && (p.initial.loops === undefined) === (p.initial.file === undefined)) {
+    ctx.addIssue({ code: "custom", path: ["initial"], message: "given needs exactly one of loops, file" });
   }
   if (p.friction.kind === "temperature") {
     try {
@@ -267,20 +273,26 @@ export const filamentParamsSchema = z.strictObject({
     }
   }
   if (
-    p.normalFluid.kind === "line-heater" && p.normalFluid.normalToSuperRatio === undefined &&
-    p.friction.kind !== "temperature"
+    p.heater !== undefined && p.heater.normalToSuperRatio === undefined && p.friction.kind !== "temperature"
   ) {
     ctx.addIssue({
       code: "custom",
-      path: ["normalFluid", "normalToSuperRatio"],
-      message: "line-heater needs normalToSuperRatio (ρ_n/ρ_s) unless friction is given by temperature",
+      path: ["heater", "normalToSuperRatio"],
+      message: "a heater needs normalToSuperRatio (ρ_n/ρ_s) unless friction is given by temperature",
     });
   }
-  if (p.normalFluid.kind === "line-heater" && periodic) {
+  if (p.heater !== undefined && periodic) {
     ctx.addIssue({
       code: "custom",
-      path: ["normalFluid", "kind"],
-      message: "line-heater is only available in the unbounded domain (its outflow is not periodic)",
+      path: ["heater"],
+      message: "a heater is only available in the unbounded domain (its outflow is not periodic)",
+    });
+  }
+  if (p.heater !== undefined && p.normalVelocity.some((v) => v !== 0)) {
+    ctx.addIssue({
+      code: "custom",
+      path: ["normalVelocity"],
+      message: "a uniform normal velocity and a heater cannot be combined: give one of them",
     });
   }
 });

@@ -18,6 +18,22 @@ Deno.test("filamentParamsSchema fills the documented defaults", () => {
   assert.equal(p.numerics.dtFactor, 3);
   assert.equal(p.numerics.minSpacingFactor, 0.5);
   assert.deepEqual(p.initial, { kind: "ring", radius: 1e-4, centre: [0, 0, 0], normal: [0, 0, 1] });
+  assert.deepEqual(p.normalVelocity, [0, 0, 0]);
+  assert.equal(p.heater, undefined);
+});
+
+Deno.test("filamentParamsSchema: a heater excludes a uniform normal velocity and the periodic box", () => {
+  const heater = { radius: 0.1, referenceRadius: 1, referenceVelocity: 1, normalToSuperRatio: 0.5 };
+  const ring = { kind: "ring", radius: 1 };
+  assert.deepEqual(issues({ ...base, heater, initial: ring }), []);
+  assert.match(
+    issues({ ...base, heater, normalVelocity: [0, 0, 1], initial: ring }).join(),
+    /normalVelocity: a uniform normal velocity and a heater cannot be combined/,
+  );
+  assert.match(
+    issues({ ...base, heater, domain: { kind: "periodic", size: 4 }, initial: ring }).join(),
+    /heater: a heater is only available in the unbounded domain/,
+  );
 });
 
 Deno.test("filamentParamsSchema refuses inconsistent parameters with paths and messages", () => {
@@ -26,15 +42,15 @@ Deno.test("filamentParamsSchema refuses inconsistent parameters with paths and m
     /coreRadius.*required/,
   );
   assert.match(
-    issues({ ...base, initial: { kind: "kelvin-wave", amplitude: 0.01 } }).join(),
-    /initial.kind: kelvin-wave requires/,
+    issues({ ...base, initial: { kind: "helix", amplitude: 0.01 } }).join(),
+    /initial.kind: helix requires/,
   );
   assert.match(
-    issues({ ...base, initial: { kind: "ring-cloud", radius: 1, cloudRadius: 3 } }).join(),
+    issues({ ...base, initial: { kind: "ring-ball", radius: 1, cloudRadius: 3 } }).join(),
     /exactly one of count, targetLineDensity/,
   );
   assert.match(
-    issues({ ...base, initial: { kind: "ring-cloud", count: 3, radius: 0.2, cloudRadius: 3 } }).join(),
+    issues({ ...base, initial: { kind: "ring-ball", count: 3, radius: 0.2, cloudRadius: 3 } }).join(),
     /initial.radius: ring radius 0.2 is below 3·resolution/,
   );
   assert.match(
@@ -49,12 +65,12 @@ Deno.test("filamentParamsSchema refuses inconsistent parameters with paths and m
   assert.match(
     issues({
       ...base,
-      normalFluid: { kind: "line-heater", referenceRadius: 1, referenceVelocity: 1, heaterRadius: 0.1 },
+      heater: { radius: 0.1, referenceRadius: 1, referenceVelocity: 1 },
       initial: { kind: "ring", radius: 1 },
     }).join(),
     /normalToSuperRatio/,
   );
-  assert.match(issues({ ...base, initial: { kind: "loops" } }).join(), /exactly one of loops, file/);
+  assert.match(issues({ ...base, initial: { kind: "given" } }).join(), /exactly one of loops, file/);
   assert.match(issues({ ...base, resolutoin: 1, initial: { kind: "ring", radius: 1 } }).join(), /resolutoin/);
   assert.match(
     issues({ ...base, domain: { kind: "periodic", size: 0.5 }, initial: { kind: "ring", radius: 0.1 } })
@@ -66,17 +82,17 @@ Deno.test("filamentParamsSchema refuses inconsistent parameters with paths and m
 Deno.test("filamentParamsSchema accepts every initial shape", () => {
   const ok = [
     { kind: "ring", radius: 1 },
-    { kind: "colliding-rings", radius: 1, separation: 2 },
-    { kind: "ring-cloud", targetLineDensity: 2, radius: { mean: 1, sd: 0.1 }, cloudRadius: 3 },
-    { kind: "loops", loops: [[[0, 0, 0], [1, 0, 0], [0, 1, 0]]] },
-    { kind: "loops", file: "x.json" },
+    { kind: "ring-pair", radius: 1, separation: 2 },
+    { kind: "ring-ball", targetLineDensity: 2, radius: { mean: 1, sd: 0.1 }, cloudRadius: 3 },
+    { kind: "given", loops: [[[0, 0, 0], [1, 0, 0], [0, 1, 0]]] },
+    { kind: "given", file: "x.json" },
   ];
   for (const initial of ok) assert.deepEqual(issues({ ...base, initial }), [], JSON.stringify(initial));
   assert.deepEqual(
     issues({
       ...base,
       domain: { kind: "periodic", size: 2 },
-      initial: { kind: "kelvin-wave", amplitude: 0.01 },
+      initial: { kind: "helix", amplitude: 0.01 },
     }),
     [],
   );

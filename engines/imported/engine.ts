@@ -33,7 +33,8 @@ import { assemblerSettings, planRead, selectionText } from "./plan.ts";
 import { readDelimited } from "./read_delimited.ts";
 import { readHdf5 } from "./read_hdf5.ts";
 import { readJsonLines } from "./read_jsonl.ts";
-import { lengthInStudyUnits } from "./units.ts";
+import { lengthInStudyUnits, studyUnitLabels } from "./units.ts";
+import { FILAMENTS_3D_STARTER, TRACKS_2D_STARTER } from "./starter.ts";
 
 /** Version of both imported-data engines (bumped when the same files could give different frames). */
 export const IMPORTED_ENGINE_VERSION = "1.0.0";
@@ -103,7 +104,10 @@ export const importedTracks2dEngine: Engine<Tracks2dParams> = {
   version: IMPORTED_ENGINE_VERSION,
   title: "Imported 2D vortex tracks (CSV, TSV, JSON lines, HDF5)",
   capabilities: capabilities2d,
+  usesSeed: false,
   paramsSchema: tracks2dParamsSchema,
+  starter: TRACKS_2D_STARTER,
+  scales: (params) => ({ units: studyUnitLabels(params.units) }),
   run: (input, sink) => runImport(2, input, sink),
 };
 
@@ -113,7 +117,12 @@ export const importedFilaments3dEngine: Engine<Filaments3dParams> = {
   version: IMPORTED_ENGINE_VERSION,
   title: "Imported 3D vortex-filament snapshots (CSV, TSV, JSON lines, HDF5)",
   capabilities: capabilities3d,
+  usesSeed: false,
   paramsSchema: filaments3dParamsSchema,
-  scales: (params) => ({ coreRadius: lengthInStudyUnits(params.coreRadius, params.units, "coreRadius") }),
+  starter: FILAMENTS_3D_STARTER,
+  scales: (params) => ({
+    coreRadius: lengthInStudyUnits(params.coreRadius, params.units, "coreRadius"),
+    units: studyUnitLabels(params.units),
+  }),
   run: (input, sink) => runImport(3, input, sink),
 };

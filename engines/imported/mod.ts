@@ -26,7 +26,7 @@ export {
   formatExportNumber,
   writeFramesCsv,
 } from "./export_format.ts";
-export { lengthInStudyUnits } from "./units.ts";
+export { lengthInStudyUnits, studyUnitLabels } from "./units.ts";
 
 /** Both imported-data engines, for the registry. */
 // deno-lint-ignore no-explicit-any

@@ -23,6 +23,8 @@
  * ```
  */
 
+import { squared } from "../units.ts";
+
 /** Accepted length unit symbols. */
 export const LENGTH_UNITS = ["m", "cm", "mm", "um", "µm", "μm", "nm", "xi", "ξ"] as const;
 /** Accepted time unit symbols. */
@@ -237,4 +239,31 @@ export function lengthInStudyUnits(
 ): number {
   if (typeof q === "number") return q;
   return q.value * lengthFactor({ unit: q.unit }, units, what);
+}
+
+const SYMBOL: Readonly<Record<string, string>> = { um: "µm", "μm": "µm", xi: "ξ", us: "µs", "μs": "µs" };
+
+function unitText<U extends string>(q: U | Quantity<U>): string {
+  const { value, unit } = quantity(q);
+  const symbol = SYMBOL[unit] ?? unit;
+  return value === 1 ? symbol : `${value} ${symbol}`;
+}
+
+/**
+ * Labels of the study units `units` defines, for reports and `spindrift check`: e.g. { length: "2.5 µm", time:
+ * "ms" }. Without units.time the study time unit is ℓ²/κ (the files' own unit, or ℓ²/κ with units.kappa), so
+ * a fitted D is D/κ; give units.time when the files' times are in seconds.
+ *
+ * @example
+ * ```ts
+ * studyUnitLabels({ length: "um", time: { value: 0.5, unit: "ms" } }); // { length: "µm", time: "0.5 ms", … }
+ * studyUnitLabels({}); // { length: "ℓ", time: "ℓ²/κ", circulation: "κ" }
+ * ```
+ */
+export function studyUnitLabels(
+  units: StudyUnits | undefined,
+): { length: string; time: string; circulation: string } {
+  const length = units?.length !== undefined ? unitText(units.length) : "ℓ";
+  const time = units?.time !== undefined ? unitText(units.time) : `${squared(length)}/κ`;
+  return { length, time, circulation: "κ" };
 }

@@ -120,7 +120,7 @@ Deno.test("circulationReading: kappa multiplies by the scale, sign keeps only th
 
 Deno.test("lengthInStudyUnits: numbers are study units, quantities are converted", () => {
   assertEquals(lengthInStudyUnits(0.01, {}, "coreRadius"), 0.01);
-  // ⁴He core a₀ ≈ 1e-8 cm (methods.md §0) = 1e-4 µm.
+  // ⁴He core a₀ ≈ 1e-8 cm (docs/methods.md §0) = 1e-4 µm.
   assertClose(
     lengthInStudyUnits({ value: 1e-8, unit: "cm" }, { length: "um" }, "coreRadius"),
     1e-4,

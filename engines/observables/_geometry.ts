@@ -2,7 +2,7 @@
  * Geometry kernels shared by the classifiers and observables: the trimmed (robust) cluster centre and RMS
  * radius, loop boundaries of filament frames, and filament segments.
  *
- * Method (centre, methods §4.3): weighted centroid c = Σ wᵢ rᵢ / Σ wᵢ and R_rms² = Σ wᵢ |rᵢ − c|² / Σ wᵢ over
+ * Method (centre, docs/methods.md §4.3): weighted centroid c = Σ wᵢ rᵢ / Σ wᵢ and R_rms² = Σ wᵢ |rᵢ − c|² / Σ wᵢ over
  * the candidate set (w = 1 for 2D vortices, w = segment length at segment midpoints for 3D filaments); then
  * points farther than 3 R_rms from c are dropped and both are recomputed, until no point is dropped. Points are
  * only ever dropped, never re-admitted, so the iteration ends after at most n rounds (in practice 1–3).
@@ -30,7 +30,7 @@ export function newCentreResult(): CentreResult {
   return { cx: Number.NaN, cy: Number.NaN, cz: Number.NaN, rms: Number.NaN, count: 0, weight: 0 };
 }
 
-/** Distance factor beyond which points are trimmed (methods §4.3: "excluding points beyond 3R_rms"). */
+/** Distance factor beyond which points are trimmed (docs/methods.md §4.3: "excluding points beyond 3R_rms"). */
 export const TRIM_FACTOR = 3;
 
 /**

@@ -33,7 +33,7 @@ Deno.test("IdTable maps arbitrary int32 ids through growth and clear", () => {
 });
 
 Deno.test("trimmedCentre weights points and skips non-finite ones", () => {
-  // Weighted centroid Σwx/Σw and R_rms² = Σw|x − c|²/Σw (methods §4.3): points 0 and 3 with weights 3 and 1
+  // Weighted centroid Σwx/Σw and R_rms² = Σw|x − c|²/Σw (docs/methods.md §4.3): points 0 and 3 with weights 3 and 1
   // give c = 0.75, R_rms² = (3·0.5625 + 1·5.0625)/4 = 1.6875.
   const x = Float64Array.from([0, 3, Number.NaN]);
   const y = new Float64Array(3);

@@ -2,13 +2,13 @@
  * Radial profile kernels about a centre: vortex count per annulus (2D) and filament length per spherical shell
  * (3D), bins [k·w, (k+1)·w) for k < nb, plus everything beyond nb·w in entry nb ("outside").
  *
- * Method (3D, methods §5.2): a straight segment a + s(b − a), s ∈ [0, 1], has |r(s)|² quadratic in s, so r is
+ * Method (3D, docs/methods.md §5.2): a straight segment a + s(b − a), s ∈ [0, 1], has |r(s)|² quadratic in s, so r is
  * monotone on each side of s* = −a·(b − a)/|b − a|² (clamped to [0, 1]). On each monotone piece the shell radii
  * jw crossed are solved for exactly (the smaller root on the decreasing piece, the larger on the increasing
  * one), and each sub-piece's length goes to the shell of its midpoint radius. The lengths of all sub-pieces add
  * up to the segment length, so Σ_k (length in shell k) + outside = total length to rounding.
  *
- * References: methods §5.2 (profiles, splitting segments that cross shell faces); the root selection is
+ * References: docs/methods.md §5.2 (profiles, splitting segments that cross shell faces); the root selection is
  * elementary geometry (common practice, no source).
  */
 

@@ -115,7 +115,7 @@ export function frame3d(index: number, t: number, loops: readonly Loop[]): Frame
 
 /**
  * Regular M-gon ring of radius r centred at c with unit normal nrm; points counterclockwise about nrm, so that
- * by the right-hand rule the ring propagates along +nrm (methods §3.1). Ids firstId, firstId + 1, …
+ * by the right-hand rule the ring propagates along +nrm (docs/methods.md §3.1). Ids firstId, firstId + 1, …
  */
 export function ring(
   loopId: number,

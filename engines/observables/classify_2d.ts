@@ -1,5 +1,5 @@
 /**
- * Classifier for 2D point vortices: main cluster, evaporated dipoles, stray lone vortices (methods §4.1, §4.3).
+ * Classifier for 2D point vortices: main cluster, evaporated dipoles, stray lone vortices (docs/methods.md §4.1, §4.3).
  *
  * Per frame, in this order:
  *
@@ -9,7 +9,7 @@
  *    frame take effect on the centre from the next frame on.
  * 2. **Spacing ℓ.** ℓ = n^{-1/2} with n = N_main / (2π R_rms²), N_main and R_rms from the trimmed main set.
  *    For a uniform disk of radius R_c, R_rms² = R_c²/2, so 2π R_rms² = π R_c² is exactly the disk area and ℓ is
- *    the initial-condition spacing of methods §3.2; unlike the convex hull or the maximum radius, R_rms does
+ *    the initial-condition spacing of docs/methods.md §3.2; unlike the convex hull or the maximum radius, R_rms does
  *    not jump when one edge vortex leaves. Undefined (NaN, no dipole possible) when N_main < 2 or R_rms = 0.
  * 3. **Dipoles** (criteria 1–2 of §4.1): vortices with non-zero circulation whose nearest neighbour (among all
  *    vortices with circulation) lies within d < f·ℓ, mutually, and of opposite sign. Since only neighbours
@@ -33,7 +33,7 @@
  * Cost: O(N) expected per frame (hash grid, id hash table); buffers grow only when N or the number of ids ever
  * seen grows. Per-id state is kept for every id ever seen (O(ids)).
  *
- * References: methods §4.1 and §4.3; dipole speed U = Γ/(2πd): P.G. Saffman, Vortex Dynamics (CUP, 1992) §7.3,
+ * References: docs/methods.md §4.1 and §4.3; dipole speed U = Γ/(2πd): P.G. Saffman, Vortex Dynamics (CUP, 1992) §7.3,
  * doi:10.1017/CBO9780511624063. Mutual-nearest-neighbour dipoles: R.N. Valani, A.J. Groszek, T.P. Simula,
  * New J. Phys. 20, 053038 (2018), doi:10.1088/1367-2630/aac0bb. Spatial hashing: M. Teschner et al.,
  * "Optimized spatial hashing for collision detection of deformable objects", VMV 2003, 47.

@@ -14,7 +14,7 @@ import { createDipoleClassifier } from "./classify_2d.ts";
 import type { Classification } from "./contract.ts";
 import { Label } from "./labels.ts";
 
-/** 200 vortices uniform in a disk of radius 10 (methods §3.2 sampling), random signs; ids 0..199. */
+/** 200 vortices uniform in a disk of radius 10 (docs/methods.md §3.2 sampling), random signs; ids 0..199. */
 function cloud(rng: RandomStream, n = 200, radius = 10): Vortex[] {
   const out: Vortex[] = [];
   for (let i = 0; i < n; i++) {
@@ -235,7 +235,7 @@ Deno.test("createDipoleClassifier turns an evaporated vortex whose partner vanis
 });
 
 Deno.test("createDipoleClassifier centre and R_rms of symmetric configurations are exact", () => {
-  // Centroid and RMS radius (methods §4.3) of configurations with known values: elementary geometry
+  // Centroid and RMS radius (docs/methods.md §4.3) of configurations with known values: elementary geometry
   // (common practice, no source).
   const classifier = createDipoleClassifier(context(CAPS_2D));
   const a = 0.75, x0 = 3.5, y0 = -1.25;

@@ -1,5 +1,5 @@
 /**
- * Classifier for 3D vortex filaments: main tangle, evaporated small fast loops, stray loops (methods §4.2, §4.3).
+ * Classifier for 3D vortex filaments: main tangle, evaporated small fast loops, stray loops (docs/methods.md §4.2, §4.3).
  *
  * Frames list filament points loop by loop (`loop` field; each loop contiguous and in order, its last point
  * linked to its first). Segment i joins point i to the next point of its loop. Per frame, in this order:
@@ -17,16 +17,16 @@
  *    length-weighted centroid of segment midpoints with 3 R_rms trimming, R_rms length-weighted
  *    (`_geometry.ts`). Returned for this frame; this frame's decisions act on the centre from the next frame.
  * 4. **Spacing ℓ = L^{-1/2}**, L = (kept main length) / ((4/3)π R_c³) with R_c = (5/3)^{1/2} R_rms: for a
- *    uniform ball of radius R_c, R_rms² = 3R_c²/5, so this is the nominal line density of methods §3.1 for a
+ *    uniform ball of radius R_c, R_rms² = 3R_c²/5, so this is the nominal line density of docs/methods.md §3.1 for a
  *    uniformly filled ball, measured robustly through R_rms.
  * 5. **Velocity** of a tracked loop: finite difference of its centroid between the previous frame and this one.
- * 6. **Evaporation criteria** (methods §4.2), all required:
+ * 6. **Evaporation criteria** (docs/methods.md §4.2), all required:
  *    (1) R_eff < f·ℓ; (2) |V| > 2·median |V| over all loops with a velocity this frame, and
  *    U/(1 + tol) ≤ |V| ≤ U·(1 + tol) with the ring speed U = (κ/4πR_eff)[ln(8R_eff/a₀) − C], C = 3/4 − γ_E
- *    (straight-segment Biot–Savart sums, methods §2.2), κ = mean |circulation| of the loop's points (1 when the
+ *    (straight-segment Biot–Savart sums, docs/methods.md §2.2), κ = mean |circulation| of the loop's points (1 when the
  *    engine has no circulation field: κ is the engine's circulation unit); (3) cosine between V and X − X_c
  *    > c_out; (4) isolated — no point of another loop closer than ℓ to a point of this one — or
- *    |X − X_c| > k·R_rms. Point-to-point distance stands for curve distance (resolution ≤ ℓ/10, methods §8).
+ *    |X − X_c| > k·R_rms. Point-to-point distance stands for curve distance (resolution ≤ ℓ/10, docs/methods.md §8).
  * 7. **Sticky labels.** All criteria in K consecutive frames → `Evaporated` (event `evaporation`, ids = the
  *    loop's marker ids, data: track id and criteria values). A loop beyond k·R_rms failing the criteria for K
  *    consecutive frames → `Stray` (event `stray`); an evaporated loop stays evaporated there. An evaporated or
@@ -36,7 +36,7 @@
  * Cost: O(N) expected per frame for N points (hash tables, lazy hash grid for isolation); buffers grow only when
  * N or the loop count grows; track state is O(loops of the previous frame).
  *
- * References: methods §4.2, §4.3, §2.2. Ring speed: R.J. Donnelly, Quantized Vortices in Helium II (CUP, 1991)
+ * References: docs/methods.md §4.2, §4.3, §2.2. Ring speed: R.J. Donnelly, Quantized Vortices in Helium II (CUP, 1991)
  * §5, doi:10.1017/CBO9780511564222; P.G. Saffman, Vortex Dynamics (CUP, 1992) §10.2,
  * doi:10.1017/CBO9780511624063; K.W. Schwarz, Phys. Rev. B 31, 5782 (1985), doi:10.1103/PhysRevB.31.5782.
  *
@@ -70,7 +70,7 @@ const EULER_GAMMA = 0.5772156649015329;
 
 /**
  * Core constant C = 3/4 − γ_E ≈ 0.17278 of the ring speed U = (κ/4πR)[ln(8R/a₀) − C] for the desingularized
- * Biot–Savart law summed over straight segments (methods §2.2; check-values §3.2, derived and checked there).
+ * Biot–Savart law summed over straight segments (docs/methods.md §2.2; check-values §3.2, derived and checked there).
  */
 export const STRAIGHT_SEGMENT_CORE_CONSTANT = 0.75 - EULER_GAMMA;
 

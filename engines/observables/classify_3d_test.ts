@@ -35,7 +35,7 @@ function unit(rng: RandomStream): [number, number, number] {
   return [v[0] / s, v[1] / s, v[2] / s];
 }
 
-/** 20 static rings of radius 1 (32 points) with centres uniform in a ball of radius 3 (methods §3.1). */
+/** 20 static rings of radius 1 (32 points) with centres uniform in a ball of radius 3 (docs/methods.md §3.1). */
 function tangle(rng: RandomStream, count = 20): Loop[] {
   const out: Loop[] = [];
   for (let q = 0; q < count; q++) {
@@ -252,7 +252,7 @@ Deno.test("createLoopClassifier logs a recapture of a ring back inside k·R_rms 
 });
 
 Deno.test("createLoopClassifier keeps the label of an evaporated loop through a split", () => {
-  // Loop identity by majority of shared markers (methods §4.2): the piece with more markers keeps the track,
+  // Loop identity by majority of shared markers (docs/methods.md §4.2): the piece with more markers keeps the track,
   // the other starts a new track inheriting the label; no second evaporation event.
   const rng = RandomStream.fromState([29, 30, 31, 32]);
   const base = tangle(rng);
@@ -291,7 +291,7 @@ Deno.test("createLoopClassifier keeps the label of an evaporated loop through a 
 });
 
 Deno.test("createLoopClassifier gives a merged loop the track sharing most markers", () => {
-  // Loop identity by majority of shared markers (methods §4.2): an evaporated ring (4 markers) merging with a
+  // Loop identity by majority of shared markers (docs/methods.md §4.2): an evaporated ring (4 markers) merging with a
   // tangle ring (8 markers) continues the tangle ring's track, whose label is main, even though the
   // evaporated ring's points come first.
   const rng = RandomStream.fromState([33, 34, 35, 36]);
@@ -323,7 +323,7 @@ Deno.test("createLoopClassifier gives a merged loop the track sharing most marke
 });
 
 Deno.test("createLoopClassifier centre and R_rms of symmetric rings are exact", () => {
-  // Length-weighted centroid of segment midpoints (methods §4.3). A regular M-gon of circumradius R has all
+  // Length-weighted centroid of segment midpoints (docs/methods.md §4.3). A regular M-gon of circumradius R has all
   // midpoints at R·cos(π/M) (elementary geometry, common practice, no source).
   const classifier = createLoopClassifier(context(CAPS_3D, CONFIG, A0));
   const c0: [number, number, number] = [1.5, -2.25, 0.5];

@@ -2,25 +2,25 @@
  * The `cluster` observable: size, centre and radial line-density profile of the main cluster over time.
  *
  * Series (one value per frame, t = frame.t):
- * - `cluster_rms_radius`, `cluster_centre_x|y` (and `_z` in 3D): the classifier's centre and R_rms (methods §4.3).
+ * - `cluster_rms_radius`, `cluster_centre_x|y` (and `_z` in 3D): the classifier's centre and R_rms (docs/methods.md §4.3).
  * - `main_count`, `object_count`: objects labelled main / all objects (2D vortices; 3D filament points).
  * - 3D only: `line_length` (total filament length), `main_line_length` (length of main-labelled loops),
  *   `loop_count`.
  * - `profile.<k>` for k = 0 … bins − 1: radial density about the frame's centre, of main-labelled objects only
- *   (evaporated and stray objects are excluded, methods §5.2): 2D vortex count per annulus area
+ *   (evaporated and stray objects are excluded, docs/methods.md §5.2): 2D vortex count per annulus area
  *   [kw, (k+1)w), 3D filament length per shell volume, segments split at shell faces (`_profile.ts`).
  *   `profile_outside`: count (2D) or length (3D) of the main cluster beyond bins·w, so that
  *   Σ_k profile.<k> · (area or volume of bin k) + profile_outside = main count or main length exactly.
  *
  * The bin width w = binFraction · R_rms is fixed at the first frame with a finite R_rms > 0 (defaults: R_rms(0)/10
- * and 30 bins, i.e. out to 3 R_rms(0); methods §5.2 asks for bins ≈ R_rms(0)/10). Profile series start at that
+ * and 30 bins, i.e. out to 3 R_rms(0); docs/methods.md §5.2 asks for bins ≈ R_rms(0)/10). Profile series start at that
  * frame.
  *
  * Scalars: `rms_radius_initial` (R_rms of the first frame), `profile_bin_width`, `profile_bins`.
  *
  * Memory: O(objects) scratch plus the output series themselves.
  *
- * References: methods §4.3 (centre, R_rms) and §5.2 (profiles).
+ * References: docs/methods.md §4.3 (centre, R_rms) and §5.2 (profiles).
  *
  * @example
  * ```ts
@@ -51,7 +51,7 @@ export interface ClusterOptions {
   readonly binFraction?: number;
 }
 
-/** Default radial-profile binning: 30 bins of R_rms(0)/10 (methods §5.2), i.e. out to 3 R_rms(0). */
+/** Default radial-profile binning: 30 bins of R_rms(0)/10 (docs/methods.md §5.2), i.e. out to 3 R_rms(0). */
 export const DEFAULT_PROFILE: ProfileBinning = Object.freeze({ bins: 30, binFraction: 0.1 });
 const DEFAULT_BINS = DEFAULT_PROFILE.bins;
 const DEFAULT_BIN_FRACTION = DEFAULT_PROFILE.binFraction;

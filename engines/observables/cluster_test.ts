@@ -48,7 +48,7 @@ const shell = (k: number, w: number) => 4 / 3 * Math.PI * (((k + 1) * w) ** 3 - 
 const perimeter = (r: number, m: number) => 2 * m * r * Math.sin(Math.PI / m);
 
 Deno.test("clusterObservable reports centre, R_rms and counts of a square of vortices per frame", () => {
-  // Centroid and RMS radius of (x0 ± a, y0 ± a): (x0, y0) and a√2 (methods §4.3; elementary geometry).
+  // Centroid and RMS radius of (x0 ± a, y0 ± a): (x0, y0) and a√2 (docs/methods.md §4.3; elementary geometry).
   const a = 0.5, x0 = 2, y0 = -3;
   const frames = [0, 1, 2].map((k) =>
     frame2d(
@@ -76,13 +76,13 @@ Deno.test("clusterObservable reports centre, R_rms and counts of a square of vor
 });
 
 Deno.test("clusterObservable 2D profile counts vortices per annulus area and sums to the main count", () => {
-  // Σ_k n_k · area_k + outside = N_main exactly (methods §5.2: 2D vortex number per annulus area).
+  // Σ_k n_k · area_k + outside = N_main exactly (docs/methods.md §5.2: 2D vortex number per annulus area).
   const rng = RandomStream.fromState([1, 2, 3, 4]);
   const vortices = Array.from({ length: 500 }, (_, i) => {
     const r = 10 * Math.sqrt(rng.uniform()), th = 2 * Math.PI * rng.uniform();
     return { id: i, x: r * Math.cos(th), y: r * Math.sin(th), g: i % 2 === 0 ? 1 : -1 };
   });
-  // Two far vortices turn stray after 3 frames and leave the profile (excluded objects, methods §5.2).
+  // Two far vortices turn stray after 3 frames and leave the profile (excluded objects, docs/methods.md §5.2).
   vortices.push({ id: 900, x: 60, y: 0, g: 1 }, { id: 901, x: 0, y: -70, g: 1 });
   const r = run2d([0, 1, 2, 3].map((k) => frame2d(k, k, vortices)));
   const w = r.scalars.profile_bin_width;
@@ -141,7 +141,7 @@ Deno.test("clusterObservable splits radial segments exactly at shell faces", () 
 });
 
 Deno.test("clusterObservable 3D profile integrates to the main line length for a planted set of rings", () => {
-  // ∫ L(r) dV = Σ_k L_k V_k + outside = total main length (methods §5.2), and line_length = Σ 2MR sin(π/M).
+  // ∫ L(r) dV = Σ_k L_k V_k + outside = total main length (docs/methods.md §5.2), and line_length = Σ 2MR sin(π/M).
   const rng = RandomStream.fromState([5, 6, 7, 8]);
   const loops: Loop[] = [];
   let expectedLength = 0;

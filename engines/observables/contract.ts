@@ -11,7 +11,7 @@
  * Accumulators keep O(objects) state, never O(frames × objects).
  *
  * The classifier's own events (kinds `evaporation`, `recapture`, `stray`: the per-object decision log with the
- * criteria values, methods §4) arrive in `Classification.events`; the runner stores them as they come, like
+ * criteria values, docs/methods.md §4) arrive in `Classification.events`; the runner stores them as they come, like
  * engine events. Observables do not repeat them.
  */
 import type {
@@ -23,7 +23,7 @@ import type {
   RunControls,
 } from "../contract.ts";
 
-/** Classification thresholds from the study file (methods: evaporation criteria, sticky labels). */
+/** Classification thresholds from the study file (docs/methods.md §4: evaporation criteria, sticky labels). */
 export interface ClassificationConfig {
   /** 2D: dipole separation must be < f·ℓ (ℓ = mean intervortex distance of the main cluster). 3D: R_eff < f·ℓ. */
   readonly separationFactor: number;

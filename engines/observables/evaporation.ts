@@ -1,5 +1,5 @@
 /**
- * The `evaporation` observable: how many objects left the main cluster by evaporation (methods §4).
+ * The `evaporation` observable: how many objects left the main cluster by evaporation (docs/methods.md §4).
  *
  * Series (t = frame.t):
  * - `evaporated_count`: cumulative number of distinct objects ever labelled evaporated, counted from the

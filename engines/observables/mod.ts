@@ -45,7 +45,7 @@ export { msdObservable } from "./msd.ts";
 export { checkClassificationConfig } from "./_config.ts";
 
 /**
- * Default classification thresholds (methods §4 and §8): separation factor f = 0.3, radius factor k = 2,
+ * Default classification thresholds (docs/methods.md §4 and §8): separation factor f = 0.3, radius factor k = 2,
  * K = 3 sticky frames, outward cosine 0.5, speed tolerance 0.25.
  */
 export const DEFAULT_CLASSIFICATION: ClassificationConfig = Object.freeze({

@@ -18,8 +18,8 @@ import {
   ring,
 } from "./_testing.ts";
 
-Deno.test("DEFAULT_CLASSIFICATION holds the thresholds of methods §8", () => {
-  // Methods §8 cheat-sheet: f = 0.3, k = 2, K = 3 frames, outward cosine 0.5; §4.1: speed within 25 %.
+Deno.test("DEFAULT_CLASSIFICATION holds the thresholds of docs/methods.md §8", () => {
+  // docs/methods.md §8: f = 0.3, k = 2, K = 3 frames, outward cosine 0.5; §4.1: speed within 25 %.
   assertEquals(DEFAULT_CLASSIFICATION, {
     separationFactor: 0.3,
     radiusFactor: 2,

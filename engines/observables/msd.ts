@@ -1,15 +1,15 @@
 /**
  * The `msd` observable: mean-square displacement from a fixed origin with the cluster drift removed
- * (methods §5.1).
+ * (docs/methods.md §5.1).
  *
  * Method. The origin is the first frame pushed (t₀). The tracked objects are those labelled main at t₀:
  * 2D vortices (by id), 3D Lagrangian markers only (filament points with `marker = 1`; other points are not
- * material, methods §2.10). At each frame t, for every tracked object present,
+ * material, docs/methods.md §2.10). At each frame t, for every tracked object present,
  *
  *   Δᵢ(t) = rᵢ(t) − rᵢ(t₀) − (r_c(t) − r_c(t₀)),   r_c = the classifier's main-cluster centre,
  *
  * and
- * - `msd` = ⟨|Δᵢ|²⟩ over objects labelled main at t₀ and at t (survivor average, methods §5.1 (a));
+ * - `msd` = ⟨|Δᵢ|²⟩ over objects labelled main at t₀ and at t (survivor average, docs/methods.md §5.1 (a));
  * - `msd_all` = ⟨|Δᵢ|²⟩ over all tracked objects present at t, whatever their current label;
  * - `msd_count` = number of objects in the `msd` average; `msd_all_count` = in the `msd_all` average.
  * Objects that vanish (annihilated vortices, markers of removed loops) are censored at their last frame: once
@@ -18,7 +18,7 @@
  *
  * Memory: O(objects at t₀) (id table and initial positions) plus the output series.
  *
- * References: methods §5.1; A. Einstein, Ann. Phys. 17, 549 (1905), doi:10.1002/andp.19053220806 (MSD = 2dDt);
+ * References: docs/methods.md §5.1; A. Einstein, Ann. Phys. 17, 549 (1905), doi:10.1002/andp.19053220806 (MSD = 2dDt);
  * censoring: E.L. Kaplan, P. Meier, J. Am. Stat. Assoc. 53, 457 (1958), doi:10.1080/01621459.1958.10501452.
  *
  * @example

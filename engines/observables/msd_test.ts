@@ -56,7 +56,7 @@ Deno.test("msdObservable is zero for a uniform drift of the whole cluster (centr
 });
 
 Deno.test("msdObservable equals the exact mean square of a known displacement set", () => {
-  // MSD(t) = ⟨|Δr_i − Δr_c|²⟩ (methods §5.1), summed here directly from the planted displacements.
+  // MSD(t) = ⟨|Δr_i − Δr_c|²⟩ (docs/methods.md §5.1), summed here directly from the planted displacements.
   const rng = RandomStream.fromState([5, 6, 7, 8]);
   const n = 1000;
   const x0 = Array.from({ length: n }, () => rng.normal()),

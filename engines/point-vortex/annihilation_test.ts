@@ -21,7 +21,7 @@ function search(
 }
 
 Deno.test("AnnihilationSearch takes the closest opposite-sign pairs first, each vortex once", () => {
-  // Greedy in increasing distance (methods §1.6). A chain − + − with gaps 0.03 and 0.04: only the 0.03 pair goes.
+  // Greedy in increasing distance (docs/methods.md §1.6). A chain − + − with gaps 0.03 and 0.04: only the 0.03 pair goes.
   const r = search([[0, 0, -1, 10], [0.03, 0, 1, 11], [0.07, 0, -1, 12], [3, 3, 1, 13]], 0.1, {
     kind: "unbounded",
   });
@@ -31,7 +31,7 @@ Deno.test("AnnihilationSearch takes the closest opposite-sign pairs first, each 
 });
 
 Deno.test("AnnihilationSearch breaks exact distance ties by the smaller ids", () => {
-  // Tie rule: common practice, no source (methods §1.6 asks for ties broken by vortex id).
+  // Tie rule: common practice, no source (docs/methods.md §1.6 asks for ties broken by vortex id).
   // + at the origin, − at ±0.05 (exactly equal distances); ids chosen so array order disagrees with id order.
   const r = search([[0.05, 0, -1, 7], [0, 0, 1, 5], [-0.05, 0, -1, 6]], 0.1, { kind: "unbounded" });
   assert.deepEqual(r.pairs, [[5, 6]]);
@@ -65,7 +65,7 @@ Deno.test("AnnihilationSearch finds pairs across far-apart cells and across a pe
 });
 
 Deno.test("AnnihilationSearch removes disk vortices closer to the wall than d_ann/2", () => {
-  // methods §1.6: R − |z| < d_ann/2 annihilates with the image.
+  // docs/methods.md §1.6: R − |z| < d_ann/2 annihilates with the image.
   const r = search([[0.96, 0, 1, 0], [0, 0.94, -1, 1], [0, 0, 1, 2]], 0.1, { kind: "disk", radius: 1 });
   assert.deepEqual(r.wall, [0]);
   assert.equal(r.removed, 1);

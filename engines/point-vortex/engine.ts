@@ -12,6 +12,8 @@
  */
 import type { Engine } from "../contract.ts";
 import { type PointVortexParams, pointVortexParamsSchema } from "./params.ts";
+import { POINT_VORTEX_STARTER } from "./starter.ts";
+import { squared } from "../units.ts";
 import { simulate } from "./simulate.ts";
 
 export const pointVortexEngine: Engine<PointVortexParams> = {
@@ -39,9 +41,10 @@ export const pointVortexEngine: Engine<PointVortexParams> = {
     units: { length: "ℓ (the study's length unit)", time: "ℓ²/κ", circulation: "κ" },
   },
   paramsSchema: pointVortexParamsSchema,
+  starter: POINT_VORTEX_STARTER,
   scales(params) {
     const l = params.lengthUnit;
-    return { units: { length: l, time: l.length === 1 ? `${l}²/κ` : `(${l})²/κ`, circulation: "κ" } };
+    return { units: { length: l, time: `${squared(l)}/κ`, circulation: "κ" } };
   },
   run(input, sink) {
     return simulate(input, sink);

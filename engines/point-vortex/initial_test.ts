@@ -10,7 +10,7 @@ const cloud = (initial: object, extra: object = {}): PointVortexParams =>
   pointVortexParamsSchema.parse({ initial: { kind: "random-cloud", ...initial }, ...extra });
 
 Deno.test("initialVortices gives N₊ = N(1 + p)/2 positive vortices in random order", () => {
-  // methods §3.2: N₊ = round(N(1 + p)/2), signs by a random permutation (Knuth TAOCP 2 §3.4.2).
+  // docs/methods.md §3.2: N₊ = round(N(1 + p)/2), signs by a random permutation (Knuth TAOCP 2 §3.4.2).
   for (const [count, polarity] of [[100, 0], [100, 0.5], [7, 1], [9, -1 / 3]]) {
     const s = initialVortices(cloud({ count, polarity, radius: 3 }), rng());
     const plus = Array.from(s.g).filter((g) => g === 1).length;

@@ -6,7 +6,7 @@
  * the max norm over both coordinates of every vortex (one close pair is not diluted by many quiet vortices),
  * err = max_i |e_i| / (atol + rtol·d_min), with d_min the minimum separation at the start of the step: for
  * point vortices the energy error of a close pair is ≈ (κ²/2π)·δd/d, so position errors must be small relative
- * to d_min, not to the distance from the origin (methods §1.2), and the norm is translation invariant. With
+ * to d_min, not to the distance from the origin (docs/methods.md §1.2), and the norm is translation invariant. With
  * fewer than two vortices (d_min = ∞) the usual scale atol + rtol·max(|y_i|, |ŷ_i|) is used. (Measured, N = 200
  * random ± cloud, t = 100, rtol 1e-10: H drift 1.5e-10 with this scale vs 2.4e-9 with the usual one, for 1.6×
  * the steps.) Step-size control is the

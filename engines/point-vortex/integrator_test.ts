@@ -30,7 +30,7 @@ Deno.test("DormandPrince converges at fifth order or better at fixed steps", () 
   // fixed step divides the global error by at least ≈ 2⁵. (DP5's fifth-order error constants are small, so the
   // observed order at moderate steps often lies above 5; a wrong tableau entry drops it to ≤ 4.) Generic
   // three-vortex motion, Γ = (1, 2, −1/2); reference: the same integrator at tolerance 1e-14 (convergence
-  // study, methods §7.1). Loose tolerances keep the controller out of the way.
+  // study, docs/methods.md §7.1). Loose tolerances keep the controller out of the way.
   const g3 = Float64Array.of(1, 2, -0.5);
   const rhs3 = (n: number, x: Float64Array, y: Float64Array, u: Float64Array, v: Float64Array) =>
     velocityUnbounded(n, x, y, g3, u, v);

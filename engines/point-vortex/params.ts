@@ -45,7 +45,7 @@ export const domainSchema = z.discriminatedUnion("kind", [
 
 const pointSchema = z.tuple([finite(), finite()]);
 
-/** A random ± cloud (methods §3.2). */
+/** A random ± cloud (docs/methods.md §3.2). */
 export const randomCloudSchema = z.object({
   kind: z.literal("random-cloud").describe(
     "Random vortices of both signs in a disk-shaped or Gaussian cloud.",
@@ -58,8 +58,9 @@ export const randomCloudSchema = z.object({
     "uniform-disk: uniform density inside `radius`; gaussian: isotropic normal with standard deviation `radius`.",
   ),
   radius: positive().describe("Cloud radius R_c (uniform-disk) or Gaussian σ, in length units ℓ."),
-  minSeparation: nonNegative().default(0).describe(
-    "Hard-core minimum distance between any two vortices, in length units ℓ (enforced by rejection; 0 = off).",
+  minSeparation: nonNegative().optional().describe(
+    "Hard-core minimum distance between any two vortices, in length units ℓ (enforced by rejection; 0 = off). " +
+      "Default: 2 × annihilationDistance (0 without annihilation), so that no pair annihilates at the first step.",
   ),
   centre: pointSchema.default([0, 0]).describe("Cloud centre [x, y], in length units ℓ."),
 }).strict();
@@ -111,6 +112,11 @@ export const integratorSchema = z.object({
 /** Largest packing fraction N·d²/(4R_c²) accepted for a uniform-disk cloud with a minimum separation. */
 export const MAX_PACKING_FRACTION = 0.5;
 
+/** `minSeparation` when a random cloud leaves it out: twice the annihilation distance (0 without annihilation). */
+export function defaultMinSeparation(annihilationDistance: number): number {
+  return 2 * annihilationDistance;
+}
+
 /** The `parameters` schema of the `point-vortex-2d` engine (output type: {@link PointVortexParams}). */
 export const pointVortexParamsSchema = z.object({
   lengthUnit: z.string().min(1).default("ℓ").describe(
@@ -133,6 +139,8 @@ export const pointVortexParamsSchema = z.object({
   const dom = p.domain;
   if (init.kind === "random-cloud") {
     const n = init.count;
+    const minSeparation = init.minSeparation ?? defaultMinSeparation(p.annihilationDistance);
+    const given = init.minSeparation === undefined ? " (the default, 2 × annihilationDistance)" : "";
     const nPlusExact = n * (1 + init.polarity) / 2;
     if (init.polarity === 0 && n % 2 !== 0) {
       ctx.addIssue({
@@ -182,25 +190,24 @@ export const pointVortexParamsSchema = z.object({
           "domain.neutralizingBackground: true to accept a uniform compensating background vorticity",
       });
     }
-    if (init.shape === "uniform-disk" && init.minSeparation > 0) {
-      const packing = n * init.minSeparation ** 2 / (4 * init.radius ** 2);
+    if (init.shape === "uniform-disk" && minSeparation > 0) {
+      const packing = n * minSeparation ** 2 / (4 * init.radius ** 2);
       if (packing > MAX_PACKING_FRACTION) {
         ctx.addIssue({
           code: "custom",
-          path: ["initial", "minSeparation"],
+          path: ["initial", init.minSeparation === undefined ? "radius" : "minSeparation"],
           message:
-            `minSeparation ${init.minSeparation} is too large for ${n} vortices in radius ${init.radius}: ` +
+            `minSeparation ${minSeparation}${given} is too large for ${n} vortices in radius ${init.radius}: ` +
             `packing fraction N·d²/(4R_c²) = ${packing.toPrecision(3)} exceeds ${MAX_PACKING_FRACTION} ` +
             "(random sequential placement jams near 0.55)",
         });
       }
     }
-    if (p.annihilationDistance > 0 && init.minSeparation < p.annihilationDistance) {
+    if (p.annihilationDistance > 0 && minSeparation < p.annihilationDistance) {
       ctx.addIssue({
         code: "custom",
         path: ["initial", "minSeparation"],
-        message:
-          `minSeparation ${init.minSeparation} is below annihilationDistance ${p.annihilationDistance}: ` +
+        message: `minSeparation ${minSeparation} is below annihilationDistance ${p.annihilationDistance}: ` +
           "opposite-sign pairs would annihilate at the first step (use minSeparation ≥ 2 × annihilationDistance)",
       });
     }
@@ -247,7 +254,12 @@ export const pointVortexParamsSchema = z.object({
       });
     }
   }
+}).transform((p) => {
+  const init = p.initial;
+  if (init.kind !== "random-cloud") return { ...p, initial: init };
+  const minSeparation = init.minSeparation ?? defaultMinSeparation(p.annihilationDistance);
+  return { ...p, initial: { ...init, minSeparation } };
 });
 
 /** Validated, defaults-filled parameters of the `point-vortex-2d` engine. */
-export type PointVortexParams = z.infer<typeof pointVortexParamsSchema>;
+export type PointVortexParams = z.output<typeof pointVortexParamsSchema>;

@@ -31,7 +31,7 @@ Deno.test("pointVortexParamsSchema fills documented defaults", () => {
 });
 
 Deno.test("pointVortexParamsSchema rejects an odd count with zero polarity at initial.count", () => {
-  // p = 0 means N₊ = N₋ = N/2 (methods §3.2), impossible for odd N.
+  // p = 0 means N₊ = N₋ = N/2 (docs/methods.md §3.2), impossible for odd N.
   hasIssue({ initial: cloud({ count: 63 }) }, "initial.count", "must be even");
 });
 
@@ -119,6 +119,21 @@ Deno.test("pointVortexParamsSchema rejects impossible packings and a minimum sep
     { initial: cloud({ minSeparation: 0.05 }), annihilationDistance: 0.1 },
     "initial.minSeparation",
     "annihilat",
+  );
+});
+
+Deno.test("pointVortexParamsSchema: a cloud without minSeparation keeps twice the annihilation distance", () => {
+  // A minimal cloud with annihilation must not contradict itself through a default (minSeparation ≥
+  // 2 d_ann keeps pairs from annihilating at once: common practice, no source).
+  const p = pointVortexParamsSchema.parse({ initial: cloud(), annihilationDistance: 0.1 });
+  assert.equal(p.initial.kind === "random-cloud" && p.initial.minSeparation, 0.2);
+  const q = pointVortexParamsSchema.parse({ initial: cloud() });
+  assert.equal(q.initial.kind === "random-cloud" && q.initial.minSeparation, 0);
+  // The default can still be too large for the cloud: the message says it is the default.
+  hasIssue(
+    { initial: cloud({ count: 1000, radius: 2 }), annihilationDistance: 0.1 },
+    "initial.radius",
+    "(the default, 2 × annihilationDistance) is too large",
   );
 });
 

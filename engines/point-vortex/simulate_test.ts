@@ -43,7 +43,7 @@ function angles(frames: SavedFrame[], i: number, cx = 0, cy = 0): number[] {
 const dist = (f: SavedFrame, a: number, b: number) => Math.hypot(f.x[a] - f.x[b], f.y[a] - f.y[b]);
 
 Deno.test("simulate translates a dipole at κ/(2πd) and keeps its separation", () => {
-  // Saffman, Vortex Dynamics (1992) §7.3; check-values §1.3: U d/Γ = 1/(2π) = 0.1591549431; methods §7.1
+  // Saffman, Vortex Dynamics (1992) §7.3; check-values §1.3: U d/Γ = 1/(2π) = 0.1591549431; docs/methods.md §7.1
   // tolerance: speed 1e-10, separation drift 1e-12 d.
   const d = 0.8, T = 20;
   const r = run(explicit([[-d / 2, 0, 1], [d / 2, 0, -1]]), { duration: T, sampleInterval: 2 });
@@ -54,7 +54,7 @@ Deno.test("simulate translates a dipole at κ/(2πd) and keeps its separation", 
 });
 
 Deno.test("simulate rotates a co-rotating pair at κ/(πd²) with phase error below 1e-8 per period", () => {
-  // check-values §1.3: Ω d²/Γ = 1/π; methods §7.1: phase error < 1e-8 rad per period (DP5).
+  // check-values §1.3: Ω d²/Γ = 1/π; docs/methods.md §7.1: phase error < 1e-8 rad per period (DP5).
   const d = 1, T = 2 * PI * PI * d * d; // period 2π²d²/Γ
   const r = run(explicit([[-d / 2, 0, 1], [d / 2, 0, 1]]), { duration: 3 * T, sampleInterval: T / 8 });
   const th = angles(r.frames, 1);
@@ -65,7 +65,7 @@ Deno.test("simulate rotates a co-rotating pair at κ/(πd²) with phase error be
 
 Deno.test("simulate rotates a Thomson 5-gon at (N − 1)κ/(4πR²)", () => {
   // check-values §1.3 (Thomson 1883; Aref et al., Adv. Appl. Mech. 39, 1 (2003)): Ω R²/Γ = (N − 1)/(4π);
-  // methods §7.1 tolerance 1e-10 (relative, on the angle travelled).
+  // docs/methods.md §7.1 tolerance 1e-10 (relative, on the angle travelled).
   const N = 5, R = 1.3, Om = (N - 1) / (4 * PI * R * R);
   const r = run(explicit(ngon(N, R)), { duration: 30, sampleInterval: 0.5 });
   const th = angles(r.frames, 0);
@@ -97,7 +97,7 @@ Deno.test("simulate keeps a perturbed 6-gon bounded and a perturbed 8-gon grows 
 });
 
 Deno.test("simulate precesses one vortex in a disk at κ/(2π(R² − r²)) and conserves H and I", () => {
-  // check-values §1.3 (Saffman 1992 §7.3): Ω = Γ/(2π(R² − r²)); methods §7.1 tolerance 1e-10.
+  // check-values §1.3 (Saffman 1992 §7.3): Ω = Γ/(2π(R² − r²)); docs/methods.md §7.1 tolerance 1e-10.
   const R = 1, r0 = 0.5, Om = 1 / (2 * PI * (R * R - r0 * r0));
   const res = run(explicit([[r0, 0, 1]], { domain: { kind: "disk", radius: R } }), {
     duration: 20,
@@ -115,7 +115,7 @@ Deno.test("simulate precesses one vortex in a disk at κ/(2π(R² − r²)) and 
     1e-14,
     "H of one vortex",
   );
-  // methods §7.1 bounds (rtol = 1e-10): H relative drift < 1e-8, I ≤ 10·rtol.
+  // docs/methods.md §7.1 bounds (rtol = 1e-10): H relative drift < 1e-8, I ≤ 10·rtol.
   assertBelow(res.summary.scalars["drift.hamiltonian"], 1e-8, "drift.hamiltonian");
   assertBelow(res.summary.scalars["drift.angular_impulse"], 10 * 1e-10, "drift.angular_impulse");
   assert.equal(res.summary.scalars["drift.impulse"], undefined, "P is not conserved in a disk");
@@ -124,7 +124,7 @@ Deno.test("simulate precesses one vortex in a disk at κ/(2π(R² − r²)) and 
 Deno.test("simulate follows the self-similar three-vortex collapse up to 0.99 t_c", () => {
   // check-values §1.3 (Aref, Phys. Fluids 22, 393 (1979); Kimura 1987 [MEM]): Γ = (2, 2, −1) at (−1, 0),
   // (1, 0), (1, √2): side ratios fixed (r13²/r12² = 3/2, r23²/r12² = 1/2), r12² = 4(1 − t/t_c), t_c = 3√2π.
-  // methods §7.1: ratios to 1e-8 up to 0.99 t_c.
+  // docs/methods.md §7.1: ratios to 1e-8 up to 0.99 t_c.
   const tc = 3 * Math.SQRT2 * PI;
   const r = run(explicit([[-1, 0, 2], [1, 0, 2], [1, Math.SQRT2, -1]]), {
     duration: 0.99 * tc,
@@ -147,7 +147,7 @@ function driftRun(duration: number) {
 }
 
 Deno.test("simulate conserves H, P and I for 200 random ± vortices (t = 5)", () => {
-  // check-values §1.2 (Kirchhoff; Aref 1983): H, Q, P, I conserved. methods §7.1 tolerances: P to roundoff
+  // check-values §1.2 (Kirchhoff; Aref 1983): H, Q, P, I conserved. docs/methods.md §7.1 tolerances: P to roundoff
   // (~1e-13·N), I ≤ 10·rtol, H relative drift < 1e-8 (rtol = 1e-10).
   const s = driftRun(5).summary.scalars;
   console.log(
@@ -164,7 +164,7 @@ Deno.test({
   name: "simulate conserves H, P and I for 200 random ± vortices over 10³ time units (SPINDRIFT_LONG)",
   ignore: LONG,
   fn() {
-    // Same sources and tolerances as the short run (methods §7.1: N = 200, 10³ time units).
+    // Same sources and tolerances as the short run (docs/methods.md §7.1: N = 200, 10³ time units).
     const s = driftRun(1000).summary.scalars;
     console.log(
       `N = 200, t = 1000: drift H ${s["drift.hamiltonian"]}, P ${s["drift.impulse"]}, I ${
@@ -273,7 +273,7 @@ Deno.test("simulate with friction spirals a disk vortex outward along R² ln(r/r
 
 Deno.test("simulate annihilates a shrinking dipole when d < d_ann and reports the event", () => {
   // check-values §2: d² = d₀² − 2αt/π, so d reaches d_ann at t* = π(d₀² − d_ann²)/(2α). The event fires at the
-  // end of the first step past t*; the step cap (0.2 d_min²/κ, methods §1.2) bounds the delay.
+  // end of the first step past t*; the step cap (0.2 d_min²/κ, docs/methods.md §1.2) bounds the delay.
   const alpha = 0.2, d0 = 1, dAnn = 0.2;
   const r = run(
     explicit([[-d0 / 2, 0, 1], [d0 / 2, 0, -1]], { friction: { alpha }, annihilationDistance: dAnn }),
@@ -293,7 +293,7 @@ Deno.test("simulate annihilates a shrinking dipole when d < d_ann and reports th
 });
 
 Deno.test("simulate annihilates each vortex at most once and independently of list order", () => {
-  // Greedy pairing by distance, each vortex once (methods §1.6). One + vortex between two − vortices within
+  // Greedy pairing by distance, each vortex once (docs/methods.md §1.6). One + vortex between two − vortices within
   // d_ann: exactly one pair goes, and it is the same physical pair whatever the list order (the exact-tie rule
   // by id is tested in annihilation_test.ts).
   const cfg: [number, number, number][] = [[0, 0, 1], [0.05, 0, -1], [-0.05, 0, -1], [5, 5, 1]];
@@ -311,7 +311,7 @@ Deno.test("simulate annihilates each vortex at most once and independently of li
 
 Deno.test("simulate annihilates a vortex at the disk wall when R − r < d_ann/2", () => {
   // check-values §2: the vortex spirals out as R² ln(r/r₀) − (r² − r₀²)/2 = αt/(2π); it reaches
-  // r* = R − d_ann/2 at t* from that relation (methods §1.6 wall rule).
+  // r* = R − d_ann/2 at t* from that relation (docs/methods.md §1.6 wall rule).
   const alpha = 0.2, R = 1, r0 = 0.5, dAnn = 0.1;
   const res = run(
     explicit([[r0, 0, 1]], {
@@ -371,7 +371,7 @@ Deno.test("simulate reports initial scalars of a random cloud", () => {
   });
   const s = r.summary.scalars;
   assert.equal(s.initial_count, 20);
-  assertRel(s.initial_density, 20 / (PI * 4), 1e-15, "N/(πR_c²)"); // methods §3.2
+  assertRel(s.initial_density, 20 / (PI * 4), 1e-15, "N/(πR_c²)"); // docs/methods.md §3.2
   assert.ok(s.min_separation_initial >= 0.3, `min separation ${s.min_separation_initial}`);
   assert.ok(s.steps > 0 && s.rhs_evaluations >= 6 * s.steps);
 });

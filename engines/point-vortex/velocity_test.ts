@@ -104,7 +104,7 @@ Deno.test("velocityDisk precesses a single vortex at κ/(2π(R² − r²))", () 
 });
 
 Deno.test("velocityDisk equals the free-space sum over vortices and their images R²/z̄ with −Γ", () => {
-  // Method of images / circle theorem: Milne-Thomson, Theoretical Hydrodynamics §6.21; methods §1.4.
+  // Method of images / circle theorem: Milne-Thomson, Theoretical Hydrodynamics §6.21; docs/methods.md §1.4.
   const n = 30, R = 3;
   const { x, y, g } = randomConfig(n, 2, 2.5);
   const u = new Float64Array(n), v = new Float64Array(n);

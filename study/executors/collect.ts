@@ -74,7 +74,7 @@ export async function collectStudy(study: NormalizedStudy, opts: CollectOptions)
   } catch {
     throw new ExecutorError(
       `there is no cluster results folder ${opts.resultsDir}`,
-      "submit the study first (spindrift run STUDY.yaml --executor slurm), or give the folder with --results",
+      "submit the study first (spindrift run STUDY.yaml --cluster), or give the folder with --results",
     );
   }
   const { manifests, problems } = listSubmissions(opts.resultsDir);

@@ -2,7 +2,7 @@
  * The cluster commands as the command line runs them: flags in, text lines out (through `write`), an exit code
  * back. `cli/main.ts` only parses arguments and calls these.
  *
- * - `clusterRunCommand`: `spindrift run STUDY --executor slurm [--dry-run] [--wait]`
+ * - `clusterRunCommand`: `spindrift run STUDY --cluster [--dry-run] [--wait]`
  * - `collectCommand`: `spindrift collect STUDY`
  * - `runSliceCommand`: `spindrift run-slice MANIFEST --slice K --shard FILE` (what an array task runs)
  * - `clusterStatusLines`: the cluster part of `spindrift status DB`
@@ -18,7 +18,7 @@ import type { NormalizedStudy } from "../normalize.ts";
 import type { Provenance } from "../runner.ts";
 import type { PointProgress } from "./cluster_progress.ts";
 import type { MissingReport } from "./cluster_progress.ts";
-import { clusterStatus } from "./cluster_status.ts";
+import { type ClusterStatus, clusterStatus } from "./cluster_status.ts";
 import { collectStudy } from "./collect.ts";
 import { ExecutorError } from "./errors.ts";
 import { runSliceTask } from "./shard.ts";
@@ -45,7 +45,7 @@ export interface CommandEnv {
   readonly signal?: AbortSignal;
 }
 
-/** Flags of `run --executor slurm`. */
+/** Flags of `run --cluster`. */
 export interface ClusterRunFlags extends ClusterSettings {
   readonly dbPath: string;
   readonly results?: string;
@@ -75,7 +75,7 @@ function describeResources(r: ClusterResources): string {
   return parts.join(", ");
 }
 
-/** `spindrift run STUDY --executor slurm`; returns the exit code. */
+/** `spindrift run STUDY --cluster`; returns the exit code. */
 export async function clusterRunCommand(
   study: NormalizedStudy,
   flags: ClusterRunFlags,
@@ -215,7 +215,7 @@ function missingLines(m: MissingReport, study: string): string[] {
   }
   if (m.lostTasks.length > 5) lines.push(`  … and ${m.lostTasks.length - 5} more tasks`);
   if (lost + m.neverSubmitted + m.queueUnknown > 0) {
-    lines.push(`submit them with: spindrift run ${study} --executor slurm`);
+    lines.push(`submit them with: spindrift run ${study} --cluster`);
   }
   return lines;
 }
@@ -311,6 +311,11 @@ export async function clusterStatusLines(
   }
   const s = await clusterStatus(db, { resultsDir, batch });
   if (!s) return null;
+  return clusterStatusText(s, resultsDir);
+}
+
+/** The text of `spindrift status` for a study with a cluster results folder. */
+export function clusterStatusText(s: ClusterStatus, resultsDir: string): string[] {
   const lines = [`study ${s.name} (last run ${s.lastRunAt ?? "never"})`, ...progressTable(s.points, true)];
   lines.push(`cluster results folder ${resultsDir}: ${plural(s.shards, "shard")}`);
   for (const j of s.jobs) {
@@ -343,7 +348,10 @@ export async function clusterStatusLines(
 
 /** Options of `spindrift run` that choose or configure the executor. */
 export interface ExecutorOptions {
-  readonly executor: string;
+  /** `--cluster`: submit a Slurm job array instead of running on this machine. */
+  readonly cluster?: boolean;
+  /** The old spelling `--executor local|slurm`, accepted for one release with a deprecation message. */
+  readonly executor?: string;
   readonly workers?: number;
   readonly fresh?: boolean;
   readonly results?: string;
@@ -374,30 +382,64 @@ const CLUSTER_ONLY: readonly [keyof ExecutorOptions, string][] = [
 ];
 
 /**
- * The chosen executor, after refusing options that do not apply to it.
+ * What the deprecated `--executor <where>` means today, with the message to show: `slurm` is `--cluster`,
+ * `local` is the default (no flag).
+ * @throws ExecutorError for any other value.
+ */
+export function deprecatedExecutor(where: string): { readonly cluster: boolean; readonly message: string } {
+  const gone = "--executor is deprecated and will be removed in the next release";
+  if (where === "slurm") {
+    return { cluster: true, message: `${gone}: write --cluster instead of --executor slurm` };
+  }
+  if (where === "local") {
+    return {
+      cluster: false,
+      message: `${gone}: leave out --executor local (running on this machine is the default)`,
+    };
+  }
+  throw new ExecutorError(
+    `--executor ${where} is not known (--executor is deprecated)`,
+    "run on this machine without a flag, or submit to the cluster with --cluster",
+  );
+}
+
+/**
+ * Where to run (this machine or a Slurm job array), after refusing options that do not apply there. The old
+ * spelling `--executor local|slurm` is accepted; its deprecation message goes to `warn`.
  * @throws ExecutorError naming the option and what to use instead.
  */
-export function checkExecutorOptions(o: ExecutorOptions): "local" | "slurm" {
-  if (o.executor === "slurm") {
+export function checkExecutorOptions(
+  o: ExecutorOptions,
+  warn: (line: string) => void = () => {},
+): "local" | "slurm" {
+  let cluster = o.cluster === true;
+  if (o.executor !== undefined) {
+    const old = deprecatedExecutor(o.executor);
+    warn(old.message);
+    if (o.cluster && !old.cluster) {
+      throw new ExecutorError("--cluster and --executor local contradict each other", "leave out --executor");
+    }
+    cluster ||= old.cluster;
+  }
+  if (cluster) {
     if (o.workers !== undefined) {
       throw new ExecutorError(
-        "--workers does not apply to --executor slurm",
+        "--workers does not apply to --cluster",
         "each array task runs --cpus-per-task realisations at once; the number of tasks runs in parallel",
       );
     }
     if (o.fresh) {
       throw new ExecutorError(
-        "--fresh does not apply to --executor slurm (the shards of earlier submissions would be collected again)",
+        "--fresh does not apply to --cluster (the shards of earlier submissions would be collected again)",
         "to start over, delete the database and its results folder, then submit again",
       );
     }
     return "slurm";
   }
-  if (o.executor !== "local") throw new ExecutorError(`unknown executor '${o.executor}': use local or slurm`);
   for (const [key, flag] of CLUSTER_ONLY) {
     const v = o[key];
     if (v !== undefined && v !== false && !(Array.isArray(v) && v.length === 0)) {
-      throw new ExecutorError(`${flag} only applies with --executor slurm`);
+      throw new ExecutorError(`${flag} only applies with --cluster`);
     }
   }
   return "local";

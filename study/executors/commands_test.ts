@@ -7,29 +7,46 @@ import { runSliceTask } from "./shard.ts";
 import { ExecutorError } from "./errors.ts";
 import { FakeBatch, studyInTempDir, TEST_PROVENANCE } from "./_testing.ts";
 
-Deno.test("checkExecutorOptions: options of the other executor are refused by name", () => {
-  assertEquals(checkExecutorOptions({ executor: "local" }), "local");
-  assertEquals(checkExecutorOptions({ executor: "local", sbatchLine: [], dryRun: false }), "local");
-  assertEquals(checkExecutorOptions({ executor: "slurm", partition: "p" }), "slurm");
+Deno.test("checkExecutorOptions: options of the other place to run are refused by name", () => {
+  assertEquals(checkExecutorOptions({}), "local");
+  assertEquals(checkExecutorOptions({ cluster: false, sbatchLine: [], dryRun: false }), "local");
+  assertEquals(checkExecutorOptions({ cluster: true, partition: "p" }), "slurm");
   assertThrows(
-    () => checkExecutorOptions({ executor: "local", partition: "p" }),
+    () => checkExecutorOptions({ partition: "p" }),
     ExecutorError,
-    "--partition only",
+    "--partition only applies with --cluster",
   );
+  assertThrows(() => checkExecutorOptions({ sbatchLine: ["--qos=x"] }), ExecutorError, "--sbatch-line");
   assertThrows(
-    () => checkExecutorOptions({ executor: "local", sbatchLine: ["--qos=x"] }),
-    ExecutorError,
-    "--sbatch-line",
-  );
-  assertThrows(
-    () => checkExecutorOptions({ executor: "slurm", workers: 2 }),
+    () => checkExecutorOptions({ cluster: true, workers: 2 }),
     ExecutorError,
     "--workers does not",
   );
+  assertThrows(() => checkExecutorOptions({ cluster: true, fresh: true }), ExecutorError, "--fresh does not");
+});
+
+Deno.test("checkExecutorOptions: the old spelling --executor local|slurm still works, with a deprecation message", () => {
+  const said: string[] = [];
+  const warn = (l: string) => said.push(l);
+  assertEquals(checkExecutorOptions({ executor: "slurm", partition: "p" }, warn), "slurm");
+  assertEquals(checkExecutorOptions({ executor: "local" }, warn), "local");
+  assertEquals(checkExecutorOptions({ executor: "slurm", cluster: true }, warn), "slurm");
+  assertEquals(said, [
+    "--executor is deprecated and will be removed in the next release: write --cluster instead of --executor slurm",
+    "--executor is deprecated and will be removed in the next release: leave out --executor local (running on " +
+    "this machine is the default)",
+    "--executor is deprecated and will be removed in the next release: write --cluster instead of --executor slurm",
+  ]);
+  assertThrows(() => checkExecutorOptions({ executor: "pbs" }), ExecutorError, "--executor pbs is not known");
   assertThrows(
-    () => checkExecutorOptions({ executor: "slurm", fresh: true }),
+    () => checkExecutorOptions({ executor: "local", cluster: true }),
     ExecutorError,
-    "--fresh does not",
+    "contradict each other",
+  );
+  assertThrows(
+    () => checkExecutorOptions({ executor: "local", memory: "4G" }),
+    ExecutorError,
+    "with --cluster",
   );
 });
 
@@ -125,7 +142,7 @@ Deno.test("collectCommand: without a results folder the message says how to subm
     error = e;
   }
   assert(error instanceof ExecutorError && error.message.includes("there is no cluster results folder"));
-  assert(error.hint?.includes("--executor slurm"));
+  assert(error.hint?.includes("--cluster"));
 });
 
 Deno.test("clusterRunCommand --wait: polls until the job has left the queue, then collects", async () => {

@@ -3,7 +3,7 @@
  * back. The public door of `study/executors/`.
  *
  * ```
- *  spindrift run STUDY --executor slurm          submit.ts: plan → still to compute → slices → manifest + script
+ *  spindrift run STUDY --cluster                 submit.ts: plan → still to compute → slices → manifest + script
  *        │ sbatch --array                                   → sbatch (slurm.ts)
  *        ▼
  *  array task k: spindrift run-slice MANIFEST    shard.ts: frozen study → slice k → executeRealisation → shard DB
@@ -50,11 +50,13 @@ export {
   readRealisationRefs,
   readShardRefs,
 } from "./cluster_progress.ts";
+export { type ClusterStatus, clusterStatus, type JobSummary } from "./cluster_status.ts";
 export {
   checkExecutorOptions,
   clusterRunCommand,
   type ClusterRunFlags,
   clusterStatusLines,
+  clusterStatusText,
   collectCommand,
   type CommandEnv,
   type ExecutorOptions,

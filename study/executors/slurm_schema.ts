@@ -58,7 +58,7 @@ export const clusterSchema = z.strictObject({
     "At most this many array tasks run at the same time (a count, dimensionless; sbatch --array throttle; default: no limit).",
   ),
 }).describe(
-  "Resources of `spindrift run --executor slurm` (never part of a hash: results do not depend on them).",
+  "Resources of `spindrift run --cluster` (never part of a hash: results do not depend on them).",
 );
 
 /** The `run.cluster` section as written (fields optional). */

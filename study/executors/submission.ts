@@ -229,7 +229,7 @@ export function loadSubmittedStudy(resultsDir: string, manifest: SubmissionManif
   if (sha256Hex(text) !== manifest.studyTextSha256) {
     throw new ExecutorError(
       `the submitted study copy ${copy} was changed after submission`,
-      "submit the study again: spindrift run STUDY.yaml --executor slurm",
+      "submit the study again: spindrift run STUDY.yaml --cluster",
     );
   }
   const loaded = parseStudyText(text, copy);

@@ -1,5 +1,5 @@
 /**
- * `spindrift run --executor slurm`: plans the study, keeps only the realisations still to compute, cuts them
+ * `spindrift run --cluster`: plans the study, keeps only the realisations still to compute, cuts them
  * into slices, writes the submission (frozen study copy, manifest, sbatch script) into the results folder and
  * submits one job array. Returns at once with the job id; `collect` folds the shards in later.
  *

@@ -55,7 +55,7 @@ Deno.test("make_walkers: the committed files are exactly the seeded generator's 
     );
     bytes += new TextEncoder().encode(committed).length;
   }
-  // Small enough for the repository, large enough for ≥ 20 realisations (methods §5.1) of the example study.
+  // Small enough for the repository, large enough for ≥ 20 realisations (docs/methods.md §5.1) of the example study.
   assert(bytes < 2_000_000, `the walkers data set is ${bytes} bytes`);
 });
 

@@ -1,6 +1,6 @@
 #!/bin/sh
 # Starts a single-node Slurm cluster on 127.0.0.1: for the cluster end-to-end test and for trying
-# `spindrift run --executor slurm` on a workstation. Not for production clusters (they have their own set-up).
+# `spindrift run --cluster` on a workstation. Not for production clusters (they have their own set-up).
 #
 #   tools/slurm/start.sh               install slurm-wlm + munge from Debian if needed, then start the daemons
 #   tools/slurm/start.sh --no-install  only start what is installed (fails when Slurm is not installed)

@@ -1,0 +1,73 @@
+/**
+ * The unit convention of `EngineCapabilities.units` and `Engine.scales().units`, read back: a time unit written
+ * as a length squared over κ (`ℓ²/κ`, `µm²/κ`, `(patch radius)²/κ`) means the study measures circulation in κ
+ * (κ = 1), so a diffusion coefficient comes out directly as D/κ; any other time unit (`s`, `ms`) means physical
+ * units, and D comes out in length²/time (m²/s). Reports, `analyse` and `check` label D with it.
+ *
+ * @example
+ * ```ts
+ * diffusionUnit({ length: "ℓ", time: "ℓ²/κ" }); // { symbol: "D/κ", unit: null, header: "D/κ" }
+ * diffusionUnit({ length: "m", time: "s" }); // { symbol: "D", unit: "m²/s", header: "D (m²/s)" }
+ * ```
+ */
+
+/** κ of ⁴He in m²/s: h/m₄ from CODATA 2018 h and the ⁴He atomic mass (for unit conversions in messages). */
+export const KAPPA_HELIUM4_SI = 9.9693e-8;
+
+/** Units as engines declare them. */
+export interface UnitLabels {
+  readonly length: string;
+  readonly time: string;
+  readonly circulation?: string;
+}
+
+/** True when `time` is a length squared over κ: the study's circulation unit is κ. */
+export function timeInKappaUnits(time: string): boolean {
+  return /²\s*\/\s*κ\s*$/.test(time.trim());
+}
+
+/** A unit raised to the power two, parenthesised when it is more than one symbol: `m²`, `(2.5 µm)²`. */
+export function squared(unit: string): string {
+  return /^[^\s()]+$/.test(unit) ? `${unit}²` : `(${unit})²`;
+}
+
+/** How a diffusion coefficient of a study with these units is labelled (D/κ when units are unknown). */
+export function diffusionUnit(
+  units: UnitLabels | undefined,
+): { readonly symbol: "D/κ" | "D"; readonly unit: string | null; readonly header: string } {
+  if (units === undefined || timeInKappaUnits(units.time)) {
+    return { symbol: "D/κ", unit: null, header: "D/κ" };
+  }
+  const time = /^[^\s()]+$/.test(units.time) ? units.time : `(${units.time})`;
+  const unit = `${squared(units.length)}/${time}`;
+  return { symbol: "D", unit, header: `D (${unit})` };
+}
+
+/**
+ * Heading of one D estimate: "D/κ (MSD)" in κ units, "D (MSD, m²/s)" in physical units.
+ *
+ * @example
+ * ```ts
+ * diffusionHeading({ length: "m", time: "s" }, "D_R", "R_rms"); // "D_R (R_rms, m²/s)"
+ * ```
+ */
+export function diffusionHeading(units: UnitLabels | undefined, symbol: string, how: string): string {
+  const unit = diffusionUnit(units).unit;
+  return unit === null ? `${symbol}/κ (${how})` : `${symbol} (${how}, ${unit})`;
+}
+
+/** Metres in one `length` when it is a plain metric length (`µm`, `2.5 um`, `nm`), else undefined. */
+export function metresIn(length: string): number | undefined {
+  const m = /^\s*(\d+(?:\.\d+)?(?:e[+-]?\d+)?)?\s*(m|cm|mm|µm|μm|um|nm)\s*$/.exec(length);
+  if (!m) return undefined;
+  const scale: Record<string, number> = {
+    m: 1,
+    cm: 1e-2,
+    mm: 1e-3,
+    "µm": 1e-6,
+    "μm": 1e-6,
+    um: 1e-6,
+    nm: 1e-9,
+  };
+  return (m[1] === undefined ? 1 : Number(m[1])) * scale[m[2]];
+}
