@@ -16,6 +16,7 @@
  * ```
  */
 import { z } from "zod";
+import { checkCloud, cloudReach, randomCloudSchema as randomCloudSchemaFor } from "../_cloud.ts";
 
 const finite = () => z.number().refine(Number.isFinite, { message: "must be a finite number" });
 const positive = () => z.number().positive().refine(Number.isFinite, { message: "must be a finite number" });
@@ -46,23 +47,7 @@ export const domainSchema = z.discriminatedUnion("kind", [
 const pointSchema = z.tuple([finite(), finite()]);
 
 /** A random ± cloud (methods §3.2). */
-export const randomCloudSchema = z.object({
-  kind: z.literal("random-cloud").describe(
-    "Random vortices of both signs in a disk-shaped or Gaussian cloud.",
-  ),
-  count: z.number().int().min(1).describe("Number of vortices N (dimensionless)."),
-  polarity: z.number().min(-1).max(1).default(0).describe(
-    "Net polarity p = (N₊ − N₋)/N, in [−1, 1] (dimensionless). N₊ = N(1 + p)/2 must be an integer.",
-  ),
-  shape: z.enum(["uniform-disk", "gaussian"]).default("uniform-disk").describe(
-    "uniform-disk: uniform density inside `radius`; gaussian: isotropic normal with standard deviation `radius`.",
-  ),
-  radius: positive().describe("Cloud radius R_c (uniform-disk) or Gaussian σ, in length units ℓ."),
-  minSeparation: nonNegative().default(0).describe(
-    "Hard-core minimum distance between any two vortices, in length units ℓ (enforced by rejection; 0 = off).",
-  ),
-  centre: pointSchema.default([0, 0]).describe("Cloud centre [x, y], in length units ℓ."),
-}).strict();
+export const randomCloudSchema = randomCloudSchemaFor("length units ℓ");
 
 /** One vortex given explicitly. */
 export const explicitVortexSchema = z.object({
@@ -108,8 +93,7 @@ export const integratorSchema = z.object({
     "relative to the current minimum vortex separation.",
 );
 
-/** Largest packing fraction N·d²/(4R_c²) accepted for a uniform-disk cloud with a minimum separation. */
-export const MAX_PACKING_FRACTION = 0.5;
+export { MAX_PACKING_FRACTION } from "../_cloud.ts";
 
 /** The `parameters` schema of the `point-vortex-2d` engine (output type: {@link PointVortexParams}). */
 export const pointVortexParamsSchema = z.object({
@@ -132,28 +116,9 @@ export const pointVortexParamsSchema = z.object({
   const init = p.initial;
   const dom = p.domain;
   if (init.kind === "random-cloud") {
-    const n = init.count;
-    const nPlusExact = n * (1 + init.polarity) / 2;
-    if (init.polarity === 0 && n % 2 !== 0) {
-      ctx.addIssue({
-        code: "custom",
-        path: ["initial", "count"],
-        message:
-          `count ${n} is odd: with polarity 0 the cloud has N/2 vortices of each sign, so N must be even`,
-      });
-    } else if (Math.abs(nPlusExact - Math.round(nPlusExact)) > 1e-9) {
-      const allowed = Array.from({ length: Math.min(n, 8) + 1 }, (_, k) => `${(2 * k - n) / n}`).join(", ");
-      ctx.addIssue({
-        code: "custom",
-        path: ["initial", "polarity"],
-        message:
-          `polarity ${init.polarity} with count ${n} gives N₊ = N(1+p)/2 = ${nPlusExact}, not an integer; ` +
-          `allowed values are p = (2N₊ − N)/N for integer N₊ in 0..N (e.g. ${allowed}${n > 8 ? ", …" : ""})`,
-      });
-    }
+    checkCloud(init, ctx, ["initial"]);
     const [cx, cy] = init.centre;
-    const reach = init.shape === "uniform-disk" ? init.radius : 3 * init.radius;
-    const what = init.shape === "uniform-disk" ? "radius" : "3σ (3 × radius)";
+    const { reach, what } = cloudReach(init);
     if (dom.kind === "disk") {
       const extent = Math.hypot(cx, cy) + reach;
       if (extent >= dom.radius) {
@@ -181,19 +146,6 @@ export const pointVortexParamsSchema = z.object({
         message: "a periodic box needs zero total circulation (polarity 0), or set " +
           "domain.neutralizingBackground: true to accept a uniform compensating background vorticity",
       });
-    }
-    if (init.shape === "uniform-disk" && init.minSeparation > 0) {
-      const packing = n * init.minSeparation ** 2 / (4 * init.radius ** 2);
-      if (packing > MAX_PACKING_FRACTION) {
-        ctx.addIssue({
-          code: "custom",
-          path: ["initial", "minSeparation"],
-          message:
-            `minSeparation ${init.minSeparation} is too large for ${n} vortices in radius ${init.radius}: ` +
-            `packing fraction N·d²/(4R_c²) = ${packing.toPrecision(3)} exceeds ${MAX_PACKING_FRACTION} ` +
-            "(random sequential placement jams near 0.55)",
-        });
-      }
     }
     if (p.annihilationDistance > 0 && init.minSeparation < p.annihilationDistance) {
       ctx.addIssue({
