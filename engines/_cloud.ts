@@ -187,3 +187,19 @@ export function sampleCloud(c: RandomCloud, region: CloudRegion, rng: RandomStre
   const density = uniform ? n / (Math.PI * c.radius ** 2) : n / (2 * Math.PI * c.radius ** 2);
   return { n, x, y, g, id, density };
 }
+
+/** Smallest pair distance of n points (minimum image when side > 0); Infinity for n < 2. */
+export function minimumSeparation(n: number, x: Float64Array, y: Float64Array, side: number): number {
+  let m = Infinity;
+  for (let i = 0; i < n; i++) {
+    for (let j = i + 1; j < n; j++) {
+      let dx = x[i] - x[j], dy = y[i] - y[j];
+      if (side > 0) {
+        dx -= side * Math.round(dx / side);
+        dy -= side * Math.round(dy / side);
+      }
+      m = Math.min(m, dx * dx + dy * dy);
+    }
+  }
+  return Math.sqrt(m);
+}

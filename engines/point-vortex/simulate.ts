@@ -38,6 +38,7 @@
  * summary.scalars.steps;
  * ```
  */
+import { minimumSeparation } from "../_cloud.ts";
 import { EngineFailure, type EngineRunInput, type EngineRunSummary, type FrameSink } from "../contract.ts";
 import { AnnihilationSearch } from "./annihilation.ts";
 import { applyFriction } from "./friction.ts";
@@ -339,22 +340,6 @@ function maxAbs(n: number, g: Float64Array): number {
 
 function nonZero(s: number): number {
   return s > 0 && Number.isFinite(s) ? s : 1;
-}
-
-/** Smallest pair distance (minimum image when side > 0); Infinity for n < 2. */
-function minimumSeparation(n: number, x: Float64Array, y: Float64Array, side: number): number {
-  let m = Infinity;
-  for (let i = 0; i < n; i++) {
-    for (let j = i + 1; j < n; j++) {
-      let dx = x[i] - x[j], dy = y[i] - y[j];
-      if (side > 0) {
-        dx -= side * Math.round(dx / side);
-        dy -= side * Math.round(dy / side);
-      }
-      m = Math.min(m, dx * dx + dy * dy);
-    }
-  }
-  return Math.sqrt(m);
 }
 
 function checkControls(c: EngineRunInput<PointVortexParams>["controls"]): void {
