@@ -14,7 +14,8 @@
  *  - Square box of side S: the images of a vortex in four walls form a neutral lattice of period 2S (the vortex,
  *    its mirror images −s across x = S/2 and y = S/2, and +s across both); Φ is the periodic pattern of that
  *    lattice, so the flow through every wall vanishes by symmetry.
- * Output: cos Φ and sin Φ per grid point (products of unit complex factors, so no phase unwrapping is needed).
+ * Output: cos Φ and sin Φ per grid point (products of unit complex factors, so no phase unwrapping is needed);
+ * (0, 0) at a grid point that coincides with a vortex, where the phase is undefined (the amplitude vanishes).
  *
  * References: L.M. Milne-Thomson, Theoretical Hydrodynamics, 5th ed. (Macmillan 1968) §6.21 (circle theorem),
  * §13.71 (images); E.T. Whittaker, G.N. Watson, A Course of Modern Analysis, 4th ed. (CUP 1927) ch. 21 (theta
@@ -60,8 +61,7 @@ export function diskPhase(
       for (let ix = 0; ix < n; ix++) {
         const dx = grid.coordinate(ix) - x;
         const m = Math.hypot(dx, dy);
-        if (m === 0) continue;
-        multiplyUnit(cos, sin, jy * n + ix, dx / m, dy / m);
+        multiplyUnit(cos, sin, jy * n + ix, m === 0 ? 0 : dx / m, m === 0 ? 0 : dy / m);
       }
     }
   }
@@ -121,8 +121,7 @@ export function periodicPhase(
           q2 *= Q * Q;
         }
         const m = Math.hypot(pr, pi);
-        if (m === 0 || !Number.isFinite(m)) continue;
-        multiplyUnit(cos, sin, jy * n + ix, pr / m, s * pi / m);
+        multiplyUnit(cos, sin, jy * n + ix, m === 0 ? 0 : pr / m, m === 0 ? 0 : s * pi / m);
       }
     }
     normalise(cos, sin);
@@ -167,10 +166,11 @@ function multiplyUnit(cos: Float64Array, sin: Float64Array, p: number, c: number
   sin[p] = a * s + b * c;
 }
 
-/** Rescales every (cos, sin) pair to unit length (the products drift from 1 by round-off). */
+/** Rescales every nonzero (cos, sin) pair to unit length (the products drift from 1 by round-off). */
 function normalise(cos: Float64Array, sin: Float64Array): void {
   for (let p = 0; p < cos.length; p++) {
     const m = Math.hypot(cos[p], sin[p]);
+    if (m === 0) continue;
     cos[p] /= m;
     sin[p] /= m;
   }
