@@ -154,8 +154,9 @@ export const snapshotsSchema = z.object({
   stride: z.number().int().min(0).default(0).describe(
     "Also store every stride-th frame (dimensionless; 0 = first and last frame only).",
   ),
-  resolution: z.number().int().min(8).default(128).describe(
-    "Image pixels per side (dimensionless; a power of two ≤ grid.points; block averages of the grid).",
+  resolution: z.number().int().min(8).optional().describe(
+    "Image pixels per side (dimensionless; a power of two ≤ grid.points; block averages of the grid). " +
+      "Default: the smaller of 128 and grid.points.",
   ),
 }).strict().describe("Downsampled density and phase images stored with the realisation (for the report).");
 
@@ -187,7 +188,7 @@ export const gpParamsSchema = z.object({
   preparation: preparationSchema.default({ time: 0, damping: 0.05 }),
   detection: detectionSchema.default({ densityThreshold: 0.5 }),
   tracking: trackingSchema.default({ interval: 2 * Math.PI, maxDisplacement: 2, pairDistance: 4 }),
-  snapshots: snapshotsSchema.default({ realisations: 1, stride: 0, resolution: 128 }),
+  snapshots: snapshotsSchema.default({ realisations: 1, stride: 0 }),
 }).strict().superRefine((p, ctx) => {
   const n = p.grid.points;
   if (!(n >= 16 && n <= 1024 && (n & (n - 1)) === 0)) {
@@ -292,7 +293,7 @@ export const gpParamsSchema = z.object({
     }
   }
   const res = p.snapshots.resolution;
-  if (!((res & (res - 1)) === 0 && res <= n)) {
+  if (res !== undefined && !((res & (res - 1)) === 0 && res <= n)) {
     ctx.addIssue({
       code: "custom",
       path: ["snapshots", "resolution"],
@@ -304,4 +305,9 @@ export const gpParamsSchema = z.object({
 /** Validated, defaults-filled parameters of the `gross-pitaevskii-2d` engine. */
 export type GpParams = z.infer<typeof gpParamsSchema>;
 export type GpTrap = GpParams["trap"];
+/** Pixels per side of the stored field images. */
+export function snapshotResolution(p: GpParams): number {
+  return p.snapshots.resolution ?? Math.min(128, p.grid.points);
+}
+
 export type GpWall = Extract<GpTrap, { kind: "disk" }>["wall"];

@@ -26,7 +26,7 @@ import { DiagnosticsWorkspace, emptyDiagnostics } from "./diagnostics.ts";
 import { Fft2d } from "./fft2d.ts";
 import { Grid } from "./grid.ts";
 import { cachedGroundState, imprintAndRelax, initialVortices } from "./imprint.ts";
-import { type GpParams, STUDY_TIME_PER_GP_TIME } from "./params.ts";
+import { type GpParams, snapshotResolution, STUDY_TIME_PER_GP_TIME } from "./params.ts";
 import { Relaxer } from "./relax.ts";
 import { fieldSnapshot } from "./snapshot.ts";
 import { SplitStep } from "./splitstep.ts";
@@ -144,7 +144,9 @@ export function simulate(input: EngineRunInput<GpParams>, sink: FrameSink): Engi
       },
     });
     const stored = index === 0 || index === frames || (snaps.stride > 0 && index % snaps.stride === 0);
-    if (wantSnapshots && stored) sink.snapshot!(fieldSnapshot(grid, psi, snaps.resolution, index, t));
+    if (wantSnapshots && stored) {
+      sink.snapshot!(fieldSnapshot(grid, psi, snapshotResolution(params), index, t));
+    }
   };
 
   const initialCount = tracker.count;
