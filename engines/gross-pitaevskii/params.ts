@@ -98,9 +98,10 @@ export const gpExplicitSchema = z.object({
 }).strict();
 
 export const relaxationSchema = z.object({
-  constraint: z.enum(["norm", "chemical-potential"]).default("norm").describe(
-    "What the vortex-core relaxation holds fixed: the norm (atom number) of the ground state, so imprinting " +
-      "neither adds nor removes atoms, or the chemical potential μ = 1.",
+  constraint: z.enum(["norm", "chemical-potential"]).default("chemical-potential").describe(
+    "What the vortex-core relaxation holds fixed: the chemical potential μ = 1 (default: the bulk density, " +
+      "hence ξ and c, keep their unit values), or the norm (atom number) of the ground state, so imprinting " +
+      "neither adds nor removes atoms (the bulk density then rises by the cores' deficit; see scalar relaxed_mu).",
   ),
   coreTime: nonNegative().default(30).describe(
     "Imaginary time of the core relaxation with the imprinted phase pinned, in ξ²/κ (30 ξ²/κ ≈ 4.8 ξ/c).",
@@ -180,7 +181,7 @@ export const gpParamsSchema = z.object({
       "interval.",
   ),
   relaxation: relaxationSchema.default({
-    constraint: "norm",
+    constraint: "chemical-potential",
     coreTime: 30,
     tolerance: 1e-9,
     maxIterations: 20_000,
