@@ -79,7 +79,7 @@ function png(
 
 const SIZE = 300;
 
-function panel(img: StoredFieldImage, uri: string, markers: string, title: string): string {
+function panel(uri: string, markers: string, title: string): string {
   return `<figure class="field-panel"><div class="field-title">${escapeHtml(title)}</div>
 <svg width="${SIZE}" height="${SIZE}" viewBox="0 0 ${SIZE} ${SIZE}" role="img" aria-label="${
     escapeHtml(title)
@@ -138,7 +138,7 @@ export function buildFieldSnapshotSection(
         panel(density, png(density, (v) => viridis(max > 0 ? v / max : 0)), markers, `density, ${when}`),
       );
     }
-    if (phase) parts.push(panel(phase, png(phase, hue), markers, `phase, ${when}`));
+    if (phase) parts.push(panel(png(phase, hue), markers, `phase, ${when}`));
     return `<div class="field-row">${parts.join("\n")}</div>`;
   }).join("\n");
   const a = images[0];
