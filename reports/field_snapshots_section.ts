@@ -131,14 +131,17 @@ export function buildFieldSnapshotSection(
     const markers = vortexMarkers(db, first.realisationId, k, any);
     const when = `t = ${formatNumber(any.t)} (frame ${k})`;
     const parts: string[] = [];
+    let max = 0;
+    for (const v of density?.values ?? []) max = Math.max(max, v);
     if (density) {
-      let max = 0;
-      for (const v of density.values) max = Math.max(max, v);
-      parts.push(
-        panel(density, png(density, (v) => viridis(max > 0 ? v / max : 0)), markers, `density, ${when}`),
-      );
+      const title = `density, ${when}, max ${formatNumber(max)}`;
+      parts.push(panel(png(density, (v) => viridis(max > 0 ? v / max : 0)), markers, title));
     }
-    if (phase) parts.push(panel(png(phase, hue), markers, `phase, ${when}`));
+    if (phase) {
+      // Where the density is below 5 % of its maximum the phase is noise: drawn blank.
+      const low = density ? (p: number) => density.values[p] < 0.05 * max : undefined;
+      parts.push(panel(png(phase, hue, low), markers, `phase, ${when}`));
+    }
     return `<div class="field-row">${parts.join("\n")}</div>`;
   }).join("\n");
   const a = images[0];
@@ -152,8 +155,8 @@ ${
 ${extent} ${
     escapeHtml(lengthUnit)
   }). Density: viridis from 0 (dark) to the image's maximum (yellow). Phase: hue
-wheel over (−π, π], blank where the density is below 5 % of its maximum. Markers: the vortices detected in that frame, filled red for circulation +κ, open white for
-−κ.</p>
+wheel over (−π, π], blank where the density is below 5 % of its maximum. Markers: the vortices detected in
+that frame, filled red for circulation +κ, open white for −κ.</p>
 ${rows}
 </section>
 `;
