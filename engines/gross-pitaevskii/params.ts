@@ -139,6 +139,10 @@ export const trackingSchema = z.object({
   maxDisplacement: positive().default(2).describe(
     "Largest distance a vortex may move between two detections and keep its id, in ξ.",
   ),
+  grace: z.number().int().min(0).default(2).describe(
+    "Detections a vanished vortex waits to be found again (within maxDisplacement) and keep its id before its " +
+      "ending becomes an event (dimensionless; 0 = end at once).",
+  ),
   pairDistance: positive().default(4).describe(
     "A vanished vortex and a vanished antivortex whose last positions are closer than this annihilated " +
       "together (event 'annihilation'), in ξ; the same distance pairs appearing vortices ('pair-creation').",
@@ -188,7 +192,7 @@ export const gpParamsSchema = z.object({
   }),
   preparation: preparationSchema.default({ time: 0, damping: 0.05 }),
   detection: detectionSchema.default({ densityThreshold: 0.5 }),
-  tracking: trackingSchema.default({ interval: 2 * Math.PI, maxDisplacement: 2, pairDistance: 4 }),
+  tracking: trackingSchema.default({ interval: 2 * Math.PI, maxDisplacement: 2, grace: 2, pairDistance: 4 }),
   snapshots: snapshotsSchema.default({ realisations: 1, stride: 0 }),
 }).strict().superRefine((p, ctx) => {
   const n = p.grid.points;

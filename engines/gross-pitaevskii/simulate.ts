@@ -64,6 +64,7 @@ export function simulate(input: EngineRunInput<GpParams>, sink: FrameSink): Engi
   const tracker = new Tracker({
     maxDisplacement: params.tracking.maxDisplacement,
     pairDistance: params.tracking.pairDistance,
+    grace: params.tracking.grace,
     periodicSide: periodic ? grid.side : 0,
     nearBoundary: near === null ? () => false : (x, y) => {
       const i = Math.floor((x - grid.coordinate(0)) / grid.h),
@@ -164,6 +165,7 @@ export function simulate(input: EngineRunInput<GpParams>, sink: FrameSink): Engi
     }
     emit(k, k * dtSample);
   }
+  tracker.finish((e) => sink.event(e));
 
   const c = tracker.counts;
   const scalars: Record<string, number> = {

@@ -9,11 +9,14 @@
  * than any sum of allowed costs for the others, which are then dropped. Matched tracks keep their id and advance
  * their unwrapped position by the minimum-image displacement.
  *
- * Unmatched tracks end; unmatched detections start new tracks (ids from `nextId` up). Endings: a vortex and an
- * antivortex that end together with last positions closer than `pairDistance` annihilated (event
- * "annihilation", pairs taken greedily by increasing separation, ties by id); an ending within `maxDisplacement`
- * of the detection boundary (the wall region) is "wall-exit"; others "disappearance". Starts mirror them:
- * "pair-creation", "wall-entry", "appearance".
+ * Unmatched tracks end, but are held for `grace` detections: a leftover same-sign detection within
+ * maxDisplacement revives one with its id (zeros of a pair at the annihilation threshold, or of a vortex at the
+ * detection boundary, flicker). Unmatched detections start new tracks (ids from `nextId` up). Endings, emitted
+ * when the grace runs out with the time the track vanished: a vortex and an antivortex that ended together with
+ * last positions closer than `pairDistance` annihilated (event "annihilation", pairs taken greedily by
+ * increasing separation, ties by id); an ending within `maxDisplacement` of the detection boundary (the wall
+ * region) is "wall-exit"; others "disappearance". Starts mirror them: "pair-creation", "wall-entry",
+ * "appearance".
  *
  * References: H.W. Kuhn, Naval Res. Logist. Q. 2, 83 (1955), doi:10.1002/nav.3800020109; J. Munkres,
  * J. SIAM 5, 32 (1957), doi:10.1137/0105003; gated nearest-neighbour linking as in J.C. Crocker, D.G. Grier,
@@ -21,7 +24,7 @@
  */
 import munkres from "munkres";
 import type { EngineEvent } from "../contract.ts";
-import type { Detections } from "./detect.ts";
+import { Detections } from "./detect.ts";
 
 export interface TrackerOptions {
   /** Largest displacement between detections that keeps an id (ξ). */
@@ -32,6 +35,24 @@ export interface TrackerOptions {
   readonly periodicSide: number;
   /** True when (x, y) lies within `maxDisplacement` of the detection boundary (the wall region). */
   readonly nearBoundary: (x: number, y: number) => boolean;
+  /** Detections an ended track waits to be found again before its ending becomes an event (≥ 0). */
+  readonly grace: number;
+}
+
+/** A track that ended and may be found again. */
+interface Ghost {
+  readonly id: number;
+  readonly x: number;
+  readonly y: number;
+  readonly wx: number;
+  readonly wy: number;
+  readonly s: number;
+  /** Time of the first detection that missed it. */
+  readonly t: number;
+  age: number;
+  /** The opposite-sign track that ended with it within pairDistance, or null. */
+  partner: Ghost | null;
+  separation: number;
 }
 
 /** What one update found, for scalars. */
@@ -66,6 +87,7 @@ export class Tracker {
     annihilationSeparationSum: 0,
   };
   readonly #opts: TrackerOptions;
+  #ghosts: Ghost[] = [];
 
   constructor(opts: TrackerOptions) {
     this.#opts = opts;
@@ -104,7 +126,13 @@ export class Tracker {
     return found;
   }
 
-  /** Matches a new detection at time t to the tracks, emitting events; the tracks become the new set. */
+  /**
+   * Matches a new detection at time t to the tracks, emitting events; the tracks become the new set. Tracks
+   * that end are held as ghosts for `grace` more detections: a same-sign detection within maxDisplacement of a
+   * ghost revives it with its id (no events), so a pair whose zeros flicker near the annihilation threshold, or
+   * a vortex grazing the detection boundary, is not counted twice. A ghost that is not revived emits its ending
+   * event, with the time it vanished, when its grace runs out (or at `finish`).
+   */
   update(t: number, det: Detections, emit: (e: EngineEvent) => void): void {
     const o = this.#opts;
     const prevN = this.count;
@@ -115,56 +143,71 @@ export class Tracker {
       if (match[k] >= 0) taken[match[k]] = 1;
       else ended.push(k);
     }
-    const started: number[] = [];
-    for (let q = 0; q < det.count; q++) if (taken[q] === 0) started.push(q);
-
-    // Endings and starts: pairs first, then the wall, then the rest.
-    const side = o.periodicSide;
-    const sep = (ax: number, ay: number, bx: number, by: number) => {
-      let dx = ax - bx, dy = ay - by;
-      if (side > 0) {
-        dx -= side * Math.round(dx / side);
-        dy -= side * Math.round(dy / side);
+    // Leftover detections revive ghosts.
+    const revived = new Map<number, Ghost>();
+    const ghosts = this.#ghosts;
+    if (ghosts.length > 0) {
+      const left = new Detections();
+      const leftIndex: number[] = [];
+      for (let q = 0; q < det.count; q++) {
+        if (taken[q] === 0) {
+          left.push(det.x[q], det.y[q], det.s[q]);
+          leftIndex.push(q);
+        }
       }
-      return Math.hypot(dx, dy);
-    };
-    const endPairs = greedyPairs(
-      ended,
-      (a, b) => {
-        if (this.s[a] * this.s[b] >= 0) return Infinity;
-        return sep(this.wx[a], this.wy[a], this.wx[b], this.wy[b]);
-      },
-      o.pairDistance,
-      (k) => this.id[k],
-    );
-    const endPaired = new Set<number>();
-    for (const [a, b, d] of endPairs) {
-      endPaired.add(a).add(b);
-      const [p, q] = this.id[a] < this.id[b] ? [a, b] : [b, a];
-      emit({
-        t,
-        kind: "annihilation",
-        ids: [this.id[p], this.id[q]],
-        data: { x1: this.x[p], y1: this.y[p], x2: this.x[q], y2: this.y[q], separation: d },
+      const gm = this.#match(
+        ghosts.length,
+        Float64Array.from(ghosts, (g) => g.wx),
+        Float64Array.from(ghosts, (g) => g.wy),
+        Float64Array.from(ghosts, (g) => g.s),
+        left,
+      );
+      gm.forEach((q, k) => {
+        if (q < 0) return;
+        const g = ghosts[k];
+        revived.set(leftIndex[q], g);
+        taken[leftIndex[q]] = 1;
+        if (g.partner !== null) g.partner.partner = null;
+        g.partner = null;
       });
-      this.counts.annihilations++;
-      this.counts.annihilationSeparationSum += d;
     }
-    for (const k of ended) {
-      if (endPaired.has(k)) continue;
-      const wall = o.nearBoundary(this.wx[k], this.wy[k]);
-      emit({
-        t,
-        kind: wall ? "wall-exit" : "disappearance",
-        ids: [this.id[k]],
-        data: { x: this.x[k], y: this.y[k], circulation: this.s[k] },
-      });
-      if (wall) this.counts.wallExits++;
-      else this.counts.disappearances++;
+    const survivors = ghosts.filter((g) => ![...revived.values()].includes(g));
+    // Ended tracks become ghosts; opposite signs that ended together close to each other are partners.
+    const fresh: Ghost[] = ended.map((k) => ({
+      id: this.id[k],
+      x: this.x[k],
+      y: this.y[k],
+      wx: this.wx[k],
+      wy: this.wy[k],
+      s: this.s[k],
+      t,
+      age: 0,
+      partner: null,
+      separation: NaN,
+    }));
+    for (
+      const [a, b, d] of greedyPairs(
+        fresh.map((_, k) => k),
+        (a, b) => fresh[a].s * fresh[b].s >= 0 ? Infinity : this.#separation(fresh[a], fresh[b]),
+        o.pairDistance,
+        (k) => fresh[k].id,
+      )
+    ) {
+      fresh[a].partner = fresh[b];
+      fresh[b].partner = fresh[a];
+      fresh[a].separation = fresh[b].separation = d;
     }
+    const keep: Ghost[] = [];
+    const expire: Ghost[] = [];
+    for (const g of survivors) (++g.age >= o.grace ? expire : keep).push(g);
+    for (const g of fresh) (o.grace === 0 ? expire : keep).push(g);
+    this.#expire(expire, emit);
+    this.#ghosts = keep;
 
-    // New track arrays: matched tracks keep their order, new ones are appended in detection order.
-    const id = new Int32Array(det.count), x = new Float64Array(det.count), y = new Float64Array(det.count);
+    // New track arrays: matched tracks keep their order, then revived ghosts, then new tracks.
+    const side = o.periodicSide;
+    const n = det.count;
+    const id = new Int32Array(n), x = new Float64Array(n), y = new Float64Array(n), order: number[] = [];
     let w = 0;
     for (let k = 0; k < prevN; k++) {
       const q = match[k];
@@ -174,25 +217,33 @@ export class Tracker {
         dx -= side * Math.round(dx / side);
         dy -= side * Math.round(dy / side);
       }
-      id[w] = this.id[k];
-      x[w] = this.x[k] + dx;
-      y[w] = this.y[k] + dy;
+      [id[w], x[w], y[w]] = [this.id[k], this.x[k] + dx, this.y[k] + dy];
+      order.push(q);
       w++;
     }
+    for (const [q, g] of [...revived].sort((p, r) => p[0] - r[0])) {
+      let dx = det.x[q] - g.wx, dy = det.y[q] - g.wy;
+      if (side > 0) {
+        dx -= side * Math.round(dx / side);
+        dy -= side * Math.round(dy / side);
+      }
+      [id[w], x[w], y[w]] = [g.id, g.x + dx, g.y + dy];
+      order.push(q);
+      w++;
+    }
+    const started: number[] = [];
     const startIndex = new Map<number, number>();
-    for (const q of started) {
+    for (let q = 0; q < n; q++) {
+      if (taken[q] === 1) continue;
+      started.push(q);
       startIndex.set(q, w);
-      id[w] = this.nextId++;
-      x[w] = det.x[q];
-      y[w] = det.y[q];
+      [id[w], x[w], y[w]] = [this.nextId++, det.x[q], det.y[q]];
+      order.push(q);
       w++;
     }
-    const order: number[] = [];
-    for (let k = 0; k < prevN; k++) if (match[k] >= 0) order.push(match[k]);
-    order.push(...started);
-    this.#resize(det.count);
-    this.count = det.count;
-    for (let k = 0; k < det.count; k++) {
+    this.#resize(n);
+    this.count = n;
+    for (let k = 0; k < n; k++) {
       const q = order[k];
       this.id[k] = id[k];
       this.x[k] = x[k];
@@ -206,7 +257,7 @@ export class Tracker {
       started,
       (a, b) => {
         if (det.s[a] * det.s[b] >= 0) return Infinity;
-        return sep(det.x[a], det.y[a], det.x[b], det.y[b]);
+        return this.#separation({ wx: det.x[a], wy: det.y[a] }, { wx: det.x[b], wy: det.y[b] });
       },
       o.pairDistance,
       (q) => id[startIndex.get(q)!],
@@ -236,6 +287,55 @@ export class Tracker {
       if (wall) this.counts.wallEntries++;
       else this.counts.appearances++;
     }
+  }
+
+  /** Emits the ending events of every ghost still held (call once at the end of a run). */
+  finish(emit: (e: EngineEvent) => void): void {
+    this.#expire(this.#ghosts, emit);
+    this.#ghosts = [];
+  }
+
+  /** Ending events of expiring ghosts: partners that expire together annihilated, others hit the wall or vanished. */
+  #expire(list: readonly Ghost[], emit: (e: EngineEvent) => void): void {
+    const o = this.#opts;
+    const done = new Set<Ghost>();
+    for (const g of list) {
+      if (done.has(g)) continue;
+      done.add(g);
+      const p = g.partner;
+      if (p !== null && list.includes(p)) {
+        done.add(p);
+        const [a, b] = g.id < p.id ? [g, p] : [p, g];
+        emit({
+          t: g.t,
+          kind: "annihilation",
+          ids: [a.id, b.id],
+          data: { x1: a.x, y1: a.y, x2: b.x, y2: b.y, separation: g.separation },
+        });
+        this.counts.annihilations++;
+        this.counts.annihilationSeparationSum += g.separation;
+        continue;
+      }
+      const wall = o.nearBoundary(g.wx, g.wy);
+      emit({
+        t: g.t,
+        kind: wall ? "wall-exit" : "disappearance",
+        ids: [g.id],
+        data: { x: g.x, y: g.y, circulation: g.s },
+      });
+      if (wall) this.counts.wallExits++;
+      else this.counts.disappearances++;
+    }
+  }
+
+  #separation(a: { wx: number; wy: number }, b: { wx: number; wy: number }): number {
+    const side = this.#opts.periodicSide;
+    let dx = a.wx - b.wx, dy = a.wy - b.wy;
+    if (side > 0) {
+      dx -= side * Math.round(dx / side);
+      dy -= side * Math.round(dy / side);
+    }
+    return Math.hypot(dx, dy);
   }
 
   #resize(m: number): void {

@@ -10,10 +10,11 @@ function detections(points: [number, number, number][]): Detections {
   return d;
 }
 
-function tracker(periodicSide = 0, wallX = Infinity): Tracker {
+function tracker(periodicSide = 0, wallX = Infinity, grace = 0): Tracker {
   return new Tracker({
     maxDisplacement: 2,
     pairDistance: 4,
+    grace,
     periodicSide,
     nearBoundary: (x) => Math.abs(x) > wallX,
   });
@@ -98,4 +99,26 @@ Deno.test("Tracker.start takes the ids of the nearest imprinted vortices", () =>
   assert.equal(idAt(t, 3.05), 7);
   assert.equal(idAt(t, -2.9), 4);
   assert.equal(idAt(t, 0), 8, "an unexpected vortex gets the next free id");
+});
+
+Deno.test("Tracker revives a pair that vanishes for one detection (grace) instead of counting it twice", () => {
+  const t = tracker(0, Infinity, 2);
+  t.start(detections([[0, 0, 1], [1, 0, -1], [9, 9, 1], [10, 9, -1]]), noRef);
+  const events: EngineEvent[] = [];
+  const emit = (e: EngineEvent) => events.push(e);
+  t.update(1, detections([]), emit);
+  assert.equal(events.length, 0, "endings wait for the grace");
+  t.update(2, detections([[0.2, 0.1, 1], [0.9, 0.2, -1]]), emit);
+  assert.equal(events.length, 0, "the first pair came back");
+  assert.deepEqual(Array.from(t.id.subarray(0, t.count)).sort(), [0, 1]);
+  t.update(3, detections([[0.3, 0.1, 1], [0.8, 0.2, -1]]), emit);
+  assert.deepEqual(
+    events.map((e) => [e.kind, e.t, e.ids]),
+    [["annihilation", 1, [2, 3]]],
+    "the second pair annihilated at t = 1",
+  );
+  t.update(4, detections([]), emit);
+  t.finish(emit);
+  assert.deepEqual(events.map((e) => [e.kind, e.t]).slice(1), [["annihilation", 4]]);
+  assert.equal(t.counts.annihilations, 2);
 });
