@@ -13,9 +13,8 @@
  */
 import type { DatabaseSync } from "node:sqlite";
 
-/** One field image of one frame (the store's view of the engine contract's FieldSnapshot). */
-export interface FieldSnapshotRow {
-  readonly frameIndex: number;
+/** Time and pixel grid of a field image (cells centred at (x0 + (i + ½)dx, y0 + (j + ½)dy)). */
+export interface FieldImageGrid {
   readonly t: number;
   readonly nx: number;
   readonly ny: number;
@@ -23,20 +22,18 @@ export interface FieldSnapshotRow {
   readonly y0: number;
   readonly dx: number;
   readonly dy: number;
+}
+
+/** The field images of one frame, as written (the store's view of the engine contract's FieldSnapshot). */
+export interface FieldSnapshotRow extends FieldImageGrid {
+  readonly frameIndex: number;
   readonly fields: Readonly<Record<string, Float32Array>>;
 }
 
 /** One stored image as read back. */
-export interface StoredFieldImage {
+export interface StoredFieldImage extends FieldImageGrid {
   readonly k: number;
-  readonly t: number;
   readonly name: string;
-  readonly nx: number;
-  readonly ny: number;
-  readonly x0: number;
-  readonly y0: number;
-  readonly dx: number;
-  readonly dy: number;
   readonly values: Float32Array;
 }
 

@@ -19,6 +19,7 @@
  * summary.scalars.annihilations;
  * ```
  */
+import { checkRunControls } from "../_controls.ts";
 import { minimumSeparation } from "../_cloud.ts";
 import { EngineFailure, type EngineRunInput, type EngineRunSummary, type FrameSink } from "../contract.ts";
 import { Detections, VortexDetector } from "./detect.ts";
@@ -36,7 +37,7 @@ import { trapPotential } from "./trap.ts";
 /** Runs one realisation, streaming frames, events and snapshots into `sink`; returns the end scalars. */
 export function simulate(input: EngineRunInput<GpParams>, sink: FrameSink): EngineRunSummary {
   const { params, controls, rng } = input;
-  checkControls(controls);
+  checkRunControls(controls, { usesTolerance: false });
   const grid = new Grid(params.grid.points, params.grid.spacing);
   const n = grid.n, m = n * n;
   const fft = new Fft2d(n);
@@ -241,14 +242,4 @@ function boundaryNeighbourhood(grid: Grid, mask: Uint8Array, distance: number): 
     }
   }
   return out;
-}
-
-function checkControls(c: EngineRunInput<GpParams>["controls"]): void {
-  const bad: string[] = [];
-  if (!(c.duration > 0 && Number.isFinite(c.duration))) bad.push(`duration ${c.duration} must be > 0`);
-  if (!(c.sampleInterval > 0 && c.sampleInterval <= c.duration * (1 + 1e-12))) {
-    bad.push(`sampleInterval ${c.sampleInterval} must be > 0 and ≤ duration`);
-  }
-  if (!(c.maxDistance > 0)) bad.push(`maxDistance ${c.maxDistance} must be > 0`);
-  if (bad.length > 0) throw new EngineFailure("invalid-state", `invalid run controls: ${bad.join("; ")}`, 0);
 }
