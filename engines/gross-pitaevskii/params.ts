@@ -35,7 +35,7 @@ export const gridSchema = z.object({
     "Grid points per side n (dimensionless): a power of two from 16 to 1024 (the FFT needs powers of two).",
   ),
   spacing: positive().describe(
-    "Grid spacing h, in ξ (0.25–1; 0.5 resolves a vortex core well). The grid is the periodic square " +
+    "Grid spacing h, in length units ξ (0.25–1; 0.5 resolves a vortex core well). The grid is the periodic square " +
       "[−nh/2, nh/2)².",
   ),
 }).strict().describe("The computational grid.");
@@ -45,12 +45,14 @@ export const wallSchema = z.discriminatedUnion("profile", [
     profile: z.literal("tanh").describe(
       "V = V₀·½[1 + tanh((d − d_w)/w)], d the distance measure of the trap.",
     ),
-    height: positive().default(10).describe("Wall height V₀, in μ (> 1, so the wall holds the condensate)."),
-    width: positive().default(1).describe("Wall width w, in ξ."),
+    height: positive().default(10).describe(
+      "Wall height V₀, in units of μ (> 1, so the wall holds the condensate).",
+    ),
+    width: positive().default(1).describe("Wall width w, in length units ξ."),
   }).strict(),
   z.object({
     profile: z.literal("power").describe("V = V₀·min(1, (d/d_w)^p): a power-law wall capped at V₀."),
-    height: positive().default(10).describe("Wall height V₀, in μ (> 1)."),
+    height: positive().default(10).describe("Wall height V₀, in units of μ (> 1)."),
     exponent: positive().default(40).describe("Exponent p (dimensionless; steep walls: p ≥ 20)."),
   }).strict(),
 ]).describe("Wall profile of a disk or box trap.");
@@ -60,7 +62,7 @@ const defaultWall = { profile: "tanh" as const, height: 10, width: 1 };
 export const trapSchema = z.discriminatedUnion("kind", [
   z.object({
     kind: z.literal("disk").describe("Flat-bottomed disk centred at the origin (d = r, d_w = radius)."),
-    radius: positive().describe("Wall position R, in ξ."),
+    radius: positive().describe("Wall position R, in length units ξ."),
     wall: wallSchema.default(defaultWall),
   }).strict(),
   z.object({
@@ -68,7 +70,7 @@ export const trapSchema = z.discriminatedUnion("kind", [
       "Flat-bottomed square box centred at the origin; the wall acts on x and y separately " +
         "(V = V_wall(|x|) + V_wall(|y|), d_w = side/2).",
     ),
-    side: positive().describe("Box side S (wall to wall), in ξ."),
+    side: positive().describe("Box side S (wall to wall), in length units ξ."),
     wall: wallSchema.default(defaultWall),
   }).strict(),
   z.object({
@@ -79,9 +81,9 @@ export const trapSchema = z.discriminatedUnion("kind", [
 ]).describe("Trapping potential V(r).");
 
 /** A random ± cloud in ξ, with the wall clearance of trapped condensates. */
-export const gpCloudSchema = randomCloudSchema("ξ").extend({
+export const gpCloudSchema = randomCloudSchema("length units ξ").extend({
   wallClearance: nonNegative().default(3).describe(
-    "Vortices are drawn at least this far inside the wall position (trap radius or box half-side), in ξ; " +
+    "Vortices are drawn at least this far inside the wall position (trap radius or box half-side), in length units ξ; " +
       "ignored in a periodic domain.",
   ),
 });
@@ -90,8 +92,8 @@ export const gpExplicitSchema = z.object({
   kind: z.literal("explicit").describe("Vortices listed one by one."),
   vortices: z.array(
     z.object({
-      x: finite().describe("x position, in ξ."),
-      y: finite().describe("y position, in ξ."),
+      x: finite().describe("x position, in length units ξ."),
+      y: finite().describe("y position, in length units ξ."),
       circulation: z.union([z.literal(1), z.literal(-1)]).describe("Sign of the circulation, ±1 (in κ)."),
     }).strict(),
   ).min(1).describe("The vortices (ids are their list positions)."),
@@ -107,7 +109,7 @@ export const relaxationSchema = z.object({
     "Imaginary time of the core relaxation with the imprinted phase pinned, in ξ²/κ (30 ξ²/κ ≈ 4.8 ξ/c).",
   ),
   tolerance: positive().default(1e-9).describe(
-    "Ground state: relaxation stops when the residual ‖(H − μ)ψ‖/‖ψ‖ falls below this (in μ).",
+    "Ground state: relaxation stops when the residual ‖(H − μ)ψ‖/‖ψ‖ falls below this (in units of μ).",
   ),
   maxIterations: z.number().int().min(1).default(20_000).describe(
     "Most relaxation iterations per ground-state solve (dimensionless); the realisation fails beyond it.",
@@ -137,7 +139,7 @@ export const trackingSchema = z.object({
       "default 2π ξ²/κ = 1 ξ/c).",
   ),
   maxDisplacement: positive().default(2).describe(
-    "Largest distance a vortex may move between two detections and keep its id, in ξ.",
+    "Largest distance a vortex may move between two detections and keep its id, in length units ξ.",
   ),
   grace: z.number().int().min(0).default(2).describe(
     "Detections a vanished vortex waits to be found again (within maxDisplacement) and keep its id before its " +
@@ -145,7 +147,7 @@ export const trackingSchema = z.object({
   ),
   pairDistance: positive().default(4).describe(
     "A vanished vortex and a vanished antivortex whose last positions are closer than this annihilated " +
-      "together (event 'annihilation'), in ξ; the same distance pairs appearing vortices ('pair-creation').",
+      "together (event 'annihilation'), in length units ξ; the same distance pairs appearing vortices ('pair-creation').",
   ),
 }).strict().describe(
   "Tracking: per sign, the assignment between consecutive detections that matches the most vortices within " +
