@@ -38,15 +38,27 @@ export interface SplitStepOptions {
   readonly mu?: number;
 }
 
-/** Precomputed coefficients of the local flow over one duration. */
+/** Precomputed coefficients of the local flow over one duration τ (per grid point). */
 interface LocalFlow {
-  /** γ = 0: cos(Wτ) per point; γ > 0: −2aWτ per point. */
-  readonly e: Float64Array;
-  /** γ = 0: sin(Wτ) per point (unused for γ > 0). */
+  /** cos(bWτ) and sin(bWτ): the potential's phase rotation e^{−ibWτ}. */
+  readonly cw: Float64Array;
   readonly sw: Float64Array;
-  /** γ > 0: E per point (unused for γ = 0). */
+  /** γ > 0: e^{−aWτ} (amplitude factor of the potential) and E (empty for γ = 0). */
+  readonly ea: Float64Array;
   readonly E: Float64Array;
   readonly tau: number;
+}
+
+/** cos x and sin x into `out`: Taylor polynomials of degree 8 and 9 for |x| ≤ 0.1 (error < 3e-17), else Math. */
+function sincos(x: number, out: Float64Array): void {
+  if (x <= 0.1 && x >= -0.1) {
+    const x2 = x * x;
+    out[0] = 1 - x2 * (1 / 2 - x2 * (1 / 24 - x2 * (1 / 720 - x2 / 40320)));
+    out[1] = x * (1 - x2 * (1 / 6 - x2 * (1 / 120 - x2 * (1 / 5040 - x2 / 362880))));
+  } else {
+    out[0] = Math.cos(x);
+    out[1] = Math.sin(x);
+  }
 }
 
 export class SplitStep {
@@ -59,6 +71,7 @@ export class SplitStep {
   readonly #full: LocalFlow;
   readonly #a: number;
   readonly #b: number;
+  readonly #cs = new Float64Array(2);
 
   constructor(grid: Grid, fft: Fft2d, potential: Float64Array, opts: SplitStepOptions) {
     this.grid = grid;
@@ -82,23 +95,21 @@ export class SplitStep {
   }
 
   #localFlow(potential: Float64Array, mu: number, tau: number): LocalFlow {
-    const m = potential.length;
-    const e = new Float64Array(m);
-    const sw = new Float64Array(this.gamma > 0 ? 0 : m);
-    const E = new Float64Array(this.gamma > 0 ? m : 0);
-    const a = this.#a;
+    const m = potential.length, damped = this.gamma > 0;
+    const cw = new Float64Array(m), sw = new Float64Array(m);
+    const ea = new Float64Array(damped ? m : 0), E = new Float64Array(damped ? m : 0);
+    const a = this.#a, b = this.#b;
     for (let p = 0; p < m; p++) {
       const w = potential[p] - mu;
-      if (this.gamma === 0) {
-        e[p] = Math.cos(w * tau);
-        sw[p] = Math.sin(w * tau);
-      } else {
+      cw[p] = Math.cos(b * w * tau);
+      sw[p] = Math.sin(b * w * tau);
+      if (damped) {
         const x = -2 * a * w * tau;
-        e[p] = x;
+        ea[p] = Math.exp(0.5 * x);
         E[p] = w === 0 ? 2 * a * tau : Math.expm1(x) / -w;
       }
     }
-    return { e, sw, E, tau };
+    return { cw, sw, ea, E, tau };
   }
 
   /** Advances ψ (interleaved complex, in place) by `steps` Strang steps of dt. */
@@ -122,38 +133,32 @@ export class SplitStep {
     }
   }
 
+  /**
+   * ψ ← ψ · e^{−ibWτ} · e^{i r} · A per point, with (γ = 0) r = −ρτ, A = 1, or (γ > 0) with y = ρE:
+   * A = e^{−aWτ}/√(1 + y) and r = −ln(1 + y)/(2γ) — the closed form of the module comment split so that the
+   * large potential phase is precomputed and only the small remainder r is evaluated per step.
+   */
   #local(psi: Float64Array, flow: LocalFlow): void {
-    const e = flow.e, m = e.length;
-    if (this.gamma === 0) {
-      // e^{−i(W + ρ)τ} = e^{−iWτ} (precomputed) · e^{−iρτ}; for |ρτ| ≤ 0.1 the Taylor polynomials of degree 8
-      // (cos) and 9 (sin) are exact to 3e-17, otherwise Math.cos/sin.
-      const tau = flow.tau, sw = flow.sw;
-      for (let p = 0; p < m; p++) {
-        const re = psi[2 * p], im = psi[2 * p + 1];
-        const x = (re * re + im * im) * tau;
-        let c: number, s: number;
-        if (x <= 0.1 && x >= -0.1) {
-          const x2 = x * x;
-          c = 1 - x2 * (1 / 2 - x2 * (1 / 24 - x2 * (1 / 720 - x2 / 40320)));
-          s = x * (1 - x2 * (1 / 6 - x2 * (1 / 120 - x2 * (1 / 5040 - x2 / 362880))));
-        } else {
-          c = Math.cos(x);
-          s = Math.sin(x);
-        }
-        const cw = e[p], sv = sw[p];
-        const ct = cw * c - sv * s, st = sv * c + cw * s; // e^{iθ}, θ = (W + ρ)τ
-        psi[2 * p] = re * ct + im * st;
-        psi[2 * p + 1] = im * ct - re * st;
-      }
-      return;
-    }
-    const E = flow.E, halfOverGamma = 0.5 / this.gamma;
+    const { cw, sw, ea, E, tau } = flow, m = cw.length, cs = this.#cs;
+    const damped = this.gamma > 0, halfOverGamma = damped ? 0.5 / this.gamma : 0;
     for (let p = 0; p < m; p++) {
       const re = psi[2 * p], im = psi[2 * p + 1];
       const rho = re * re + im * im;
-      const lnq = e[p] - Math.log1p(rho * E[p]);
-      const amp = Math.exp(0.5 * lnq), th = lnq * halfOverGamma;
-      const c = amp * Math.cos(th), s = amp * Math.sin(th);
+      let r: number, amp: number;
+      if (damped) {
+        const y = rho * E[p];
+        const ln = y < 1e-3 && y > -1e-3
+          ? y * (1 - y * (1 / 2 - y * (1 / 3 - y * (1 / 4 - y * (1 / 5 - y / 6)))))
+          : Math.log1p(y);
+        r = -ln * halfOverGamma;
+        amp = ea[p] / Math.sqrt(1 + y);
+      } else {
+        r = -rho * tau;
+        amp = 1;
+      }
+      sincos(r, cs);
+      // e^{iθ} = e^{−ibWτ} e^{ir}
+      const c = amp * (cw[p] * cs[0] + sw[p] * cs[1]), s = amp * (cw[p] * cs[1] - sw[p] * cs[0]);
       psi[2 * p] = re * c - im * s;
       psi[2 * p + 1] = re * s + im * c;
     }
