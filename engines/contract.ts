@@ -45,6 +45,11 @@ export interface EngineCapabilities {
   readonly diagnostics: Readonly<Record<string, string>>;
   /** Units the engine works in, shown in reports (e.g. { length: "ℓ (study unit)", time: "ℓ²/κ" }). */
   readonly units: Readonly<{ length: string; time: string; circulation: string }>;
+  /**
+   * Field snapshots the engine may send through `FrameSink.snapshot` (field name → meaning and unit); absent for
+   * engines without a field (see {@link FieldSnapshot}).
+   */
+  readonly snapshots?: Readonly<Record<string, string>>;
 }
 
 /**
@@ -125,10 +130,34 @@ export interface EngineRunInput<P> {
   readonly baseDirectory?: string;
 }
 
+/**
+ * Field snapshots (optional channel, separate from frames): a downsampled image of an engine's field at one
+ * stored frame, e.g. the Gross–Pitaevskii density and phase. Values are row-major — value (i, j), column i and
+ * row j, at index j·nx + i — on cells centred at (x0 + (i + ½)dx, y0 + (j + ½)dy). The sink keeps what it is
+ * given (the engine must not reuse the arrays) and the store writes it with the realisation's other rows.
+ */
+export interface FieldSnapshot {
+  /** Index of the frame this image belongs to (`Frame.index`). */
+  readonly frameIndex: number;
+  /** Simulation time, as in the frame. */
+  readonly t: number;
+  readonly nx: number;
+  readonly ny: number;
+  /** Lower-left corner and cell size, in the engine's length unit. */
+  readonly x0: number;
+  readonly y0: number;
+  readonly dx: number;
+  readonly dy: number;
+  /** Field name (declared in `capabilities.snapshots`) → nx·ny values. */
+  readonly fields: Readonly<Record<string, Float32Array>>;
+}
+
 /** Receives frames and events in time order. Throws `EngineFailure` to stop a run (e.g. NaN guard). */
 export interface FrameSink {
   frame(frame: Frame): void;
   event(event: EngineEvent): void;
+  /** Field snapshots (optional channel; sinks that do not store images leave it out). */
+  snapshot?(snapshot: FieldSnapshot): void;
 }
 
 /** Scalars an engine reports at the end (relative invariant drifts, step counts, initial density, …). */

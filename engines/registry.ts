@@ -7,11 +7,13 @@ import { pointVortexEngine } from "./point-vortex/mod.ts";
 import { IMPORTED_ENGINES } from "./imported/mod.ts";
 import { EXTERNAL_ENGINES } from "./external/mod.ts";
 import { filamentEngine } from "./filament/mod.ts";
+import { gpEngine } from "./gross-pitaevskii/mod.ts";
 
 // deno-lint-ignore no-explicit-any
 export const ENGINES: readonly Engine<any>[] = [
   pointVortexEngine,
   filamentEngine,
+  gpEngine,
   ...IMPORTED_ENGINES,
   ...EXTERNAL_ENGINES,
 ];

@@ -45,6 +45,19 @@ export interface ReportPageInput {
    * and charts in page order; omitted → no such section.
    */
   readonly analysis?: readonly PagePart[];
+  /**
+   * Self-contained sections placed after "Results" (already escaped HTML, each a `<section id=…>`), with a nav
+   * link and optional style rules; e.g. the condensate images of field_snapshots_section.ts.
+   */
+  readonly sections?: readonly ExtraSection[];
+}
+
+/** A section built elsewhere in reports/ and inserted as is. */
+export interface ExtraSection {
+  readonly id: string;
+  readonly title: string;
+  readonly html: string;
+  readonly style?: string;
 }
 
 /** A block of the page: HTML that is already escaped, or a chart. */
@@ -95,7 +108,7 @@ export function renderReportHtml(input: ReportPageInput): string {
 <meta name="viewport" content="width=device-width, initial-scale=1">
 <meta name="generator" content="spindrift ${escapeHtml(s.toolVersion)}">
 <title>${escapeHtml(title)}</title>
-<style>${STYLE}</style>
+<style>${STYLE}${(input.sections ?? []).map((x) => x.style ?? "").join("")}</style>
 <script>${ERROR_HOOK}</script>
 </head>
 <body data-charts="${drawn.length}" data-rendered="0" data-errors="0" data-state="loading">
@@ -108,7 +121,9 @@ export function renderReportHtml(input: ReportPageInput): string {
 </header>
 <nav><a href="#question">Question</a> <a href="#parameters">Parameters</a>${
     input.analysis ? ' <a href="#answers">Answers</a>' : ""
-  } <a href="#results">Results</a> <a href="#failures">Failures${
+  } <a href="#results">Results</a>${
+    (input.sections ?? []).map((x) => ` <a href="#${escapeHtml(x.id)}">${escapeHtml(x.title)}</a>`).join("")
+  } <a href="#failures">Failures${
     totals.failed + totals.running > 0 ? ` (${totals.failed + totals.running})` : ""
   }</a> <a href="#study-file">Study file</a> <a href="#provenance">Provenance</a></nav>
 <div id="page-errors" class="errors" hidden></div>
@@ -143,7 +158,7 @@ ${input.charts.map((c) => figure(c, input.svgDirName)).join("\n")}
   } Student-t confidence interval [low, high] and the number of realisations n.</p>
 ${scalarsTable(agg)}
 </section>
-<section id="failures">
+${(input.sections ?? []).map((x) => x.html).join("\n")}<section id="failures">
 <h2>Failures</h2>
 ${failuresTable(agg)}
 </section>

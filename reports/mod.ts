@@ -18,6 +18,7 @@ import { openStoreReadOnly } from "../store/reads.ts";
 import { readEnsembleResults } from "../store/ensemble.ts";
 import { aggregateStudy } from "./aggregate.ts";
 import { buildAnalysisSection } from "./analysis_section.ts";
+import { buildFieldSnapshotSection, FIELD_SNAPSHOT_STYLE } from "./field_snapshots_section.ts";
 import { type PagePart, type RenderedChart, renderReportHtml } from "./html.ts";
 import { compileChart, readVegaRuntime, renderSvg } from "./render.ts";
 import { buildCharts, CHART_SERIES, type ChartOptions, type ChartSpec } from "./specs.ts";
@@ -77,7 +78,11 @@ export async function writeReport(
       analysis = section.parts.map((p) => ("chart" in p ? { rendered: compiled(p.chart) } : p));
     }
     svgCharts = [...charts, ...(analysis ?? []).flatMap((p) => ("rendered" in p ? [p.rendered] : []))];
+    const condensate = buildFieldSnapshotSection(db, agg.study.id, units?.length);
     page = renderReportHtml({
+      sections: condensate === ""
+        ? []
+        : [{ id: "condensate", title: "Condensate", html: condensate, style: FIELD_SNAPSHOT_STYLE }],
       analysis,
       agg,
       charts,

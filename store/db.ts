@@ -14,6 +14,7 @@
  */
 import { DatabaseSync, type StatementSync } from "node:sqlite";
 import { SCHEMA_SQL, SCHEMA_VERSION } from "./schema.ts";
+import { type FieldSnapshotRow, insertFieldSnapshots } from "./snapshots.ts";
 
 /** A problem with the database file itself (not a spindrift database, wrong version, locked, …). */
 export class StoreError extends Error {
@@ -92,6 +93,8 @@ export interface RealisationOutcome {
   readonly scalars: Readonly<Record<string, number>>;
   readonly series: Readonly<Record<string, SeriesData>>;
   readonly events: readonly EventRow[];
+  /** Field images sent through the engine's optional snapshot channel (store/snapshots.ts). */
+  readonly snapshots?: readonly FieldSnapshotRow[];
 }
 
 export type RealisationStatus = "running" | "done" | "failed";
@@ -346,6 +349,7 @@ export class StudyStore {
           JSON.stringify(e.detail === undefined ? e.data : { ...e.data, detail: e.detail }),
         )
       );
+      insertFieldSnapshots(db, realisationId, out.snapshots ?? []);
       db.prepare(
         `UPDATE realisations SET status = ?, failure_kind = ?, error = ?, finished_at = ?, wall_seconds = ?,
            sim_time_reached = ?, frame_count = ? WHERE id = ?`,

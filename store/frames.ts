@@ -72,3 +72,17 @@ export function findRealisation(db: DatabaseSync, id: number): RealisationRef | 
     engineId: String(row.engine_id),
   };
 }
+
+/** Frame k of one realisation, decoded, or undefined. */
+export function readFrameAt(db: DatabaseSync, realisationId: number, k: number): StoredFrame | undefined {
+  const row = db.prepare("SELECT k, t, n, layout, data FROM frames WHERE realisation_id = ? AND k = ?")
+    .get(realisationId, k) as Record<string, unknown> | undefined;
+  if (!row) return undefined;
+  const n = Number(row.n);
+  return {
+    k: Number(row.k),
+    t: Number(row.t),
+    n,
+    columns: decodeFrame(String(row.layout), row.data as Uint8Array, n),
+  };
+}

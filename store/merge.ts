@@ -10,7 +10,7 @@
  *    the shard's study and of every realisation in it.
  * 3. One transaction on the study database, rows read from the snapshot: study, points and point links are
  *    added if missing; every finished realisation of the shard (done or failed) is copied with its scalars,
- *    series, events and frames unless the study database already has it. "Already has it": stored `done`, or
+ *    series, events, frames and field snapshots unless the study database already has it. "Already has it": stored `done`, or
  *    stored `failed` while the shard's copy failed too. A shard's `done` replaces a stored `failed` (a rerun that
  *    succeeded) and a stored `running` row (left by a killed local run). Unfinished (`running`) realisations of
  *    the shard are left out: they count as missing and are submitted again.
@@ -32,6 +32,7 @@ import { backup, DatabaseSync, type SQLInputValue, type StatementSync } from "no
 import { join } from "node:path";
 import { SCHEMA_VERSION } from "./schema.ts";
 import type { StudyStore } from "./db.ts";
+import { FIELD_SNAPSHOT_COLUMNS, hasTable as hasSnapshotTable } from "./snapshots.ts";
 
 /** What a shard must belong to. */
 export interface ShardExpectation {
@@ -291,6 +292,7 @@ function copyAll(src: DatabaseSync, dst: DatabaseSync, shardPath: string): Merge
     ["series", "name, k, t, value"],
     ["events", "seq, t, kind, ids_json, data_json"],
     ["frames", "k, t, n, layout, data"],
+    ...(hasSnapshotTable(src) ? [["field_snapshots", FIELD_SNAPSHOT_COLUMNS]] : []),
   ].map(([table, cols]) => {
     const columns = cols.split(", ");
     return {

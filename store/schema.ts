@@ -136,5 +136,23 @@ CREATE TABLE IF NOT EXISTS ensemble_results (
   PRIMARY KEY (study_id, point_hash, analysis, name)
 ) STRICT;
 
+-- Field snapshots (optional engine channel, store/snapshots.ts): downsampled images of a field (e.g. the GP
+-- density and phase) at stored frame k; 'data' holds nx·ny little-endian float32 values, row-major. Added without
+-- a version bump: older databases gain the table when opened, and readers treat a missing table as empty.
+CREATE TABLE IF NOT EXISTS field_snapshots (
+  realisation_id INTEGER NOT NULL REFERENCES realisations(id) ON DELETE CASCADE,
+  k              INTEGER NOT NULL,
+  name           TEXT NOT NULL,
+  t              REAL NOT NULL,
+  nx             INTEGER NOT NULL,
+  ny             INTEGER NOT NULL,
+  x0             REAL NOT NULL,
+  y0             REAL NOT NULL,
+  dx             REAL NOT NULL,
+  dy             REAL NOT NULL,
+  data           BLOB NOT NULL,
+  PRIMARY KEY (realisation_id, k, name)
+) STRICT;
+
 CREATE INDEX IF NOT EXISTS realisations_by_point ON realisations(point_hash, status);
 `;

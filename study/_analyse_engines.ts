@@ -1,5 +1,6 @@
 /**
  * What the ensemble analysis needs from particular engines beyond their declared capabilities: the flow domain
+ * (point vortices: disk, periodic or unbounded; Gross–Pitaevskii: the trap, or the periodic grid)
  * (for the fitting window's "cluster reaches 1/4 of the domain" rule and for homogeneous-decay densities) and
  * a velocity field at arbitrary probe points (for velocity correlations). The engine contract has no hook for
  * either yet, so this is the one place that knows engine parameter shapes; everything else in the analysis
@@ -19,7 +20,7 @@ import { velocityPeriodic } from "../engines/point-vortex/periodic.ts";
 
 /** The flow domain of a parameter point, as far as the analysis knows it. */
 export interface DomainInfo {
-  readonly kind: "unbounded" | "disk" | "periodic" | "unknown";
+  readonly kind: "unbounded" | "disk" | "box" | "periodic" | "unknown";
   /** Linear size: disk diameter or box side (length); null when unbounded or unknown. */
   readonly size: number | null;
   /** Area (2D) of the domain; null when unbounded or unknown. */
@@ -27,6 +28,7 @@ export interface DomainInfo {
 }
 
 const POINT_VORTEX_ID = "point-vortex-2d";
+const GROSS_PITAEVSKII_ID = "gross-pitaevskii-2d";
 
 function isRecord(v: unknown): v is Record<string, unknown> {
   return typeof v === "object" && v !== null && !Array.isArray(v);
@@ -50,8 +52,29 @@ function pointVortexDomain(params: unknown): Domain | null {
   return null;
 }
 
+/**
+ * The trap of a Gross–Pitaevskii point: disk (wall radius R), square box (side S), or the periodic grid square
+ * (side points × spacing); null when unreadable.
+ */
+function gpDomain(params: unknown): DomainInfo | null {
+  if (!isRecord(params) || !isRecord(params.trap) || !isRecord(params.grid)) return null;
+  const t = params.trap, g = params.grid;
+  if (t.kind === "disk" && typeof t.radius === "number") {
+    return { kind: "disk", size: 2 * t.radius, area: Math.PI * t.radius ** 2 };
+  }
+  if (t.kind === "box" && typeof t.side === "number") return { kind: "box", size: t.side, area: t.side ** 2 };
+  if (t.kind === "periodic" && typeof g.points === "number" && typeof g.spacing === "number") {
+    const side = g.points * g.spacing;
+    return { kind: "periodic", size: side, area: side * side };
+  }
+  return null;
+}
+
 /** The domain of a point of an engine (unknown for engines this file does not know). */
 export function domainOf(engineId: string, params: unknown): DomainInfo {
+  if (engineId === GROSS_PITAEVSKII_ID) {
+    return gpDomain(params) ?? { kind: "unknown", size: null, area: null };
+  }
   if (engineId !== POINT_VORTEX_ID) return { kind: "unknown", size: null, area: null };
   const d = pointVortexDomain(params);
   if (d === null) return { kind: "unknown", size: null, area: null };

@@ -88,6 +88,10 @@ Deno.test("domainOf: disk and periodic sizes, unbounded and unknown engines have
   assertEquals(domainOf("point-vortex-2d", { domain: { kind: "periodic", side: 4 } }).area, 16);
   assertEquals(domainOf("point-vortex-2d", { domain: { kind: "unbounded" } }).size, null);
   assertEquals(domainOf("filament-3d", {}).kind, "unknown");
+  const grid = { points: 128, spacing: 0.5 };
+  assertEquals(domainOf("gross-pitaevskii-2d", { grid, trap: { kind: "box", side: 40 } }).area, 1600);
+  assertEquals(domainOf("gross-pitaevskii-2d", { grid, trap: { kind: "disk", radius: 3 } }).size, 6);
+  assertEquals(domainOf("gross-pitaevskii-2d", { grid, trap: { kind: "periodic" } }).size, 64);
 });
 
 // Halving/doubling rules of the sensitivity table (methods §4: each threshold ×0.5 and ×2); the cosine is varied

@@ -9,6 +9,7 @@ import {
   type Engine,
   type EngineEvent,
   EngineFailure,
+  type FieldSnapshot,
   type Frame,
   type FrameSink,
   type RunControls,
@@ -92,6 +93,7 @@ export async function executeRealisation(
 ): Promise<RealisationOutcome> {
   const started = performance.now();
   const events: EngineEvent[] = [];
+  const snapshots: FieldSnapshot[] = [];
   const engine = lookup(task.engineId);
   if (!engine || engine.version !== task.engineVersion) {
     return failed(
@@ -163,6 +165,9 @@ export async function executeRealisation(
     event(e: EngineEvent): void {
       events.push(e);
     },
+    snapshot(s: FieldSnapshot): void {
+      snapshots.push(s);
+    },
   };
 
   const rng = RandomStream.fromState(task.seedState);
@@ -195,6 +200,7 @@ export async function executeRealisation(
       scalars,
       series,
       events: sortEvents(events),
+      snapshots,
     };
   } catch (e) {
     flush();
@@ -213,6 +219,7 @@ export async function executeRealisation(
       scalars: {},
       series: {},
       events: sortEvents(events),
+      snapshots,
     };
   }
 }

@@ -6,6 +6,7 @@ import { formatProblems } from "../study/problems.ts";
 import { type NormalizedStudy, normalizeStudy } from "../study/normalize.ts";
 import { type RunReport, runStudy } from "../study/runner.ts";
 import { createProgress } from "../study/progress.ts";
+import { hasTable as hasSnapshotTable, readFieldSnapshots } from "../store/snapshots.ts";
 
 export const REPO = new URL("../", import.meta.url).pathname;
 
@@ -67,6 +68,11 @@ export function digestResults(dbPath: string): string {
           .all(id as number)
       ) {
         parts.push(`${f.k}|${f.t}|${f.n}|${f.layout}|${hex(f.data as Uint8Array)}`);
+      }
+      for (const s of hasSnapshotTable(db) ? readFieldSnapshots(db, id as number) : []) {
+        parts.push(
+          `snapshot ${s.k}|${s.name}|${s.t}|${s.nx}|${s.ny}|${hex(new Uint8Array(s.values.buffer))}`,
+        );
       }
     }
     return parts.join("\n");

@@ -26,6 +26,7 @@
  * });
  * ```
  */
+import { checkRunControls } from "../_controls.ts";
 import { EngineFailure } from "../contract.ts";
 import type { Engine, EngineRunInput, EngineRunSummary, FrameSink } from "../contract.ts";
 import { computeGeometry } from "./geometry.ts";
@@ -97,7 +98,7 @@ export const filamentEngine: Engine<FilamentParams> = {
   upgradeParams: upgradeFilamentParams,
   starter: FILAMENT_STARTER,
   run(input, sink) {
-    checkControls(input.controls);
+    checkRunControls(input.controls, { usesTolerance: false });
     const init = input.params.initial;
     if (init.kind === "given" && init.file !== undefined) {
       return readLoopsFile(init.file).then(
@@ -111,16 +112,6 @@ export const filamentEngine: Engine<FilamentParams> = {
     return runWithLoops(input, sink, null);
   },
 };
-
-function checkControls(c: EngineRunInput<FilamentParams>["controls"]): void {
-  const bad: string[] = [];
-  if (!(c.duration > 0 && Number.isFinite(c.duration))) bad.push(`duration ${c.duration} must be > 0`);
-  if (!(c.sampleInterval > 0 && c.sampleInterval <= c.duration * (1 + 1e-12))) {
-    bad.push(`sampleInterval ${c.sampleInterval} must be > 0 and ≤ duration`);
-  }
-  if (!(c.maxDistance > 0)) bad.push(`maxDistance ${c.maxDistance} must be > 0`);
-  if (bad.length > 0) throw new EngineFailure("invalid-state", `invalid run controls: ${bad.join("; ")}`, 0);
-}
 
 /** Physical constants and derived settings of a parameter set. */
 export interface ResolvedSettings {

@@ -19,7 +19,7 @@
  *   Float64Array.of(1, -1, 1), Int32Array.of(0, 1, 2)); // 2: the pair (0, 1)
  * ```
  */
-import { CellList } from "./_cells.ts";
+import { CellList } from "../_cells.ts";
 import type { DomainGeometry } from "./invariants.ts";
 
 export class AnnihilationSearch {

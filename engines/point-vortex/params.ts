@@ -16,6 +16,7 @@
  * ```
  */
 import { z } from "zod";
+import { checkCloud, cloudReach, randomCloudSchema as randomCloudSchemaFor } from "../_cloud.ts";
 
 const finite = () => z.number().refine(Number.isFinite, { message: "must be a finite number" });
 const positive = () => z.number().positive().refine(Number.isFinite, { message: "must be a finite number" });
@@ -45,25 +46,16 @@ export const domainSchema = z.discriminatedUnion("kind", [
 
 const pointSchema = z.tuple([finite(), finite()]);
 
-/** A random ± cloud (docs/methods.md §3.2). */
-export const randomCloudSchema = z.object({
-  kind: z.literal("random-cloud").describe(
-    "Random vortices of both signs in a disk-shaped or Gaussian cloud.",
-  ),
-  count: z.number().int().min(1).describe("Number of vortices N (dimensionless)."),
-  polarity: z.number().min(-1).max(1).default(0).describe(
-    "Net polarity p = (N₊ − N₋)/N, in [−1, 1] (dimensionless). N₊ = N(1 + p)/2 must be an integer.",
-  ),
-  shape: z.enum(["uniform-disk", "gaussian"]).default("uniform-disk").describe(
-    "uniform-disk: uniform density inside `radius`; gaussian: isotropic normal with standard deviation `radius`.",
-  ),
-  radius: positive().describe("Cloud radius R_c (uniform-disk) or Gaussian σ, in length units ℓ."),
+/**
+ * A random ± cloud (docs/methods.md §3.2): the shared cloud schema, with a `minSeparation` whose default depends
+ * on the annihilation distance (resolved by the transform at the end of {@link pointVortexParamsSchema}).
+ */
+export const randomCloudSchema = randomCloudSchemaFor("length units ℓ").extend({
   minSeparation: nonNegative().optional().describe(
     "Hard-core minimum distance between any two vortices, in length units ℓ (enforced by rejection; 0 = off). " +
       "Default: 2 × annihilationDistance (0 without annihilation), so that no pair annihilates at the first step.",
   ),
-  centre: pointSchema.default([0, 0]).describe("Cloud centre [x, y], in length units ℓ."),
-}).strict();
+});
 
 /** One vortex given explicitly. */
 export const explicitVortexSchema = z.object({
@@ -109,8 +101,7 @@ export const integratorSchema = z.object({
     "relative to the current minimum vortex separation.",
 );
 
-/** Largest packing fraction N·d²/(4R_c²) accepted for a uniform-disk cloud with a minimum separation. */
-export const MAX_PACKING_FRACTION = 0.5;
+export { MAX_PACKING_FRACTION } from "../_cloud.ts";
 
 /** `minSeparation` when a random cloud leaves it out: twice the annihilation distance (0 without annihilation). */
 export function defaultMinSeparation(annihilationDistance: number): number {
@@ -138,30 +129,15 @@ export const pointVortexParamsSchema = z.object({
   const init = p.initial;
   const dom = p.domain;
   if (init.kind === "random-cloud") {
-    const n = init.count;
     const minSeparation = init.minSeparation ?? defaultMinSeparation(p.annihilationDistance);
-    const given = init.minSeparation === undefined ? " (the default, 2 × annihilationDistance)" : "";
-    const nPlusExact = n * (1 + init.polarity) / 2;
-    if (init.polarity === 0 && n % 2 !== 0) {
-      ctx.addIssue({
-        code: "custom",
-        path: ["initial", "count"],
-        message:
-          `count ${n} is odd: with polarity 0 the cloud has N/2 vortices of each sign, so N must be even`,
-      });
-    } else if (Math.abs(nPlusExact - Math.round(nPlusExact)) > 1e-9) {
-      const allowed = Array.from({ length: Math.min(n, 8) + 1 }, (_, k) => `${(2 * k - n) / n}`).join(", ");
-      ctx.addIssue({
-        code: "custom",
-        path: ["initial", "polarity"],
-        message:
-          `polarity ${init.polarity} with count ${n} gives N₊ = N(1+p)/2 = ${nPlusExact}, not an integer; ` +
-          `allowed values are p = (2N₊ − N)/N for integer N₊ in 0..N (e.g. ${allowed}${n > 8 ? ", …" : ""})`,
-      });
-    }
+    checkCloud({ ...init, minSeparation }, ctx, {
+      path: ["initial"],
+      minSeparationNote: init.minSeparation === undefined
+        ? " (the default, 2 × annihilationDistance)"
+        : undefined,
+    });
     const [cx, cy] = init.centre;
-    const reach = init.shape === "uniform-disk" ? init.radius : 3 * init.radius;
-    const what = init.shape === "uniform-disk" ? "radius" : "3σ (3 × radius)";
+    const { reach, what } = cloudReach(init);
     if (dom.kind === "disk") {
       const extent = Math.hypot(cx, cy) + reach;
       if (extent >= dom.radius) {
@@ -189,19 +165,6 @@ export const pointVortexParamsSchema = z.object({
         message: "a periodic box needs zero total circulation (polarity 0), or set " +
           "domain.neutralizingBackground: true to accept a uniform compensating background vorticity",
       });
-    }
-    if (init.shape === "uniform-disk" && minSeparation > 0) {
-      const packing = n * minSeparation ** 2 / (4 * init.radius ** 2);
-      if (packing > MAX_PACKING_FRACTION) {
-        ctx.addIssue({
-          code: "custom",
-          path: ["initial", init.minSeparation === undefined ? "radius" : "minSeparation"],
-          message:
-            `minSeparation ${minSeparation}${given} is too large for ${n} vortices in radius ${init.radius}: ` +
-            `packing fraction N·d²/(4R_c²) = ${packing.toPrecision(3)} exceeds ${MAX_PACKING_FRACTION} ` +
-            "(random sequential placement jams near 0.55)",
-        });
-      }
     }
     if (p.annihilationDistance > 0 && minSeparation < p.annihilationDistance) {
       ctx.addIssue({

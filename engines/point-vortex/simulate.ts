@@ -38,6 +38,8 @@
  * summary.scalars.steps;
  * ```
  */
+import { checkRunControls } from "../_controls.ts";
+import { minimumSeparation } from "../_cloud.ts";
 import { EngineFailure, type EngineRunInput, type EngineRunSummary, type FrameSink } from "../contract.ts";
 import { AnnihilationSearch } from "./annihilation.ts";
 import { applyFriction } from "./friction.ts";
@@ -58,7 +60,7 @@ import { velocityDisk, velocityUnbounded } from "./velocity.ts";
 /** Runs one realisation, streaming frames and events into `sink`; returns the end scalars. */
 export function simulate(input: EngineRunInput<PointVortexParams>, sink: FrameSink): EngineRunSummary {
   const { params, controls, rng } = input;
-  checkControls(controls);
+  checkRunControls(controls, { usesTolerance: true });
   const init = initialVortices(params, rng);
   const dom = params.domain;
   const geometry: DomainGeometry = dom.kind === "disk"
@@ -339,31 +341,4 @@ function maxAbs(n: number, g: Float64Array): number {
 
 function nonZero(s: number): number {
   return s > 0 && Number.isFinite(s) ? s : 1;
-}
-
-/** Smallest pair distance (minimum image when side > 0); Infinity for n < 2. */
-function minimumSeparation(n: number, x: Float64Array, y: Float64Array, side: number): number {
-  let m = Infinity;
-  for (let i = 0; i < n; i++) {
-    for (let j = i + 1; j < n; j++) {
-      let dx = x[i] - x[j], dy = y[i] - y[j];
-      if (side > 0) {
-        dx -= side * Math.round(dx / side);
-        dy -= side * Math.round(dy / side);
-      }
-      m = Math.min(m, dx * dx + dy * dy);
-    }
-  }
-  return Math.sqrt(m);
-}
-
-function checkControls(c: EngineRunInput<PointVortexParams>["controls"]): void {
-  const bad: string[] = [];
-  if (!(c.duration > 0 && Number.isFinite(c.duration))) bad.push(`duration ${c.duration} must be > 0`);
-  if (!(c.sampleInterval > 0 && c.sampleInterval <= c.duration * (1 + 1e-12))) {
-    bad.push(`sampleInterval ${c.sampleInterval} must be > 0 and ≤ duration`);
-  }
-  if (!(c.tolerance > 0 && c.tolerance < 1)) bad.push(`tolerance ${c.tolerance} must be in (0, 1)`);
-  if (!(c.maxDistance > 0)) bad.push(`maxDistance ${c.maxDistance} must be > 0`);
-  if (bad.length > 0) throw new EngineFailure("invalid-state", `invalid run controls: ${bad.join("; ")}`, 0);
 }

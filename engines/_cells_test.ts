@@ -1,5 +1,5 @@
 import assert from "node:assert/strict";
-import { RandomStream } from "../random.ts";
+import { RandomStream } from "./random.ts";
 import { CellList } from "./_cells.ts";
 
 /** Every point within `d` of each query must be returned (brute-force comparison; common practice, no source). */
