@@ -31,6 +31,6 @@ timeStep: 0.3 # largest split-step time step, ξ²/κ
   sweep: `grid: # every combination of the listed values is one parameter point
   damping: [0, 0.01]
 `,
-  realisations: 4,
+  realisations: 20,
   run: { duration: 120, sampleInterval: 12, unit: "ξ²/κ" },
 };
