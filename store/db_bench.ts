@@ -41,6 +41,7 @@ Deno.bench(`store: ${ROWS} series rows in one realisation transaction`, () => {
     key: `k${index}`,
     pointHash: "p",
     index: index++,
+    masterSeed: "1",
     seedHex: "0",
     engineId: "e",
     engineVersion: "1",

@@ -36,6 +36,7 @@ function start(store: StudyStore, key: string, index: number): number {
     key,
     pointHash: "p1",
     index,
+    masterSeed: "1",
     seedHex: "00",
     engineId: "e",
     engineVersion: "1",

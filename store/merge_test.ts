@@ -59,6 +59,7 @@ function writeDb(
         key: r.key,
         pointHash: POINTS[r.point],
         index: r.idx,
+        masterSeed: "1",
         seedHex: "0".repeat(32),
         engineId: ENGINE.engineId,
         engineVersion,

@@ -29,15 +29,17 @@ export function studyStatus(db: DatabaseSync, studyId?: number): StudyStatus | u
       | Record<string, unknown>
       | undefined;
   if (!study) return undefined;
-  const planned = Number(
-    (JSON.parse(String(study.normalized_json)) as { realisations: number }).realisations,
-  );
+  const normalized = JSON.parse(String(study.normalized_json)) as { realisations: number; seed?: unknown };
+  const planned = Number(normalized.realisations);
+  // Realisations of this revision: its points, indices below its count, its master seed (rows of another seed
+  // at the same point belong to another revision or study).
   const rows = db.prepare(
     `SELECT sp.point_index AS i, sp.label AS label,
        SUM(r.status = 'done') AS done, SUM(r.status = 'failed') AS failed, SUM(r.status = 'running') AS running
      FROM study_points sp LEFT JOIN realisations r ON r.point_hash = sp.point_hash AND r.idx < ?
+       AND (r.master_seed = ? OR r.master_seed IS NULL)
      WHERE sp.study_id = ? GROUP BY sp.point_index ORDER BY sp.point_index`,
-  ).all(planned, Number(study.id)) as Record<string, unknown>[];
+  ).all(planned, String(normalized.seed ?? ""), Number(study.id)) as Record<string, unknown>[];
   return {
     studyId: Number(study.id),
     name: String(study.name),

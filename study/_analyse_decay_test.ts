@@ -45,6 +45,7 @@ function decayDb(chi2: number, periodic = true): string {
       key: `k${i}`,
       pointHash: "p",
       index: i,
+      masterSeed: "1",
       seedHex: "0",
       engineId: "vortex-filament-3d",
       engineVersion: "1.0.0",

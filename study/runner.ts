@@ -43,10 +43,14 @@ export interface RunOptions {
   readonly fresh?: boolean;
   /** Keep failed realisations instead of running them again. */
   readonly keepFailed?: boolean;
+  /** Run into a database created for a study of another name (see `StudyStore.recordStudy`). */
+  readonly allowOtherStudy?: boolean;
   readonly progress: Progress;
   readonly provenance: Provenance;
   /** Aborting stops dispatching, terminates workers and keeps every finished realisation. */
   readonly signal?: AbortSignal;
+  /** Lines the user should see before the run starts (a database upgrade, a stale lock taken over). */
+  readonly onNote?: (line: string) => void;
 }
 
 export interface FailureSummary {
@@ -97,8 +101,17 @@ export function taskFor(study: NormalizedStudy, r: PlannedRealisation): Realisat
   };
 }
 
-/** Records the study and its points in the store; returns the study id. */
-export function recordStudy(store: StudyStore, study: NormalizedStudy, provenance: Provenance): number {
+/**
+ * Records the study and its points in the store; returns the study id.
+ * @throws StoreError ("other-study") when the database belongs to another study and `opts.allowOtherStudy` is
+ * not set; nothing is written then.
+ */
+export function recordStudy(
+  store: StudyStore,
+  study: NormalizedStudy,
+  provenance: Provenance,
+  opts: { readonly allowOtherStudy?: boolean } = {},
+): number {
   const engine = findEngine(study.engine.id);
   const skipped = engine ? applicableObservables(study.observables.record, engine.capabilities).skipped : [];
   const controls = {
@@ -136,6 +149,7 @@ export function recordStudy(store: StudyStore, study: NormalizedStudy, provenanc
       paramsJson: canonicalJson(p.params),
       controlsJson: canonicalJson(controls),
     })),
+    { allowOtherStudy: opts.allowOtherStudy },
   );
 }
 
@@ -144,12 +158,14 @@ export async function runStudy(study: NormalizedStudy, opts: RunOptions): Promis
   const t0 = performance.now();
   const engine = findEngine(study.engine.id);
   if (!engine) throw new Error(`engine ${study.engine.id} is not registered`);
-  const store = StudyStore.open(opts.dbPath);
+  const store = StudyStore.open(opts.dbPath, { command: "run" });
   try {
+    for (const n of store.notes) opts.onNote?.(n);
+    const studyId = recordStudy(store, study, opts.provenance, { allowOtherStudy: opts.allowOtherStudy });
+    // The lock guarantees no other writer: `running` rows are what a killed run left.
     const discardedUnfinished = store.discardUnfinished();
-    const studyId = recordStudy(store, study, opts.provenance);
-    if (opts.fresh) store.deleteRealisationsOf(study.points.map((p) => p.pointHash));
     const plan = planStudy(study);
+    if (opts.fresh) store.deleteRealisations(plan.map((r) => r.key));
     const statuses = store.realisationStatuses();
     const todo = plan.filter((r) => {
       const s = statuses.get(r.key);
@@ -206,6 +222,7 @@ export function storingHooks(
         key: r.key,
         pointHash: r.pointHash,
         index: r.index,
+        masterSeed: study.seed,
         seedHex: r.seedHex,
         engineId: study.engine.id,
         engineVersion: study.engine.version,

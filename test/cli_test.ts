@@ -80,12 +80,16 @@ Deno.test("cli: a missing database gets a clear message", async () => {
 
 Deno.test("cli: a file that is not a study database gets a clear message on status, report and query", async () => {
   const path = Deno.makeTempFileSync({ suffix: ".sqlite" });
-  Deno.writeTextFileSync(path, "these are notes, not a database\n");
-  for (const args of [["status", path], ["report", path], ["query", path, "SELECT 1"]]) {
-    const r = await runCli(args);
-    assertEquals(r.code, 1, args.join(" "));
-    assert(r.stderr.includes("not a spindrift database"), r.stderr);
-    assertNoStackTrace(r.stderr);
+  try {
+    Deno.writeTextFileSync(path, "these are notes, not a database\n");
+    for (const args of [["status", path], ["report", path], ["query", path, "SELECT 1"]]) {
+      const r = await runCli(args);
+      assertEquals(r.code, 1, args.join(" "));
+      assert(r.stderr.includes("is not an SQLite database file"), r.stderr);
+      assertNoStackTrace(r.stderr);
+    }
+  } finally {
+    Deno.removeSync(path);
   }
 });
 
