@@ -1,7 +1,7 @@
 /**
  * The spindrift command line. Thin: parse arguments, call the library, map errors to exit codes.
- * Exit codes: 0 ok, 1 the work failed (bad study, failed realisations, missing database), 2 wrong usage,
- * 130 interrupted, 70 internal error.
+ * Exit codes: 0 ok, 1 the work failed (bad study, failed realisations, missing database, analysis errors),
+ * 2 wrong usage, 130 stopped by Ctrl-C (SIGINT), 143 stopped by SIGTERM, 70 internal error.
  */
 import { Argument, Command, CommanderError, Option } from "@commander-js/extra-typings";
 import { dirname, join, resolve } from "node:path";
@@ -21,6 +21,7 @@ import { openReadOnly, type QueryFormat, runQuery } from "./query.ts";
 import { type ExportFormat, exportRealisation } from "./export.ts";
 import { analyseAndReport, analyseCommand, replicateCount } from "./analyse.ts";
 import { compareCommand } from "./compare.ts";
+import { isSignalExit, SIGNAL_EXIT, withStopSignals } from "./signals.ts";
 import * as cluster from "../study/executors/mod.ts";
 
 const REPO = new URL("../", import.meta.url);
@@ -106,32 +107,27 @@ function printRunReport(r: RunReport, dbPath: string): void {
   if (r.interrupted) out("run the same command again to resume; finished realisations are kept");
 }
 
-/** Runs a study with Ctrl-C/SIGTERM handling; returns the run report. */
+/** Runs a study with Ctrl-C/SIGTERM handling; returns the run report and the exit status it calls for. */
 async function runWithSignals(
   study: NormalizedStudy,
   dbPath: string,
-  opts: { workers: number; fresh: boolean; keepFailed: boolean; quiet: boolean },
-): Promise<RunReport> {
-  const controller = new AbortController();
-  const onSignal = () => {
-    console.error("\nstopping: finished realisations are kept; rerun the same command to resume");
-    controller.abort();
-  };
-  const signals: Deno.Signal[] = ["SIGINT", "SIGTERM"];
-  for (const s of signals) Deno.addSignalListener(s, onSignal);
-  try {
-    return await runStudy(study, {
+  opts: { workers: number; fresh: boolean; keepFailed: boolean; quiet: boolean; allowOtherStudy?: boolean },
+): Promise<{ report: RunReport; exitCode: number }> {
+  const { value: report, stoppedBy } = await withStopSignals((signal) =>
+    runStudy(study, {
       dbPath,
       workers: opts.workers,
       fresh: opts.fresh,
       keepFailed: opts.keepFailed,
+      allowOtherStudy: opts.allowOtherStudy,
       progress: createProgress({ quiet: opts.quiet }),
       provenance: provenance(),
-      signal: controller.signal,
-    });
-  } finally {
-    for (const s of signals) Deno.removeSignalListener(s, onSignal);
-  }
+      signal,
+      onNote: (line) => console.error(`spindrift: ${line}`),
+    })
+  );
+  const exitCode = report.interrupted ? SIGNAL_EXIT[stoppedBy ?? "SIGINT"] : report.failed ? 1 : 0;
+  return { report, exitCode };
 }
 
 export function buildProgram(): Command {
@@ -203,6 +199,12 @@ Typical session:
     )
     .option("--fresh", "delete this study's stored realisations and start over", false)
     .option("--keep-failed", "do not rerun realisations that failed before", false)
+    .option(
+      "--allow-other-study",
+      "run into a database made for a study of another name (e.g. after renaming the study); nothing stored " +
+        "is deleted",
+      false,
+    )
     .option("-q, --quiet", "no progress output", false)
     .addOption(
       new Option("--executor <where>", "local (this machine's workers) or slurm (a job array on a cluster)")
@@ -247,15 +249,15 @@ Typical session:
         Deno.exitCode = await cluster.clusterRunCommand(study, flags, clusterEnv());
         return;
       }
-      const report = await runWithSignals(study, dbPath, {
+      const { report, exitCode } = await runWithSignals(study, dbPath, {
         workers: o.workers ?? study.run.workers ?? defaultWorkers(),
         fresh: o.fresh,
         keepFailed: o.keepFailed,
         quiet: o.quiet,
+        allowOtherStudy: o.allowOtherStudy,
       });
       printRunReport(report, dbPath);
-      if (report.interrupted) Deno.exitCode = 130;
-      else if (report.failed) Deno.exitCode = 1;
+      Deno.exitCode = exitCode;
       if (!report.interrupted) {
         out(`next: spindrift analyse ${dbPath}   (D/κ with intervals), then spindrift report ${dbPath}`);
       }
@@ -266,9 +268,14 @@ Typical session:
     .argument("<study>", "study file (YAML) submitted with 'spindrift run --executor slurm'")
     .option("--db <path>", "database file (default: <study name>.sqlite next to the study file)")
     .option("--results <dir>", "cluster results folder (default: <database name>-cluster/ beside it)")
+    .option("--allow-other-study", "collect into a database made for a study of another name", false)
     .action(async (path, o) => {
       const study = await loadNormalized(path);
-      const flags = { dbPath: o.db ?? defaultDbPath(path, study), results: o.results };
+      const flags = {
+        dbPath: o.db ?? defaultDbPath(path, study),
+        results: o.results,
+        allowOtherStudy: o.allowOtherStudy,
+      };
       Deno.exitCode = await cluster.collectCommand(study, flags, clusterEnv());
     });
 
@@ -279,7 +286,14 @@ Typical session:
     .requiredOption("--shard <file>", "shard database to write")
     .addOption(new Option("-w, --workers <n>", "realisations at once").argParser(positiveInt("--workers")))
     .action(async (manifest, o) => {
-      Deno.exitCode = await cluster.runSliceCommand(manifest, o, { write: out, provenance: provenance() });
+      // A batch system's time limit sends SIGTERM: finished realisations stay in the shard, the rest is
+      // submitted again by the next 'run --executor slurm'.
+      const { value, stoppedBy } = await withStopSignals(
+        (signal) =>
+          cluster.runSliceCommand(manifest, { ...o, signal }, { write: out, provenance: provenance() }),
+        { stopping: "stopping: the realisations in progress are left for the next submission" },
+      );
+      Deno.exitCode = stoppedBy ? SIGNAL_EXIT[stoppedBy] : value;
     });
 
   program.command("report")
@@ -322,7 +336,9 @@ Typical session:
     .option("-v, --verbose", "print progress", false)
     .action(async (dbPath, o) => {
       openReadOnly(dbPath).close();
-      for (const line of await analyseCommand(dbPath, o)) out(line);
+      const { lines, errors } = await analyseCommand(dbPath, o);
+      for (const line of lines) out(line);
+      if (errors.length > 0) Deno.exitCode = 1;
     });
 
   program.command("compare")
@@ -416,27 +432,27 @@ Typical session:
         const dbPath = join(o.out, `${study.name}.sqlite`);
         out(`${role}: ${path}`);
         out(`  ${study.description.trim().split("\n")[0]}`);
-        const report = await runWithSignals(study, dbPath, {
+        const { report, exitCode } = await runWithSignals(study, dbPath, {
           workers: o.workers ?? defaultWorkers(),
           fresh: o.fresh,
           keepFailed: false,
           quiet: false,
         });
         printRunReport(report, dbPath);
-        if (report.interrupted) Deno.exitCode = 130;
-        else if (report.failed) Deno.exitCode = 1;
+        Deno.exitCode = exitCode;
         return { dbPath, ok: !report.interrupted && report.failed === 0 };
       };
       let chi2From: string | undefined;
       if (demo.decay) {
         const decay = await runDemoStudy(demo.decay.pathname, "decay study (χ₂ calibration)");
-        if (Deno.exitCode === 130) return;
+        if (isSignalExit(Deno.exitCode)) return;
         if (decay.ok) chi2From = decay.dbPath;
       }
       const main = await runDemoStudy(demo.study.pathname, "demo study");
-      if (Deno.exitCode === 130) return;
+      if (isSignalExit(Deno.exitCode)) return;
       const res = await analyseAndReport(main.dbPath, { out: defaultReportPath(main.dbPath), chi2From });
       for (const line of res.lines.filter((l) => !l.startsWith("next:"))) out(line);
+      if (res.errors.length > 0) Deno.exitCode = 1;
       out(`report: ${res.html}`);
       out(`charts as SVG: ${res.svgDir}`);
     });
@@ -454,6 +470,9 @@ export async function main(args: string[]): Promise<void> {
   const program = buildProgram();
   try {
     await program.parseAsync(args, { from: "user" });
+    // Stopped by a signal: end now, even if a worker stuck in one long engine step has not ended yet (every
+    // finished realisation is committed; nothing is left to write).
+    if (import.meta.main && isSignalExit(Deno.exitCode)) Deno.exit(Deno.exitCode);
   } catch (e) {
     if (e instanceof CommanderError) {
       if (
@@ -462,7 +481,7 @@ export async function main(args: string[]): Promise<void> {
         Deno.exitCode = 0;
       } else Deno.exitCode = 2;
     } else if (e instanceof UserError) fail(e.message, e.hint);
-    else if (e instanceof StoreError || e instanceof StoreReadError) fail(e.message);
+    else if (e instanceof StoreError || e instanceof StoreReadError) fail(e.message, e.hint);
     else if (e instanceof cluster.ExecutorError) fail(e.message, e.hint);
     else {
       const err = e as Error;

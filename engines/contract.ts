@@ -123,6 +123,48 @@ export interface EngineRunInput<P> {
   readonly realisationIndex?: number;
   /** Folder of the study file: relative file paths in parameters resolve against it. */
   readonly baseDirectory?: string;
+  /**
+   * Set when the user may stop the run (Ctrl-C, SIGTERM, a batch system's time limit). Call
+   * `input.stop?.check()` between steps and inside any other loop that can run for long (building initial
+   * conditions, reading files); see `StopRequest`.
+   */
+  readonly stop?: StopRequest;
+}
+
+/**
+ * A request from outside to stop computing. `check()` costs one shared-memory read: call it every step (at
+ * least every ~0.1 s of work). Once a stop is requested it throws `RealisationStopped`; let it propagate (do not
+ * catch it, or catch and rethrow it). The realisation is then neither stored nor counted as failed: it is left
+ * for the next run, which computes it again from the start. Engines that start processes stop them first.
+ * The frame sink also checks at every frame, so an engine that never checks stops at its next frame.
+ */
+export interface StopRequest {
+  /** True once a stop was requested. */
+  readonly requested: boolean;
+  /** Throws `RealisationStopped` once a stop was requested. */
+  check(): void;
+}
+
+/** Thrown by `StopRequest.check` (and by engines that noticed `requested`): the run was stopped from outside. */
+export class RealisationStopped extends Error {
+  constructor(
+    message = "stopped from outside (Ctrl-C or SIGTERM); the realisation is left for the next run",
+  ) {
+    super(message);
+    this.name = "RealisationStopped";
+  }
+}
+
+/** A `StopRequest` reading `flag[0]` (non-zero: stop), typically an Int32Array on a SharedArrayBuffer. */
+export function stopRequestFromFlag(flag: Int32Array): StopRequest {
+  return {
+    get requested() {
+      return Atomics.load(flag, 0) !== 0;
+    },
+    check() {
+      if (Atomics.load(flag, 0) !== 0) throw new RealisationStopped();
+    },
+  };
 }
 
 /** Receives frames and events in time order. Throws `EngineFailure` to stop a run (e.g. NaN guard). */

@@ -248,7 +248,7 @@ async function runExternal(
   let ok = false;
   try {
     await prepareWorkFolder(inv);
-    const result = await runProgram(inv, p);
+    const result = await runProgram(inv, { ...p, stop: input.stop });
     sink.event(programRunEvent(inv, result));
     const failure = runFailure(inv, result, p, keptOnFailure);
     if (failure !== null) throw failure;

@@ -356,6 +356,7 @@ function runWithLoops(
   for (let k = 1; k <= frames; k++) {
     const tk = k * dtSample;
     while (sim.t < tk * (1 - 1e-12)) {
+      input.stop?.check();
       sim.advance(tk - sim.t);
       if (tk - sim.t < 1e-12 * tk) sim.t = tk;
     }
