@@ -11,13 +11,22 @@ import { type NormalizedStudy, normalizeStudy } from "../study/normalize.ts";
 import { type RunReport, runStudy } from "../study/runner.ts";
 import { describeFirstRealisation } from "../study/describe.ts";
 import { createProgress } from "../study/progress.ts";
-import { StoreError } from "../store/db.ts";
+import { salvageHint, StoreError } from "../store/db.ts";
+import { salvageDatabase } from "../store/salvage.ts";
+import { verifyDatabase } from "../store/verify.ts";
 import { StoreReadError } from "../store/reads.ts";
 import { studyStatus } from "../store/status.ts";
 import { writeReport } from "../reports/mod.ts";
 import { provenance, TOOL_VERSION } from "./provenance.ts";
 import { UserError } from "./errors.ts";
-import { openReadOnly, type QueryFormat, runQuery } from "./query.ts";
+import {
+  DEFAULT_MAX_ROWS,
+  DEFAULT_TIME_LIMIT_S,
+  openReadOnly,
+  type QueryFormat,
+  QueryTimeLimit,
+  runQuery,
+} from "./query.ts";
 import { type ExportFormat, exportRealisation } from "./export.ts";
 import { analyseAndReport, analyseCommand, replicateCount } from "./analyse.ts";
 import { compareCommand } from "./compare.ts";
@@ -58,6 +67,16 @@ function positiveInt(name: string) {
   };
 }
 
+function nonNegative(name: string) {
+  return (v: string): number => {
+    const n = Number(v);
+    if (v.trim() === "" || !Number.isFinite(n) || n < 0) {
+      throw new UserError(`${name} must be a number ≥ 0, got '${v}'`);
+    }
+    return n;
+  };
+}
+
 function collectValues(value: string, previous: string[] | undefined): string[] {
   return [...(previous ?? []), value];
 }
@@ -75,6 +94,9 @@ async function loadNormalized(path: string): Promise<NormalizedStudy> {
       `${path}: ${n} problem${n === 1 ? "" : "s"}\n${formatProblems(loaded.problems)}`,
       loaded.problems.every((p) => p.code === "file-unreadable")
         ? "check the path (relative paths start from the current folder)"
+        : loaded.problems.every((p) => p.code === "not-utf8")
+        ? "save the file as UTF-8 (most editors offer the encoding under 'Save as'), then run: spindrift check " +
+          path
         : "fix the lines above and run: spindrift check " + path,
     );
   }
@@ -357,8 +379,31 @@ Typical session:
     .addOption(
       new Option("-f, --format <format>", "output format").choices(["table", "csv", "json"]).default("table"),
     )
-    .action((dbPath, sql, o) => {
-      out(runQuery(dbPath, sql, o.format as QueryFormat));
+    .addOption(
+      new Option("--time-limit <seconds>", `stop the query after this long (0: no limit)`)
+        .default(DEFAULT_TIME_LIMIT_S).argParser(nonNegative("--time-limit")),
+    )
+    .addOption(
+      new Option("--max-rows <n>", "stop after this many rows").default(DEFAULT_MAX_ROWS)
+        .argParser(positiveInt("--max-rows")),
+    )
+    .action(async (dbPath, sql, o) => {
+      openReadOnly(dbPath).close();
+      try {
+        out(
+          await runQuery(dbPath, sql, o.format as QueryFormat, {
+            timeLimitSeconds: o.timeLimit,
+            maxRows: o.maxRows,
+          }),
+        );
+      } catch (e) {
+        // SQLite cannot be interrupted: the abandoned worker may still be computing, so end the process here.
+        if (e instanceof QueryTimeLimit && import.meta.main) {
+          fail(e.message, e.hint);
+          Deno.exit(1);
+        }
+        throw e;
+      }
     });
 
   program.command("export")
@@ -408,6 +453,56 @@ Typical session:
         }
       } finally {
         db.close();
+      }
+    });
+
+  program.command("verify")
+    .description("check a study database thoroughly (SQLite's full integrity check, read-only)")
+    .argument("<database>", "study database")
+    .action((dbPath) => {
+      const v = verifyDatabase(dbPath);
+      const counts = v.realisations === null
+        ? "realisations unreadable"
+        : Object.entries(v.realisations).map(([s, n]) => `${n} ${s}`).join(", ") || "no realisations";
+      if (v.problems.length === 0) {
+        out(`${dbPath}: sound (full integrity check passed; schema version ${v.version}; ${counts})`);
+        return;
+      }
+      out(`${dbPath}: DAMAGED: ${v.problems.length} problem(s) found by SQLite's integrity check:`);
+      for (const p of v.problems.slice(0, 20)) out(`  ${p}`);
+      if (v.problems.length > 20) out(`  … and ${v.problems.length - 20} more`);
+      throw new UserError(`${dbPath} is damaged`, salvageHint(dbPath));
+    });
+
+  program.command("salvage")
+    .description("copy every readable realisation of a damaged study database into a new, sound file")
+    .argument("<database>", "the damaged study database (only read)")
+    .option("-o, --out <file>", "new database to write (default: <name>-salvaged.sqlite beside it)")
+    .action((dbPath, o) => {
+      const target = o.out ?? dbPath.replace(/\.(sqlite3?|db)$/i, "") + "-salvaged.sqlite";
+      const r = salvageDatabase(dbPath, target);
+      out(
+        `salvaged ${
+          r.done + r.failed
+        } realisations (${r.done} done, ${r.failed} failed) of ${dbPath} into ${target}` +
+          ` with ${r.studies} study revision(s) and ${r.points} point(s)`,
+      );
+      if (r.unfinished) {
+        out(`  ${r.unfinished} unfinished realisation(s) left out: run the study again to compute them`);
+      }
+      for (const u of r.unreadable.slice(0, 20)) {
+        out(`  unreadable: ${u.id === null ? "" : `realisation id ${u.id}: `}${u.reason}`);
+      }
+      if (r.unreadable.length > 20) out(`  … and ${r.unreadable.length - 20} more unreadable`);
+      if (r.skippedRows) out(`  ${r.skippedRows} study, point or link row(s) could not be read`);
+      out("ensemble results are not copied: run spindrift analyse on the new file");
+      out(
+        `next: spindrift run STUDY.yaml --db ${target}   (computes what was lost), then analyse and report`,
+      );
+      if (r.targetProblems.length > 0) {
+        throw new UserError(
+          `the new file fails its integrity check: ${r.targetProblems.slice(0, 3).join("; ")}`,
+        );
       }
     });
 

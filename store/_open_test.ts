@@ -3,7 +3,7 @@ import { createHash } from "node:crypto";
 import { assert, assertEquals } from "../test/_assert.ts";
 import { StoreError, StudyStore } from "./db.ts";
 import { openStoreReadOnly, StoreReadError } from "./reads.ts";
-import { encodeFrame } from "./frame_codec.ts";
+import { damagePage, writeStudyDb } from "./_testing.ts";
 import { SCHEMA_SQL } from "./schema.ts";
 
 function fileHash(path: string): string {
@@ -21,63 +21,6 @@ function thrown(f: () => unknown): unknown {
     return e;
   }
   throw new Error("expected a throw");
-}
-
-/** A study database with `n` realisations of 20 frames of 200 objects each (a few MB, many pages). */
-export function writeStudyDb(path: string, n: number): void {
-  const store = StudyStore.open(path);
-  try {
-    store.recordStudy({
-      name: "door",
-      description: "d",
-      studyHash: "h",
-      sourcePath: null,
-      text: "name: door",
-      normalizedJson: '{"realisations":40,"seed":"1"}',
-      engineId: "e",
-      engineVersion: "1",
-      toolVersion: "t",
-      denoVersion: "d",
-      gitCommit: null,
-    }, [{
-      pointIndex: 0,
-      pointHash: "p",
-      paramsHash: "q",
-      label: "base",
-      variedJson: "{}",
-      paramsJson: "{}",
-      controlsJson: "{}",
-    }]);
-    const x = new Float64Array(200).map((_, i) => Math.sin(i));
-    for (let i = 0; i < n; i++) {
-      const id = store.beginRealisation({
-        key: `k${i}`,
-        pointHash: "p",
-        index: i,
-        masterSeed: "1",
-        seedHex: "0",
-        engineId: "e",
-        engineVersion: "1",
-        host: "h",
-      });
-      const enc = encodeFrame(200, { x: x.map((v) => v + i), y: x });
-      store.appendFrames(
-        id,
-        Array.from({ length: 20 }, (_, k) => ({ k, t: k, n: 200, layout: enc.layout, data: enc.data })),
-      );
-      const t = Array.from({ length: 20 }, (_, k) => k);
-      store.finishRealisation(id, {
-        status: "done",
-        wallSeconds: 1,
-        simTimeReached: 19,
-        scalars: { steps: i },
-        series: { msd: { t, v: t }, cluster_rms_radius: { t, v: t } },
-        events: [],
-      });
-    }
-  } finally {
-    store.close();
-  }
 }
 
 Deno.test("StudyStore.open refuses another program's SQLite file and leaves it exactly as it was", () => {
@@ -138,16 +81,7 @@ Deno.test("a damaged study database is refused at the door by writers and reader
   try {
     const path = `${dir}/film.sqlite`;
     writeStudyDb(path, 40);
-    const size = Deno.statSync(path).size;
-    const page = 4096;
-    const at = Math.floor((size * 0.4) / page) * page;
-    const noise = new Uint8Array(page);
-    let s = 12345;
-    for (let i = 0; i < page; i++) noise[i] = (s = (s * 1103515245 + 12345) >>> 0) >>> 24;
-    const f = Deno.openSync(path, { write: true });
-    f.seekSync(at, Deno.SeekMode.Start);
-    f.writeSync(noise);
-    f.close();
+    damagePage(path, 0.4);
     const before = fileHash(path);
     const w = thrown(() => StudyStore.open(path));
     assert(w instanceof StoreError && w.reason === "corrupt", String(w));
