@@ -25,8 +25,8 @@ import {
   columnUnit,
   type DataFormat,
   type Filaments3dParams,
+  fileFormat,
   PLACEHOLDER,
-  sourceFormat,
   type SourceParams,
   type Tracks2dParams,
 } from "./params.ts";
@@ -134,7 +134,8 @@ export function planRead(
     fail("the runner did not pass the realisation index, which selects this realisation's data");
   }
   const { path, filter } = fileFor(source, index ?? 0);
-  const format = sourceFormat(source) as DataFormat;
+  // The format of this realisation's own file: a list may mix formats (e.g. .csv and .h5).
+  const format = fileFormat(source, path) as DataFormat;
   const columns: MappedColumn[] = [];
   const add = (
     slot: SlotIndex,

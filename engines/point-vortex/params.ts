@@ -134,14 +134,17 @@ export const pointVortexParamsSchema = z.object({
   if (init.kind === "random-cloud") {
     const n = init.count;
     const nPlusExact = n * (1 + init.polarity) / 2;
-    if (init.polarity === 0 && n % 2 !== 0) {
+    // zod runs this refinement even when a field failed: a count that is not a whole number ≥ 1 is reported
+    // by its own rule, with nothing more to say about it here.
+    const countOk = Number.isInteger(n) && n >= 1;
+    if (countOk && init.polarity === 0 && n % 2 !== 0) {
       ctx.addIssue({
         code: "custom",
         path: ["initial", "count"],
         message:
           `count ${n} is odd: with polarity 0 the cloud has N/2 vortices of each sign, so N must be even`,
       });
-    } else if (Math.abs(nPlusExact - Math.round(nPlusExact)) > 1e-9) {
+    } else if (countOk && Math.abs(nPlusExact - Math.round(nPlusExact)) > 1e-9) {
       const allowed = Array.from({ length: Math.min(n, 8) + 1 }, (_, k) => `${(2 * k - n) / n}`).join(", ");
       ctx.addIssue({
         code: "custom",
