@@ -10,6 +10,7 @@ import { formatProblems } from "../study/problems.ts";
 import { type NormalizedStudy, normalizeStudy } from "../study/normalize.ts";
 import { type RunReport, runStudy } from "../study/runner.ts";
 import { describeFirstRealisation } from "../study/describe.ts";
+import { preflight, PreflightRefused } from "../study/preflight.ts";
 import { createProgress } from "../study/progress.ts";
 import { salvageHint, StoreError } from "../store/db.ts";
 import { salvageDatabase } from "../store/salvage.ts";
@@ -133,7 +134,14 @@ function printRunReport(r: RunReport, dbPath: string): void {
 async function runWithSignals(
   study: NormalizedStudy,
   dbPath: string,
-  opts: { workers: number; fresh: boolean; keepFailed: boolean; quiet: boolean; allowOtherStudy?: boolean },
+  opts: {
+    workers: number;
+    fresh: boolean;
+    keepFailed: boolean;
+    quiet: boolean;
+    allowOtherStudy?: boolean;
+    force?: boolean;
+  },
 ): Promise<{ report: RunReport; exitCode: number }> {
   const { value: report, stoppedBy } = await withStopSignals((signal) =>
     runStudy(study, {
@@ -142,6 +150,7 @@ async function runWithSignals(
       fresh: opts.fresh,
       keepFailed: opts.keepFailed,
       allowOtherStudy: opts.allowOtherStudy,
+      force: opts.force,
       progress: createProgress({ quiet: opts.quiet }),
       provenance: provenance(),
       signal,
@@ -206,6 +215,21 @@ Typical session:
       );
       out(`  observables: ${study.observables.record.join(", ")}`);
       for (const line of first.lines) out(`  ${line}`);
+      const v = preflight(study, {
+        dbPath: defaultDbPath(path, study),
+        workers: study.run.workers ?? defaultWorkers(),
+        force: true,
+      });
+      for (const line of v.lines) out(`  ${line}`);
+      for (const w of v.warnings) out(`  warning: ${w}`);
+      if (v.refusals.length > 0) {
+        for (const r of v.refusals) out(`  too large: ${r}`);
+        throw new UserError(
+          `${path}: 'spindrift run' would refuse this study (${v.refusals.length} hard limit` +
+            `${v.refusals.length === 1 ? "" : "s"} above)`,
+          "change the study as said above, or run it anyway with: spindrift run --force " + path,
+        );
+      }
     });
 
   program.command("run")
@@ -228,6 +252,7 @@ Typical session:
       false,
     )
     .option("-q, --quiet", "no progress output", false)
+    .option("--force", "run even when the pre-flight estimate exceeds the free disk space or memory", false)
     .addOption(
       new Option("--executor <where>", "local (this machine's workers) or slurm (a job array on a cluster)")
         .choices(["local", "slurm"]).default("local"),
@@ -267,6 +292,10 @@ Typical session:
       const study = await loadNormalized(path);
       const dbPath = o.db ?? defaultDbPath(path, study);
       if (cluster.checkExecutorOptions(o) === "slurm") {
+        // The login node plans the study and the database collects it: check the sizes here too.
+        for (const w of preflight(study, { dbPath, workers: 1, force: o.force }).warnings) {
+          console.error(`spindrift: warning: ${w}`);
+        }
         const flags = { ...o, dbPath, extraLines: o.sbatchLine, launcher: LAUNCHER };
         Deno.exitCode = await cluster.clusterRunCommand(study, flags, clusterEnv());
         return;
@@ -277,6 +306,7 @@ Typical session:
         keepFailed: o.keepFailed,
         quiet: o.quiet,
         allowOtherStudy: o.allowOtherStudy,
+        force: o.force,
       });
       printRunReport(report, dbPath);
       Deno.exitCode = exitCode;
@@ -578,7 +608,12 @@ export async function main(args: string[]): Promise<void> {
     } else if (e instanceof UserError) fail(e.message, e.hint);
     else if (e instanceof StoreError || e instanceof StoreReadError) fail(e.message, e.hint);
     else if (e instanceof cluster.ExecutorError) fail(e.message, e.hint);
-    else {
+    else if (e instanceof PreflightRefused) {
+      fail(
+        e.message,
+        "change the study as said, or run it anyway with --force (the estimate may be pessimistic)",
+      );
+    } else {
       const err = e as Error;
       fail(
         `internal error: ${err?.message ?? String(e)}`,

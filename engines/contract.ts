@@ -173,6 +173,16 @@ export interface FrameSink {
   event(event: EngineEvent): void;
 }
 
+/** What one frame of an engine holds, as far as it can be told from the parameters (see `Engine.sizeHint`). */
+export interface SizeHint {
+  /** Objects (vortices, filament points, …) in the first frame. */
+  readonly objects: number;
+  /** Most objects a frame can reach when their number grows (e.g. a point cap); default `objects`. */
+  readonly maxObjects?: number;
+  /** Warnings about the cost of these parameters (e.g. O(N²) work per step at large N), one sentence each. */
+  readonly notes?: readonly string[];
+}
+
 /** Scalars an engine reports at the end (relative invariant drifts, step counts, initial density, …). */
 export interface EngineRunSummary {
   readonly scalars: Readonly<Record<string, number>>;
@@ -208,6 +218,13 @@ export interface Engine<P = unknown> {
    * engines that read files may return a promise.
    */
   run(input: EngineRunInput<P>, sink: FrameSink): EngineRunSummary | Promise<EngineRunSummary>;
+  /**
+   * Optional: how many objects a frame of these parameters holds, for the pre-flight estimate of database size
+   * and memory that `check` and `run` make before anything runs (study/preflight.ts). Pure and fast: no files
+   * read, nothing drawn from a generator. Leave it out (or return undefined) when the count cannot be known in
+   * advance.
+   */
+  sizeHint?(params: P, controls: RunControls): SizeHint | undefined;
   /**
    * Optional: what `run(input)` would do, as lines for `spindrift check` (e.g. the exact command an external
    * program would run for this realisation). Runs and writes nothing. Throws `EngineFailure` with a clear

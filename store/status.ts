@@ -58,3 +58,21 @@ export function studyStatus(db: DatabaseSync, studyId?: number): StudyStatus | u
     }),
   };
 }
+
+/**
+ * How many of a study revision's realisations are stored `done`: those of its points under its master seed with
+ * index below `realisations` (for the pre-flight estimate of what is left to run, without planning).
+ */
+export function countDone(
+  db: DatabaseSync,
+  pointHashes: readonly string[],
+  opts: { readonly seed: string; readonly realisations: number },
+): number {
+  const stmt = db.prepare(
+    `SELECT COUNT(*) AS n FROM realisations WHERE point_hash = ? AND status = 'done' AND idx < ?
+       AND (master_seed = ? OR master_seed IS NULL)`,
+  );
+  let n = 0;
+  for (const h of pointHashes) n += Number(stmt.get(h, opts.realisations, opts.seed)?.n ?? 0);
+  return n;
+}

@@ -30,6 +30,7 @@ import { type PoolHooks, runRealisations } from "./pool.ts";
 import { StudyStore } from "../store/db.ts";
 import { canonicalJson } from "./hash.ts";
 import type { Progress } from "./progress.ts";
+import { preflight } from "./preflight.ts";
 
 export interface Provenance {
   readonly toolVersion: string;
@@ -49,8 +50,10 @@ export interface RunOptions {
   readonly provenance: Provenance;
   /** Aborting stops dispatching, terminates workers and keeps every finished realisation. */
   readonly signal?: AbortSignal;
-  /** Lines the user should see before the run starts (a database upgrade, a stale lock taken over). */
+  /** Lines the user should see before the run starts (a database upgrade, a stale lock taken over, warnings). */
   readonly onNote?: (line: string) => void;
+  /** Run even past the pre-flight's hard limits (`preflight.ts`). */
+  readonly force?: boolean;
 }
 
 export interface FailureSummary {
@@ -158,6 +161,11 @@ export async function runStudy(study: NormalizedStudy, opts: RunOptions): Promis
   const t0 = performance.now();
   const engine = findEngine(study.engine.id);
   if (!engine) throw new Error(`engine ${study.engine.id} is not registered`);
+  // Sizes first, from counts alone: a study too large for the disk or the memory is refused before the
+  // database is touched or a plan is built.
+  const verdict = preflight(study, { dbPath: opts.dbPath, workers: opts.workers, force: opts.force });
+  for (const r of verdict.refusals) opts.onNote?.(`warning (run anyway, --force): ${r}`);
+  for (const w of verdict.warnings) opts.onNote?.(`warning: ${w}`);
   const store = StudyStore.open(opts.dbPath, { command: "run" });
   try {
     for (const n of store.notes) opts.onNote?.(n);

@@ -4,7 +4,12 @@ import { assert, assertEquals } from "./_assert.ts";
 import { countWhere, digestResults, loadNormalizedForTest, REPO, runForTest } from "./_study.ts";
 
 const DENO = Deno.execPath();
-const PERMS = ["--allow-read", "--allow-write", "--allow-env", "--allow-sys=hostname"];
+const PERMS = [
+  "--allow-read",
+  "--allow-write",
+  "--allow-env",
+  "--allow-sys=hostname,statfs,systemMemoryInfo",
+];
 
 function cli(args: string[], opts: { cwd?: string } = {}): Deno.Command {
   return new Deno.Command(DENO, {

@@ -27,6 +27,7 @@
  * ```
  */
 import { EngineFailure } from "../contract.ts";
+import { filamentSizeHint } from "./size_hint.ts";
 import type { Engine, EngineRunInput, EngineRunSummary, FrameSink } from "../contract.ts";
 import { computeGeometry } from "./geometry.ts";
 import { ringConstant } from "./biot_savart.ts";
@@ -92,6 +93,7 @@ export const filamentEngine: Engine<FilamentParams> = {
     },
   },
   paramsSchema: filamentParamsSchema,
+  sizeHint: filamentSizeHint,
   run(input, sink) {
     checkControls(input.controls);
     const init = input.params.initial;

@@ -11,6 +11,7 @@
  * ```
  */
 import type { Engine } from "../contract.ts";
+import { pointVortexSizeHint } from "./size_hint.ts";
 import { type PointVortexParams, pointVortexParamsSchema } from "./params.ts";
 import { simulate } from "./simulate.ts";
 
@@ -39,6 +40,7 @@ export const pointVortexEngine: Engine<PointVortexParams> = {
     units: { length: "ℓ (the study's length unit)", time: "ℓ²/κ", circulation: "κ" },
   },
   paramsSchema: pointVortexParamsSchema,
+  sizeHint: pointVortexSizeHint,
   scales(params) {
     const l = params.lengthUnit;
     return { units: { length: l, time: l.length === 1 ? `${l}²/κ` : `(${l})²/κ`, circulation: "κ" } };
