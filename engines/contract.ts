@@ -219,6 +219,14 @@ export interface Engine<P = unknown> {
    */
   run(input: EngineRunInput<P>, sink: FrameSink): EngineRunSummary | Promise<EngineRunSummary>;
   /**
+   * Optional: the files whose contents determine the results (imported data, input templates), as the
+   * parameters name them: relative to the study file's folder, or absolute. The study's normalizer hashes their
+   * contents into the point's identity, so a file replaced under the same name gives a new point, computed
+   * again, instead of stale stored results. `realisations` is the study's count (file patterns expand per
+   * realisation).
+   */
+  inputFiles?(params: P, realisations: number): readonly string[];
+  /**
    * Optional: how many objects a frame of these parameters holds, for the pre-flight estimate of database size
    * and memory that `check` and `run` make before anything runs (study/preflight.ts). Pure and fast: no files
    * read, nothing drawn from a generator. Leave it out (or return undefined) when the count cannot be known in

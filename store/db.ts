@@ -398,6 +398,27 @@ export class StudyStore {
     setMeta.run("accepted_names", JSON.stringify([...accepted, name]));
   }
 
+  /**
+   * Earlier versions of a point whose input files changed: stored points with the same engine, parameters and
+   * run controls but other input fingerprints, that hold done realisations. Returns their fingerprints (JSON
+   * objects, path → fingerprint), most recent first.
+   */
+  earlierInputs(point: {
+    readonly pointHash: string;
+    readonly paramsHash: string;
+    readonly engineId: string;
+    readonly controlsJson: string;
+  }): Record<string, string>[] {
+    const rows = this.db.prepare(
+      `SELECT p.inputs_json FROM points p
+        WHERE p.params_hash = ? AND p.engine_id = ? AND p.controls_json = ? AND p.point_hash <> ?
+          AND p.inputs_json <> '{}'
+          AND EXISTS (SELECT 1 FROM realisations r WHERE r.point_hash = p.point_hash AND r.status = 'done')
+        ORDER BY p.created_at DESC`,
+    ).all(point.paramsHash, point.engineId, point.controlsJson, point.pointHash) as { inputs_json: string }[];
+    return rows.map((r) => JSON.parse(r.inputs_json));
+  }
+
   /** Status of every stored realisation by key (for resume). */
   realisationStatuses(): Map<string, RealisationStatus> {
     const rows = this.db.prepare("SELECT realisation_key AS key, status FROM realisations").all() as {

@@ -318,6 +318,11 @@ const capabilities3d: EngineCapabilities = {
 };
 
 /** Runs a program per realisation and imports its 2D point-vortex tracks. */
+/** The template files of the input files (their contents shape every run; the program has its `version`). */
+function templateFiles(p: ExternalParams): string[] {
+  return p.inputFiles.flatMap((f) => f.template === undefined ? [] : [f.template]);
+}
+
 export const externalProgram2dEngine: Engine<External2dParams> = {
   id: EXTERNAL_2D_ID,
   version: EXTERNAL_ENGINE_VERSION,
@@ -325,6 +330,7 @@ export const externalProgram2dEngine: Engine<External2dParams> = {
   capabilities: capabilities2d,
   paramsSchema: external2dParamsSchema,
   run: (input, sink) => runExternal(2, EXTERNAL_2D_ID, input, sink),
+  inputFiles: templateFiles,
   describeRealisation: (input) => describeExternal(2, EXTERNAL_2D_ID, input),
 };
 
@@ -337,5 +343,6 @@ export const externalProgram3dEngine: Engine<External3dParams> = {
   paramsSchema: external3dParamsSchema,
   scales: (params) => ({ coreRadius: lengthInStudyUnits(params.coreRadius, params.units, "coreRadius") }),
   run: (input, sink) => runExternal(3, EXTERNAL_3D_ID, input, sink),
+  inputFiles: templateFiles,
   describeRealisation: (input) => describeExternal(3, EXTERNAL_3D_ID, input),
 };

@@ -121,6 +121,19 @@ function fileFor(source: SourceParams, index: number): { path: string; filter: R
   return { path: file, filter: { ref: source.realisationColumn, value, param: "source.realisationColumn" } };
 }
 
+/**
+ * The data files realisations 0 … `realisations` − 1 read, relative to the study file's folder (`directory`
+ * applied) or absolute, each once: what the point's content fingerprint covers (`Engine.inputFiles`).
+ */
+export function sourceFilePaths(source: SourceParams, realisations: number): string[] {
+  const files = source.file !== undefined
+    ? [source.file]
+    : Array.isArray(source.files)
+    ? source.files.slice(0, Math.max(1, realisations))
+    : Array.from({ length: Math.max(1, realisations) }, (_, i) => expandPattern(source.files as string, i));
+  return [...new Set(files.map((f) => joinPath(source.directory, f)))];
+}
+
 /** The read plan of realisation `index` (fails clearly when the realisation has no data source). */
 export function planRead(
   params: Tracks2dParams | Filaments3dParams,
