@@ -4,8 +4,9 @@
  *
  * 1. It is a file, not empty, and starts with SQLite's 16-byte header (else "not an SQLite file").
  * 2. It opens read-only. In a folder spindrift cannot write, a database in WAL mode cannot create its `-shm`
- *    index; it is then opened as an unchanging snapshot (`immutable=1`), with a warning if a `-wal` file holds
- *    changes that this cannot see.
+ *    index; it is then read into memory as an unchanging snapshot (up to `SNAPSHOT_LIMIT` bytes; SQLite's
+ *    `immutable` URI flag would do it in place, but Deno's permission layer does not pass URIs), with a warning
+ *    if a `-wal` file holds changes that this cannot see.
  * 3. It is a spindrift study database (a `meta` table with `schema_version`) of a version this build reads.
  * 4. `PRAGMA quick_check` passes (structure of every page and record; O(file size), about 1 s per GB).
  *    A file that passed is not checked again in this process until its size or time stamp changes.
@@ -96,12 +97,31 @@ export function checkHeader(path: string): void {
   }
 }
 
-/** A file URL that opens `path` as an unchanging snapshot (no -shm, no locks). */
-function immutableUrl(path: string): URL {
-  const url = new URL("file:///");
-  url.pathname = resolve(path);
-  url.search = "?immutable=1";
-  return url;
+/** Largest database read into memory when its folder is read-only. */
+export const SNAPSHOT_LIMIT = 2 * 1024 ** 3;
+
+/**
+ * The database read into memory, unchanging (`query_only`). Bytes 18–19 of the header say "WAL" (2); an
+ * in-memory database cannot use a WAL, so the copy says "rollback journal" (1) instead (SQLite file format,
+ * §1.3.3: file format write/read version numbers). The file itself is only read.
+ */
+function memorySnapshot(path: string): DatabaseSync {
+  const size = fileInfo(path)?.size ?? 0;
+  if (size > SNAPSHOT_LIMIT) {
+    throw new DatabaseProblem(
+      "read-only",
+      `${path} is in a folder spindrift cannot write to (SQLite needs to create ${path}-shm beside a WAL ` +
+        `database), and at ${(size / 1024 ** 3).toFixed(1)} GiB it is too large to read into memory instead`,
+      "copy the database (with its -wal file, if any) to a folder you can write to",
+    );
+  }
+  const bytes = Deno.readFileSync(path);
+  if (bytes[18] === 2) bytes[18] = 1;
+  if (bytes[19] === 2) bytes[19] = 1;
+  const db = new DatabaseSync(":memory:");
+  db.deserialize(bytes);
+  db.exec("PRAGMA query_only = ON");
+  return db;
 }
 
 function isReadOnlyPlaceError(e: unknown): boolean {
@@ -137,7 +157,7 @@ export function openReadOnlyConnection(
     );
   }
   try {
-    const db = new DatabaseSync(immutableUrl(path), { readOnly: true });
+    const db = memorySnapshot(path);
     db.prepare("SELECT COUNT(*) FROM sqlite_master").get();
     return { db, immutable: true, warnings };
   } catch (e) {

@@ -198,10 +198,14 @@ export function openStoreReadOnly(path: string): DatabaseSync {
 
 /** Temporary views (in the connection's own temp schema) that show a version-1 file with version-2 columns. */
 function readAsCurrentVersion(db: DatabaseSync): void {
+  // (An in-memory snapshot of a read-only folder is query_only; temp views change no database file.)
+  const queryOnly = Number(Object.values(db.prepare("PRAGMA query_only").get() ?? {})[0] ?? 0);
+  db.exec("PRAGMA query_only = OFF");
   db.exec(`
     CREATE TEMP VIEW realisations AS SELECT *, NULL AS master_seed FROM main.realisations;
     CREATE TEMP VIEW points AS SELECT *, '{}' AS inputs_json FROM main.points;
   `);
+  if (queryOnly) db.exec("PRAGMA query_only = ON");
 }
 
 /**

@@ -290,14 +290,18 @@ export function judgeEstimate(e: StudyEstimate, r: Resources): PreflightVerdict 
   return { refusals, warnings, lines };
 }
 
-/** Realisations of `study` already stored done in the database at `dbPath` (0 when there is none yet). */
+/**
+ * Realisations of `study` already stored done in the database at `dbPath`: 0 when there is none yet, or when it
+ * cannot be read (opening it for the run then says why).
+ */
 function storedDone(study: NormalizedStudy, dbPath: string): number {
+  let db;
   try {
-    Deno.statSync(dbPath);
+    if (Deno.statSync(dbPath).size === 0) return 0;
+    db = openStoreReadOnly(dbPath);
   } catch {
     return 0;
   }
-  const db = openStoreReadOnly(dbPath);
   try {
     return countDone(db, study.points.map((p) => p.pointHash), {
       seed: study.seed,
