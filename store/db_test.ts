@@ -2,9 +2,10 @@ import { assertEquals, assertThrows } from "../test/_assert.ts";
 import { DatabaseSync } from "node:sqlite";
 import { StoreError, StudyStore } from "./db.ts";
 import { decodeFrame, encodeFrame } from "./frame_codec.ts";
+import { tempFile } from "../test/_tmp.ts";
 
 function tempDb(): string {
-  return Deno.makeTempFileSync({ suffix: ".sqlite" });
+  return tempFile(".sqlite");
 }
 
 function seedStudy(store: StudyStore): void {

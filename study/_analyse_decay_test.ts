@@ -4,10 +4,11 @@ import { filamentParamsSchema } from "../engines/filament/mod.ts";
 import { RandomStream } from "../engines/random.ts";
 import { chi2FromDecayStudy } from "./_analyse_decay.ts";
 import { AnalysisInputError } from "./analyse.ts";
+import { tempFile } from "../test/_tmp.ts";
 
 /** Writes a decay-study database whose line length follows Vinen's free decay (with 1 % noise per sample). */
 function decayDb(chi2: number, periodic = true): string {
-  const path = Deno.makeTempFileSync({ suffix: ".sqlite" });
+  const path = tempFile(".sqlite");
   const store = StudyStore.open(path);
   const params = filamentParamsSchema.parse({
     units: "dimensionless",
