@@ -13,6 +13,7 @@ import { describeFirstRealisation } from "../study/describe.ts";
 import { preflight, PreflightRefused } from "../study/preflight.ts";
 import { createProgress } from "../study/progress.ts";
 import { salvageHint, StoreError } from "../store/db.ts";
+import { describeHolder, isWriterActive, readWriterLock } from "../store/lock.ts";
 import { salvageDatabase } from "../store/salvage.ts";
 import { verifyDatabase } from "../store/verify.ts";
 import { StoreReadError } from "../store/reads.ts";
@@ -473,6 +474,8 @@ Typical session:
         const s = studyStatus(db);
         if (!s) throw new UserError(`${dbPath} holds no study yet`, "run one with: spindrift run STUDY.yaml");
         out(`study ${s.name} (last run ${s.lastRunAt ?? "never"})`);
+        const writer = isWriterActive(dbPath) ? readWriterLock(dbPath) : undefined;
+        if (writer) out(`  being written now by ${describeHolder(writer)}`);
         const w = Math.max(5, ...s.points.map((p) => p.label.length));
         out(`  ${"point".padEnd(w)}  done  failed  running  missing`);
         for (const p of s.points) {

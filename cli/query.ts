@@ -97,6 +97,16 @@ function withoutComments(sql: string): string {
 
 const HINT = "list the tables with: SELECT name FROM sqlite_master";
 
+/**
+ * SQLite's authorizer codes (sqlite3.h), read from node:sqlite's `constants`, and the authorizer hook.
+ * Deno's bundled node:sqlite types lack both (the runtime has them), so they are typed here.
+ */
+const SQL = constants as unknown as Readonly<Record<string, number>>;
+type Authorizer = (action: number, arg1: string | null) => number;
+function setAuthorizer(db: DatabaseSync, f: Authorizer | null): void {
+  (db as unknown as { setAuthorizer(f: Authorizer | null): void }).setAuthorizer(f);
+}
+
 /** Prepares one reading statement or throws a UserError saying what is wrong. */
 export function prepareQuery(db: DatabaseSync, sql: string) {
   const bare = withoutComments(sql).trim();
@@ -114,21 +124,14 @@ export function prepareQuery(db: DatabaseSync, sql: string) {
     );
   }
   const denied: string[] = [];
-  db.setAuthorizer((action: number, a1: string | null) => {
-    switch (action) {
-      case constants.SQLITE_SELECT:
-      case constants.SQLITE_READ:
-      case constants.SQLITE_FUNCTION:
-      case constants.SQLITE_RECURSIVE:
-        return constants.SQLITE_OK;
-      case constants.SQLITE_PRAGMA:
-        if (a1 !== null && READING_PRAGMAS.has(a1.toLowerCase())) return constants.SQLITE_OK;
-        denied.push(`PRAGMA ${a1}`);
-        return constants.SQLITE_DENY;
-      default:
-        denied.push(`action ${action}`);
-        return constants.SQLITE_DENY;
+  const reading = new Set([SQL.SQLITE_SELECT, SQL.SQLITE_READ, SQL.SQLITE_FUNCTION, SQL.SQLITE_RECURSIVE]);
+  setAuthorizer(db, (action, a1) => {
+    if (reading.has(action)) return SQL.SQLITE_OK;
+    if (action === SQL.SQLITE_PRAGMA && a1 !== null && READING_PRAGMAS.has(a1.toLowerCase())) {
+      return SQL.SQLITE_OK;
     }
+    denied.push(action === SQL.SQLITE_PRAGMA ? `PRAGMA ${a1}` : `action ${action}`);
+    return SQL.SQLITE_DENY;
   });
   let stmt;
   try {
@@ -143,7 +146,7 @@ export function prepareQuery(db: DatabaseSync, sql: string) {
     }
     throw new UserError(`SQL error: ${msg}`, HINT);
   } finally {
-    db.setAuthorizer(null);
+    setAuthorizer(db, null);
   }
   const first = withoutComments(stmt.sourceSQL).length;
   const rest = withoutComments(sql).slice(first).replace(/[\s;]/g, "");

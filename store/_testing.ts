@@ -1,32 +1,47 @@
-/** Test helpers for the store: a realistic study database and the damage a failing disk does to one. */
-import { StudyStore } from "./db.ts";
+/** Test helpers for the store: a study record, a realistic study database and the damage a failing disk does. */
+import { type PointRecord, type StudyRecord, StudyStore } from "./db.ts";
 import { encodeFrame } from "./frame_codec.ts";
+
+/** Records a one-point study (fields not given are placeholders); returns the study id. */
+export function recordOnePointStudy(
+  store: StudyStore,
+  study: Partial<StudyRecord> = {},
+  point: Partial<PointRecord> = {},
+): number {
+  return store.recordStudy({
+    name: "toy",
+    description: "",
+    studyHash: "h",
+    sourcePath: null,
+    text: "",
+    normalizedJson: "{}",
+    engineId: "e",
+    engineVersion: "1",
+    toolVersion: "test",
+    denoVersion: Deno.version.deno,
+    gitCommit: null,
+    ...study,
+  }, [{
+    pointIndex: 0,
+    pointHash: "p",
+    paramsHash: "q",
+    label: "base",
+    variedJson: "{}",
+    paramsJson: "{}",
+    controlsJson: "{}",
+    ...point,
+  }]);
+}
 
 /** A study database with `n` realisations of 20 frames of 200 objects each (a few MB, many pages). */
 export function writeStudyDb(path: string, n: number): void {
   const store = StudyStore.open(path);
   try {
-    store.recordStudy({
+    recordOnePointStudy(store, {
       name: "door",
-      description: "d",
-      studyHash: "h",
-      sourcePath: null,
       text: "name: door",
       normalizedJson: '{"realisations":40,"seed":"1"}',
-      engineId: "e",
-      engineVersion: "1",
-      toolVersion: "t",
-      denoVersion: "d",
-      gitCommit: null,
-    }, [{
-      pointIndex: 0,
-      pointHash: "p",
-      paramsHash: "q",
-      label: "base",
-      variedJson: "{}",
-      paramsJson: "{}",
-      controlsJson: "{}",
-    }]);
+    });
     const x = new Float64Array(200).map((_, i) => Math.sin(i));
     for (let i = 0; i < n; i++) {
       const id = store.beginRealisation({

@@ -346,9 +346,10 @@ function asUser(args: string[], home: string): Deno.Command {
     : new Deno.Command(deno[0], { args: deno.slice(1), stdout: "piped", stderr: "piped", env });
 }
 
-async function canRunAsUser(home: string): Promise<boolean> {
+/** True when the unprivileged user can run the command line and read `studyPath` (its folders let it in). */
+async function canRunAsUser(home: string, studyPath: string): Promise<boolean> {
   try {
-    const out = await asUser(["--version"], home).output();
+    const out = await asUser(["check", studyPath], home).output();
     return out.code === 0;
   } catch {
     return false;
@@ -366,7 +367,7 @@ Deno.test("a database in a read-only folder is read by status, query and report;
     Deno.mkdirSync(home);
     Deno.chmodSync(dir, 0o755);
     Deno.chmodSync(home, 0o777);
-    if (!(await canRunAsUser(home))) {
+    if (!(await canRunAsUser(home, path))) {
       console.warn("  (skipped: cannot run a command as an unprivileged user here)");
       return;
     }

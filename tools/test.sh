@@ -21,6 +21,7 @@ junit=$(mktemp)
 # Tests write their databases into a private temporary folder, removed afterwards; what they leave behind is
 # counted, so a test that forgets to clean up shows.
 scratch=$(mktemp -d "${TMPDIR:-/tmp}/spindrift-tests-XXXXXX")
+chmod 755 "$scratch" # a test runs commands as an unprivileged user on files in here
 TMPDIR="$scratch" "$DENO" test --quiet --allow-all --parallel --reporter=dot --junit-path="$junit" "$@" || status=1
 left=$(find "$scratch" -mindepth 1 -maxdepth 1 | wc -l)
 if [ "$left" -gt 0 ]; then
