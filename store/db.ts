@@ -210,6 +210,12 @@ export class StudyStore {
         throw e;
       }
       if (lock.tookOverFrom) notes.push(staleNote(path, lock.tookOverFrom));
+      if (lock.unsupported) {
+        notes.push(
+          `the file system of ${path} cannot lock files (${lock.unsupported}): spindrift cannot keep a second ` +
+            "command from writing it at the same time; run one at a time",
+        );
+      }
     }
     let db: DatabaseSync;
     try {

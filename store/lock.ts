@@ -35,6 +35,8 @@ export interface LockHolder {
 export interface WriterLock {
   /** Set when a lock file left by an ended writer was taken over: who had left it. */
   readonly tookOverFrom: LockHolder | null;
+  /** Set when the file system cannot lock files: why (one writer at a time is then not enforced). */
+  readonly unsupported?: string;
   release(): void;
 }
 
@@ -82,6 +84,8 @@ export function isWriterActive(dbPath: string): boolean {
     if (!f.tryLockSync(true)) return true;
     f.unlockSync();
     return false;
+  } catch {
+    return false; // a file system without locks: nobody can be known to hold it
   } finally {
     f.close();
   }
@@ -129,7 +133,18 @@ export function acquireWriterLock(path: string, command: string): WriterLock {
     }
     let locked = false;
     try {
-      locked = f.tryLockSync(true);
+      try {
+        locked = f.tryLockSync(true);
+      } catch (e) {
+        // A file system without locks (some network mounts): run unguarded rather than not at all, and say so.
+        f.close();
+        try {
+          Deno.removeSync(file);
+        } catch {
+          // Leave it.
+        }
+        return { tookOverFrom: null, unsupported: (e as Error).message, release: () => {} };
+      }
       if (!locked) {
         const holder = readWriterLock(path);
         throw new DatabaseProblem(

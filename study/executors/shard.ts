@@ -75,7 +75,8 @@ export async function executeSlice(
     }
     return r;
   });
-  const store = StudyStore.open(opts.shardPath, { command: "run-slice" });
+  // A shard has exactly one writer, its array task; shards may live on a network file system without locks.
+  const store = StudyStore.open(opts.shardPath, { command: "run-slice", lock: false });
   try {
     try {
       store.db.exec("PRAGMA journal_mode = DELETE");
