@@ -5,8 +5,9 @@
  *
  * @example
  * ```ts
- * const lines = await analyseCommand("runs/film.sqlite", { replicates: 2000, chi2: "0.3" });
+ * const { lines, errors } = await analyseCommand("runs/film.sqlite", { replicates: 2000, chi2: "0.3" });
  * lines.forEach((l) => console.log(l));
+ * if (errors.length > 0) Deno.exitCode = 1;
  * ```
  */
 import { chi2FromDecayStudy } from "../study/_analyse_decay.ts";
@@ -15,6 +16,8 @@ import type { EvaporationAnalysis } from "../study/_analyse_evaporation.ts";
 import type { EvaporationEstimate } from "../reports/analysis/evaporation.ts";
 import { openStoreReadOnly, readStudy, StoreReadError } from "../store/reads.ts";
 import { diffusionHeading, timeInKappaUnits, type UnitLabels } from "../engines/units.ts";
+import { StudyStore } from "../store/db.ts";
+import { PartialResultsError } from "../store/ensemble.ts";
 import { writeReport } from "../reports/mod.ts";
 import { formatNumber } from "../reports/html.ts";
 import { UserError } from "./errors.ts";
@@ -59,11 +62,45 @@ export function userFacing(e: unknown, dbPath: string): unknown {
     return new UserError(e.message, `is ${dbPath} a database written by 'spindrift run'?`);
   }
   if (e instanceof AnalysisInputError) return new UserError(e.message);
+  if (e instanceof PartialResultsError) {
+    return new UserError(
+      `${dbPath}: ${e.message}`,
+      "the stored results stay valid for the data they were computed from; fix the errors above and run " +
+        "analyse again",
+    );
+  }
   return e;
 }
 
-/** Runs the analysis and returns the lines to print (a table of D/κ per point). */
-export async function analyseCommand(dbPath: string, o: AnalyseCommandOptions): Promise<string[]> {
+/** The analyses that failed (status "error" without a value), one line each: any of them makes analyse fail. */
+export function analysisErrors(s: AnalysisSummary): string[] {
+  const out: string[] = [];
+  for (const p of s.points) {
+    const parts: [string, { status: string; reason: string | null; value?: number | null }][] = [
+      ["MSD fit", p.msd],
+      ["R_rms fit", p.radius],
+      ["Vinen fit", p.vinen],
+      ["sensitivity", p.sensitivity],
+      ["correlations", p.correlations],
+      ["evaporation", p.evaporation],
+    ];
+    for (const [what, e] of parts) {
+      if (e.status === "error" && (e.value === undefined || e.value === null)) {
+        out.push(`${p.label}: ${what}: ${e.reason ?? "error"}`);
+      }
+    }
+  }
+  return [...new Set(out)];
+}
+
+/**
+ * Runs the analysis and returns the lines to print (a table of D/κ per point) and the analyses that failed.
+ * The database's writer lock is held from start to end, so no run or collect changes the data under it.
+ */
+export async function analyseCommand(
+  dbPath: string,
+  o: AnalyseCommandOptions,
+): Promise<{ lines: string[]; errors: string[] }> {
   let summary: AnalysisSummary;
   const head: string[] = [];
   if (o.chi2 !== undefined && o.chi2From !== undefined) {
@@ -81,6 +118,7 @@ export async function analyseCommand(dbPath: string, o: AnalyseCommandOptions): 
       throw userFacing(e, o.chi2From);
     }
   }
+  const store = StudyStore.open(dbPath, { command: "analyse" });
   try {
     summary = await analyseStudy(dbPath, {
       studyId: o.study,
@@ -95,8 +133,16 @@ export async function analyseCommand(dbPath: string, o: AnalyseCommandOptions): 
     });
   } catch (e) {
     throw userFacing(e, dbPath);
+  } finally {
+    store.close();
   }
-  return [...head, ...formatSummary(summary, dbPath, studyUnits(dbPath, o.study))];
+  const errors = analysisErrors(summary);
+  const lines = [...head, ...formatSummary(summary, dbPath, studyUnits(dbPath, o.study))];
+  if (errors.length > 0) {
+    lines.push(`analysis errors (${errors.length}); the rows above marked error are stored as such:`);
+    for (const e of errors) lines.push(`  ${e}`);
+  }
+  return { lines, errors };
 }
 
 /** The units recorded with the study revision, when complete (labels D as D/κ or in m²/s). */
@@ -204,10 +250,10 @@ export function formatSummary(s: AnalysisSummary, dbPath: string, units?: UnitLa
 export async function analyseAndReport(
   dbPath: string,
   o: AnalyseCommandOptions & { readonly out?: string },
-): Promise<{ lines: string[]; html: string; svgDir: string }> {
-  const lines = await analyseCommand(dbPath, o);
+): Promise<{ lines: string[]; errors: string[]; html: string; svgDir: string }> {
+  const { lines, errors } = await analyseCommand(dbPath, o);
   const res = await writeReport(dbPath, { out: o.out, studyId: o.study });
-  return { lines, html: res.html, svgDir: res.svgDir };
+  return { lines, errors, html: res.html, svgDir: res.svgDir };
 }
 
 /** Parser of a bootstrap replicate count: 0 (no interval) or a whole number ≥ 2. */

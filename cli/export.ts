@@ -72,7 +72,7 @@ export function selectRealisation(db: DatabaseSync, sel: ExportSelection, dbPath
         `list them with: spindrift query ${dbPath} "SELECT id, point_hash, idx, status FROM realisations"`,
       );
     }
-    const row = readRealisations(db, ref.pointHash).find((r) => r.id === sel.id)!;
+    const row = readRealisations(db, ref.pointHash, { seed: null }).find((r) => r.id === sel.id)!;
     const p = points.find((q) => q.pointHash === ref.pointHash);
     return {
       ...row,
@@ -98,7 +98,7 @@ export function selectRealisation(db: DatabaseSync, sel: ExportSelection, dbPath
       `add --point with an index or a label: ${pointList(points)}`,
     );
   }
-  const rows = readRealisations(db, point.pointHash);
+  const rows = readRealisations(db, point.pointHash, { seed: study.seed });
   if (sel.index === undefined) {
     throw new UserError(
       "say which realisation: add --index (0, 1, … within the point)",

@@ -4,7 +4,8 @@
  * Frames are stored as one BLOB per frame (store/frame_codec.ts). On the connection `spindrift query` opens, this
  * module registers a function and a temporary view (nothing is written to the database file):
  *
- * - `frame_points` (view): one row per object per stored frame, with columns `realisation_id`, `point_hash`,
+ * - `frame_points` (view): one row per object per stored frame of the realisations of the latest study revision's
+ *   master seed (a point may also hold realisations of an earlier seed), with columns `realisation_id`, `point_hash`,
  *   `point` and `point_label` (the parameter point's index and label in the latest study revision), `idx`
  *   (realisation index within the point), `k` and `t` (frame index and time), `i` (position of the object in
  *   the frame), `id`, `x`, `y`, `z` (NULL in 2D), `circulation` (2D, in κ), `loop`, `marker` (3D), `label`
@@ -61,7 +62,10 @@ SELECT f.realisation_id AS realisation_id, r.point_hash AS point_hash,
   FROM frames f
   JOIN realisations r ON r.id = f.realisation_id
   LEFT JOIN study_points sp ON sp.point_hash = r.point_hash AND sp.study_id = (SELECT MAX(id) FROM studies)
-  CROSS JOIN json_each(frame_json(f.layout, f.data, f.n)) j`;
+  CROSS JOIN json_each(frame_json(f.layout, f.data, f.n)) j
+  WHERE r.master_seed IS NULL
+     OR r.master_seed = (SELECT CAST(json_extract(normalized_json, '$.seed') AS TEXT) FROM studies
+                          ORDER BY id DESC LIMIT 1)`;
 
 /** Registers `frame_json` and the `frame_points` view on `db` (works on read-only connections). */
 export function registerFrameViews(db: DatabaseSync): void {

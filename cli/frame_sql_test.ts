@@ -91,14 +91,16 @@ Deno.test("frame_points: 3D rows carry z, loop and marker", async () => {
 
 Deno.test("spindrift query: frame_points works on the read-only connection, over all frames", async () => {
   const { pv } = await fixture;
-  const all = JSON.parse(runQuery(pv, "SELECT COUNT(*) AS rows FROM frame_points", "json"));
-  const stored = JSON.parse(runQuery(pv, "SELECT SUM(n) AS rows FROM frames", "json"));
+  const all = JSON.parse(await runQuery(pv, "SELECT COUNT(*) AS rows FROM frame_points", "json"));
+  const stored = JSON.parse(await runQuery(pv, "SELECT SUM(n) AS rows FROM frames", "json"));
   assertEquals(all, stored);
-  const r2 = JSON.parse(runQuery(
-    pv,
-    "SELECT k, AVG(x*x + y*y) AS r2 FROM frame_points WHERE point = 0 AND idx = 0 GROUP BY k ORDER BY k",
-    "json",
-  )) as { k: number; r2: number }[];
+  const r2 = JSON.parse(
+    await runQuery(
+      pv,
+      "SELECT k, AVG(x*x + y*y) AS r2 FROM frame_points WHERE point = 0 AND idx = 0 GROUP BY k ORDER BY k",
+      "json",
+    ),
+  ) as { k: number; r2: number }[];
   assertEquals(r2.map((r) => r.k), [0, 1, 2, 3]);
   assert(r2.every((r) => r.r2 > 0 && r.r2 < 1), JSON.stringify(r2));
 });

@@ -1,7 +1,7 @@
 /**
  * The spindrift command line. Thin: parse arguments, call the library, map errors to exit codes.
- * Exit codes: 0 ok, 1 the work failed (bad study, failed realisations, missing database), 2 wrong usage,
- * 130 interrupted, 70 internal error.
+ * Exit codes: 0 ok, 1 the work failed (bad study, failed realisations, missing database, analysis errors),
+ * 2 wrong usage, 130 stopped by Ctrl-C (SIGINT), 143 stopped by SIGTERM, 70 internal error.
  */
 import { Argument, Command, CommanderError, Option } from "@commander-js/extra-typings";
 import { dirname, join, resolve } from "node:path";
@@ -10,16 +10,27 @@ import { formatProblems } from "../study/problems.ts";
 import { type NormalizedStudy, normalizeStudy } from "../study/normalize.ts";
 import { type RunReport, runStudy } from "../study/runner.ts";
 import { describeFirstRealisation } from "../study/describe.ts";
+import { preflight, PreflightRefused } from "../study/preflight.ts";
 import { createProgress } from "../study/progress.ts";
-import { StoreError } from "../store/db.ts";
+import { salvageHint, StoreError } from "../store/db.ts";
+import { salvageDatabase } from "../store/salvage.ts";
+import { verifyDatabase } from "../store/verify.ts";
 import { StoreReadError } from "../store/reads.ts";
 import { writeReport } from "../reports/mod.ts";
 import { provenance, TOOL_VERSION } from "./provenance.ts";
 import { UserError } from "./errors.ts";
-import { openReadOnly, type QueryFormat, runQuery } from "./query.ts";
+import {
+  DEFAULT_MAX_ROWS,
+  DEFAULT_TIME_LIMIT_S,
+  openReadOnly,
+  type QueryFormat,
+  QueryTimeLimit,
+  runQuery,
+} from "./query.ts";
 import { describeTarget, type ExportFormat, exportProvenance, exportRealisation } from "./export.ts";
 import { analyseAndReport, analyseCommand, replicateCount } from "./analyse.ts";
 import { compareCommand } from "./compare.ts";
+import { isSignalExit, SIGNAL_EXIT, withStopSignals } from "./signals.ts";
 import * as cluster from "../study/executors/mod.ts";
 import { starterEngines } from "../study/starter.ts";
 import { newStudyCommand } from "./new.ts";
@@ -73,6 +84,16 @@ function nonNegativeInt(name: string) {
   };
 }
 
+function nonNegative(name: string) {
+  return (v: string): number => {
+    const n = Number(v);
+    if (v.trim() === "" || !Number.isFinite(n) || n < 0) {
+      throw new UserError(`${name} must be a number ≥ 0, got '${v}'`);
+    }
+    return n;
+  };
+}
+
 /** Writes to the file `path` (created at the first write, so a refused export leaves no file) or stdout. */
 function lazyOutput(path: string | undefined): { write(chunk: Uint8Array): Promise<void>; close(): void } {
   let file: Deno.FsFile | null = null;
@@ -109,6 +130,9 @@ async function loadNormalized(path: string): Promise<NormalizedStudy> {
       `${path}: ${n} problem${n === 1 ? "" : "s"}\n${formatProblems(loaded.problems)}`,
       loaded.problems.every((p) => p.code === "file-unreadable")
         ? "check the path (relative paths start from the current folder)"
+        : loaded.problems.every((p) => p.code === "not-utf8")
+        ? "save the file as UTF-8 (most editors offer the encoding under 'Save as'), then run: spindrift check " +
+          path
         : "fix the lines above and run: spindrift check " + path,
     );
   }
@@ -141,32 +165,35 @@ function printRunReport(r: RunReport, dbPath: string): void {
   if (r.interrupted) out("run the same command again to resume; finished realisations are kept");
 }
 
-/** Runs a study with Ctrl-C/SIGTERM handling; returns the run report. */
+/** Runs a study with Ctrl-C/SIGTERM handling; returns the run report and the exit status it calls for. */
 async function runWithSignals(
   study: NormalizedStudy,
   dbPath: string,
-  opts: { workers: number; fresh: boolean; keepFailed: boolean; quiet: boolean },
-): Promise<RunReport> {
-  const controller = new AbortController();
-  const onSignal = () => {
-    console.error("\nstopping: finished realisations are kept; rerun the same command to resume");
-    controller.abort();
-  };
-  const signals: Deno.Signal[] = ["SIGINT", "SIGTERM"];
-  for (const s of signals) Deno.addSignalListener(s, onSignal);
-  try {
-    return await runStudy(study, {
+  opts: {
+    workers: number;
+    fresh: boolean;
+    keepFailed: boolean;
+    quiet: boolean;
+    allowOtherStudy?: boolean;
+    force?: boolean;
+  },
+): Promise<{ report: RunReport; exitCode: number }> {
+  const { value: report, stoppedBy } = await withStopSignals((signal) =>
+    runStudy(study, {
       dbPath,
       workers: opts.workers,
       fresh: opts.fresh,
       keepFailed: opts.keepFailed,
+      allowOtherStudy: opts.allowOtherStudy,
+      force: opts.force,
       progress: createProgress({ quiet: opts.quiet }),
       provenance: provenance(),
-      signal: controller.signal,
-    });
-  } finally {
-    for (const s of signals) Deno.removeSignalListener(s, onSignal);
-  }
+      signal,
+      onNote: (line) => console.error(`spindrift: ${line}`),
+    })
+  );
+  const exitCode = report.interrupted ? SIGNAL_EXIT[stoppedBy ?? "SIGINT"] : report.failed ? 1 : 0;
+  return { report, exitCode };
 }
 
 export function buildProgram(): Command {
@@ -250,6 +277,21 @@ Typical session:
       out(`  observables: ${study.observables.record.join(", ")}`);
       for (const line of describeUnits(study).lines) out(`  ${line}`);
       for (const line of first.lines) out(`  ${line}`);
+      const v = preflight(study, {
+        dbPath: defaultDbPath(path, study),
+        workers: study.run.workers ?? defaultWorkers(),
+        force: true,
+      });
+      for (const line of v.lines) out(`  ${line}`);
+      for (const w of v.warnings) out(`  warning: ${w}`);
+      if (v.refusals.length > 0) {
+        for (const r of v.refusals) out(`  too large: ${r}`);
+        throw new UserError(
+          `${path}: 'spindrift run' would refuse this study (${v.refusals.length} hard limit` +
+            `${v.refusals.length === 1 ? "" : "s"} above)`,
+          "change the study as said above, or run it anyway with: spindrift run --force " + path,
+        );
+      }
     });
 
   program.command("run")
@@ -265,7 +307,14 @@ Typical session:
     )
     .option("--fresh", "delete this study's stored realisations and start over", false)
     .option("--keep-failed", "do not rerun realisations that failed before", false)
+    .option(
+      "--allow-other-study",
+      "run into a database made for a study of another name (e.g. after renaming the study); nothing stored " +
+        "is deleted",
+      false,
+    )
     .option("-q, --quiet", "no progress output", false)
+    .option("--force", "run even when the pre-flight estimate exceeds the free disk space or memory", false)
     .option("--cluster", "submit a Slurm job array on the cluster instead of running on this machine")
     .addOption(new Option("--executor <where>", "deprecated: --executor slurm is --cluster").hideHelp())
     .optionsGroup("Cluster options (with --cluster; see README, 'Running on a cluster'):")
@@ -304,19 +353,24 @@ Typical session:
       const dbPath = o.db ?? defaultDbPath(path, study);
       if (!o.quiet) { for (const line of describeUnits(study).lines) out(line); }
       if (cluster.checkExecutorOptions(o, (l) => console.error(`spindrift: ${l}`)) === "slurm") {
+        // The login node plans the study and the database collects it: check the sizes here too.
+        for (const w of preflight(study, { dbPath, workers: 1, force: o.force }).warnings) {
+          console.error(`spindrift: warning: ${w}`);
+        }
         const flags = { ...o, dbPath, extraLines: o.sbatchLine, launcher: LAUNCHER };
         Deno.exitCode = await cluster.clusterRunCommand(study, flags, clusterEnv());
         return;
       }
-      const report = await runWithSignals(study, dbPath, {
+      const { report, exitCode } = await runWithSignals(study, dbPath, {
         workers: o.workers ?? study.run.workers ?? defaultWorkers(),
         fresh: o.fresh,
         keepFailed: o.keepFailed,
         quiet: o.quiet,
+        allowOtherStudy: o.allowOtherStudy,
+        force: o.force,
       });
       printRunReport(report, dbPath);
-      if (report.interrupted) Deno.exitCode = 130;
-      else if (report.failed) Deno.exitCode = 1;
+      Deno.exitCode = exitCode;
       if (!report.interrupted) {
         out(`next: spindrift analyse ${dbPath}   (D/κ with intervals), then spindrift report ${dbPath}`);
       }
@@ -327,9 +381,14 @@ Typical session:
     .argument("<study>", "study file (YAML) submitted with 'spindrift run --cluster'")
     .option("--db <path>", "database file (default: <study name>.sqlite next to the study file)")
     .option("--results <dir>", "cluster results folder (default: <database name>-cluster/ beside it)")
+    .option("--allow-other-study", "collect into a database made for a study of another name", false)
     .action(async (path, o) => {
       const study = await loadNormalized(path);
-      const flags = { dbPath: o.db ?? defaultDbPath(path, study), results: o.results };
+      const flags = {
+        dbPath: o.db ?? defaultDbPath(path, study),
+        results: o.results,
+        allowOtherStudy: o.allowOtherStudy,
+      };
       Deno.exitCode = await cluster.collectCommand(study, flags, clusterEnv());
     });
 
@@ -340,7 +399,14 @@ Typical session:
     .requiredOption("--shard <file>", "shard database to write")
     .addOption(new Option("-w, --workers <n>", "realisations at once").argParser(positiveInt("--workers")))
     .action(async (manifest, o) => {
-      Deno.exitCode = await cluster.runSliceCommand(manifest, o, { write: out, provenance: provenance() });
+      // A batch system's time limit sends SIGTERM: finished realisations stay in the shard, the rest is
+      // submitted again by the next 'run --executor slurm'.
+      const { value, stoppedBy } = await withStopSignals(
+        (signal) =>
+          cluster.runSliceCommand(manifest, { ...o, signal }, { write: out, provenance: provenance() }),
+        { stopping: "stopping: the realisations in progress are left for the next submission" },
+      );
+      Deno.exitCode = stoppedBy ? SIGNAL_EXIT[stoppedBy] : value;
     });
 
   program.command("report")
@@ -383,7 +449,9 @@ Typical session:
     .option("-v, --verbose", "print progress", false)
     .action(async (dbPath, o) => {
       openReadOnly(dbPath).close();
-      for (const line of await analyseCommand(dbPath, o)) out(line);
+      const { lines, errors } = await analyseCommand(dbPath, o);
+      for (const line of lines) out(line);
+      if (errors.length > 0) Deno.exitCode = 1;
     });
 
   program.command("compare")
@@ -402,8 +470,31 @@ Typical session:
     .addOption(
       new Option("-f, --format <format>", "output format").choices(["table", "csv", "json"]).default("table"),
     )
-    .action((dbPath, sql, o) => {
-      out(runQuery(dbPath, sql, o.format as QueryFormat));
+    .addOption(
+      new Option("--time-limit <seconds>", `stop the query after this long (0: no limit)`)
+        .default(DEFAULT_TIME_LIMIT_S).argParser(nonNegative("--time-limit")),
+    )
+    .addOption(
+      new Option("--max-rows <n>", "stop after this many rows").default(DEFAULT_MAX_ROWS)
+        .argParser(positiveInt("--max-rows")),
+    )
+    .action(async (dbPath, sql, o) => {
+      openReadOnly(dbPath).close();
+      try {
+        out(
+          await runQuery(dbPath, sql, o.format as QueryFormat, {
+            timeLimitSeconds: o.timeLimit,
+            maxRows: o.maxRows,
+          }),
+        );
+      } catch (e) {
+        // SQLite cannot be interrupted: the abandoned worker may still be computing, so end the process here.
+        if (e instanceof QueryTimeLimit && import.meta.main) {
+          fail(e.message, e.hint);
+          Deno.exit(1);
+        }
+        throw e;
+      }
     });
 
   program.command("export")
@@ -481,6 +572,56 @@ Typical session:
       }
     });
 
+  program.command("verify")
+    .description("check a study database thoroughly (SQLite's full integrity check, read-only)")
+    .argument("<database>", "study database")
+    .action((dbPath) => {
+      const v = verifyDatabase(dbPath);
+      const counts = v.realisations === null
+        ? "realisations unreadable"
+        : Object.entries(v.realisations).map(([s, n]) => `${n} ${s}`).join(", ") || "no realisations";
+      if (v.problems.length === 0) {
+        out(`${dbPath}: sound (full integrity check passed; schema version ${v.version}; ${counts})`);
+        return;
+      }
+      out(`${dbPath}: DAMAGED: ${v.problems.length} problem(s) found by SQLite's integrity check:`);
+      for (const p of v.problems.slice(0, 20)) out(`  ${p}`);
+      if (v.problems.length > 20) out(`  … and ${v.problems.length - 20} more`);
+      throw new UserError(`${dbPath} is damaged`, salvageHint(dbPath));
+    });
+
+  program.command("salvage")
+    .description("copy every readable realisation of a damaged study database into a new, sound file")
+    .argument("<database>", "the damaged study database (only read)")
+    .option("-o, --out <file>", "new database to write (default: <name>-salvaged.sqlite beside it)")
+    .action((dbPath, o) => {
+      const target = o.out ?? dbPath.replace(/\.(sqlite3?|db)$/i, "") + "-salvaged.sqlite";
+      const r = salvageDatabase(dbPath, target);
+      out(
+        `salvaged ${
+          r.done + r.failed
+        } realisations (${r.done} done, ${r.failed} failed) of ${dbPath} into ${target}` +
+          ` with ${r.studies} study revision(s) and ${r.points} point(s)`,
+      );
+      if (r.unfinished) {
+        out(`  ${r.unfinished} unfinished realisation(s) left out: run the study again to compute them`);
+      }
+      for (const u of r.unreadable.slice(0, 20)) {
+        out(`  unreadable: ${u.id === null ? "" : `realisation id ${u.id}: `}${u.reason}`);
+      }
+      if (r.unreadable.length > 20) out(`  … and ${r.unreadable.length - 20} more unreadable`);
+      if (r.skippedRows) out(`  ${r.skippedRows} study, point or link row(s) could not be read`);
+      out("ensemble results are not copied: run spindrift analyse on the new file");
+      out(
+        `next: spindrift run STUDY.yaml --db ${target}   (computes what was lost), then analyse and report`,
+      );
+      if (r.targetProblems.length > 0) {
+        throw new UserError(
+          `the new file fails its integrity check: ${r.targetProblems.slice(0, 3).join("; ")}`,
+        );
+      }
+    });
+
   program.command("demo")
     .description(
       "run a bundled demo study, analyse it and write its report: film-patch (2D, default: a neutral " +
@@ -508,27 +649,27 @@ Typical session:
               `${ANALYSIS_MIN_REALISATIONS} the analysis needs for trustworthy intervals; read its numbers as a demo`,
           );
         }
-        const report = await runWithSignals(study, dbPath, {
+        const { report, exitCode } = await runWithSignals(study, dbPath, {
           workers: o.workers ?? defaultWorkers(),
           fresh: o.fresh,
           keepFailed: false,
           quiet: false,
         });
         printRunReport(report, dbPath);
-        if (report.interrupted) Deno.exitCode = 130;
-        else if (report.failed) Deno.exitCode = 1;
+        Deno.exitCode = exitCode;
         return { dbPath, ok: !report.interrupted && report.failed === 0 };
       };
       let chi2From: string | undefined;
       if (demo.decay) {
         const decay = await runDemoStudy(demo.decay.pathname, "decay study (χ₂ calibration)");
-        if (Deno.exitCode === 130) return;
+        if (isSignalExit(Deno.exitCode)) return;
         if (decay.ok) chi2From = decay.dbPath;
       }
       const main = await runDemoStudy(demo.study.pathname, "demo study");
-      if (Deno.exitCode === 130) return;
+      if (isSignalExit(Deno.exitCode)) return;
       const res = await analyseAndReport(main.dbPath, { out: defaultReportPath(main.dbPath), chi2From });
       for (const line of res.lines.filter((l) => !l.startsWith("next:"))) out(line);
+      if (res.errors.length > 0) Deno.exitCode = 1;
       out(`report: ${res.html}`);
       out(`charts as SVG: ${res.svgDir}`);
     });
@@ -552,6 +693,9 @@ export async function main(args: string[]): Promise<void> {
   const program = buildProgram();
   try {
     await program.parseAsync(args, { from: "user" });
+    // Stopped by a signal: end now, even if a worker stuck in one long engine step has not ended yet (every
+    // finished realisation is committed; nothing is left to write).
+    if (import.meta.main && isSignalExit(Deno.exitCode)) Deno.exit(Deno.exitCode);
   } catch (e) {
     if (isClosedOutput(e)) {
       // The reader went away (e.g. `| head`): stop quietly, as command-line tools do.
@@ -565,9 +709,14 @@ export async function main(args: string[]): Promise<void> {
         Deno.exitCode = 0;
       } else Deno.exitCode = 2;
     } else if (e instanceof UserError) fail(e.message, e.hint);
-    else if (e instanceof StoreError || e instanceof StoreReadError) fail(e.message);
+    else if (e instanceof StoreError || e instanceof StoreReadError) fail(e.message, e.hint);
     else if (e instanceof cluster.ExecutorError) fail(e.message, e.hint);
-    else {
+    else if (e instanceof PreflightRefused) {
+      fail(
+        e.message,
+        "change the study as said, or run it anyway with --force (the estimate may be pessimistic)",
+      );
+    } else {
       const err = e as Error;
       fail(
         `internal error: ${err?.message ?? String(e)}`,

@@ -8,7 +8,7 @@
  * JSON object per line).
  *
  * ```json
- * { "database", "at", "study": { "id", "name", "lastRunAt" }, "realisationsPerPoint",
+ * { "database", "at", "study": { "id", "name", "lastRunAt" }, "realisationsPerPoint", "writer",
  *   "points": [ { "index", "label", "planned", "done", "failed", "running", "missing",
  *                 "queued"?, "uncollected"? } ],
  *   "totals": { "planned", "done", "failed", "running", "missing" },
@@ -22,6 +22,7 @@ import { type PointStatus, studyStatus } from "../store/status.ts";
 import * as cluster from "../study/executors/mod.ts";
 import { openReadOnly } from "./query.ts";
 import { UserError } from "./errors.ts";
+import { describeHolder, isWriterActive, readWriterLock } from "../store/lock.ts";
 
 /** Per-point counts as `status --json` prints them (with a cluster results folder also queued, uncollected). */
 export type StatusPoint = Omit<PointStatus, "pointIndex"> & {
@@ -36,6 +37,8 @@ export interface StatusReport {
   readonly at: string;
   readonly study: { readonly id: number; readonly name: string; readonly lastRunAt: string | null };
   readonly realisationsPerPoint: number;
+  /** The process writing the database now (command, host, pid), or null. */
+  readonly writer: string | null;
   readonly points: readonly StatusPoint[];
   readonly totals: {
     readonly planned: number;
@@ -82,11 +85,13 @@ export async function readStatus(
   }));
   const sum = (k: "planned" | "done" | "failed" | "running" | "missing") =>
     points.reduce((a, p) => a + p[k], 0);
+  const holder = isWriterActive(dbPath) ? readWriterLock(dbPath) : undefined;
   const report: StatusReport = {
     database: resolve(dbPath),
     at: new Date().toISOString(),
     study: { id: s.studyId, name: s.name, lastRunAt: s.lastRunAt },
     realisationsPerPoint: planned,
+    writer: holder ? describeHolder(holder) : null,
     points,
     totals: {
       planned: sum("planned"),
@@ -114,6 +119,7 @@ export async function readStatus(
 function localLines(r: StatusReport): string[] {
   const w = Math.max(5, ...r.points.map((p) => p.label.length));
   const out = [`study ${r.study.name} (last run ${r.study.lastRunAt ?? "never"})`];
+  if (r.writer) out.push(`  being written now by ${r.writer}`);
   out.push(`  ${"point".padEnd(w)}  done  failed  running  missing`);
   for (const p of r.points) {
     out.push(

@@ -38,7 +38,17 @@ Deno.test("status --json: per point and in total, done, failed, running and miss
   const { report, lines } = await readStatus(db, dbPath);
   db.close();
   const r = JSON.parse(JSON.stringify(report));
-  assertEquals(keys(r), ["at", "cluster", "database", "points", "realisationsPerPoint", "study", "totals"]);
+  assertEquals(keys(r), [
+    "at",
+    "cluster",
+    "database",
+    "points",
+    "realisationsPerPoint",
+    "study",
+    "totals",
+    "writer",
+  ]);
+  assertEquals(r.writer, null); // no run is writing the database
   assertEquals(keys(r.study), ["id", "lastRunAt", "name"]);
   assertEquals(r.study.name, "status-small");
   assertEquals(r.realisationsPerPoint, 3);

@@ -79,14 +79,17 @@ export function checkCloud(
   const { path, minSeparationNote } = options;
   const n = c.count;
   const nPlusExact = n * (1 + c.polarity) / 2;
-  if (c.polarity === 0 && n % 2 !== 0) {
+  // zod runs refinements even when a field failed: a count that is not a whole number ≥ 1 is reported by its
+  // own rule, with nothing more to say about it here.
+  const countOk = Number.isInteger(n) && n >= 1;
+  if (countOk && c.polarity === 0 && n % 2 !== 0) {
     ctx.addIssue({
       code: "custom",
       path: [...path, "count"],
       message:
         `count ${n} is odd: with polarity 0 the cloud has N/2 vortices of each sign, so N must be even`,
     });
-  } else if (Math.abs(nPlusExact - Math.round(nPlusExact)) > 1e-9) {
+  } else if (countOk && Math.abs(nPlusExact - Math.round(nPlusExact)) > 1e-9) {
     const allowed = Array.from({ length: Math.min(n, 8) + 1 }, (_, k) => `${(2 * k - n) / n}`).join(", ");
     ctx.addIssue({
       code: "custom",

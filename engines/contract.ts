@@ -128,6 +128,48 @@ export interface EngineRunInput<P> {
   readonly realisationIndex?: number;
   /** Folder of the study file: relative file paths in parameters resolve against it. */
   readonly baseDirectory?: string;
+  /**
+   * Set when the user may stop the run (Ctrl-C, SIGTERM, a batch system's time limit). Call
+   * `input.stop?.check()` between steps and inside any other loop that can run for long (building initial
+   * conditions, reading files); see `StopRequest`.
+   */
+  readonly stop?: StopRequest;
+}
+
+/**
+ * A request from outside to stop computing. `check()` costs one shared-memory read: call it every step (at
+ * least every ~0.1 s of work). Once a stop is requested it throws `RealisationStopped`; let it propagate (do not
+ * catch it, or catch and rethrow it). The realisation is then neither stored nor counted as failed: it is left
+ * for the next run, which computes it again from the start. Engines that start processes stop them first.
+ * The frame sink also checks at every frame, so an engine that never checks stops at its next frame.
+ */
+export interface StopRequest {
+  /** True once a stop was requested. */
+  readonly requested: boolean;
+  /** Throws `RealisationStopped` once a stop was requested. */
+  check(): void;
+}
+
+/** Thrown by `StopRequest.check` (and by engines that noticed `requested`): the run was stopped from outside. */
+export class RealisationStopped extends Error {
+  constructor(
+    message = "stopped from outside (Ctrl-C or SIGTERM); the realisation is left for the next run",
+  ) {
+    super(message);
+    this.name = "RealisationStopped";
+  }
+}
+
+/** A `StopRequest` reading `flag[0]` (non-zero: stop), typically an Int32Array on a SharedArrayBuffer. */
+export function stopRequestFromFlag(flag: Int32Array): StopRequest {
+  return {
+    get requested() {
+      return Atomics.load(flag, 0) !== 0;
+    },
+    check() {
+      if (Atomics.load(flag, 0) !== 0) throw new RealisationStopped();
+    },
+  };
 }
 
 /**
@@ -158,6 +200,18 @@ export interface FrameSink {
   event(event: EngineEvent): void;
   /** Field snapshots (optional channel; sinks that do not store images leave it out). */
   snapshot?(snapshot: FieldSnapshot): void;
+}
+
+/** What one frame of an engine holds, as far as it can be told from the parameters (see `Engine.sizeHint`). */
+export interface SizeHint {
+  /** Objects (vortices, filament points, …) in the first frame. */
+  readonly objects: number;
+  /** Most objects a frame can reach when their number grows (e.g. a point cap); default `objects`. */
+  readonly maxObjects?: number;
+  /** Warnings about the cost of these parameters (e.g. O(N²) work per step at large N), one sentence each. */
+  readonly notes?: readonly string[];
+  /** Memory of one realisation's engine state beyond the per-object estimate (e.g. a field on a grid), bytes. */
+  readonly stateBytes?: number;
 }
 
 /** Scalars an engine reports at the end (relative invariant drifts, step counts, initial density, …). */
@@ -200,6 +254,21 @@ export interface Engine<P = unknown> {
    * engines that read files may return a promise.
    */
   run(input: EngineRunInput<P>, sink: FrameSink): EngineRunSummary | Promise<EngineRunSummary>;
+  /**
+   * Optional: the files whose contents determine the results (imported data, input templates), as the
+   * parameters name them: relative to the study file's folder, or absolute. The study's normalizer hashes their
+   * contents into the point's identity, so a file replaced under the same name gives a new point, computed
+   * again, instead of stale stored results. `realisations` is the study's count (file patterns expand per
+   * realisation).
+   */
+  inputFiles?(params: P, realisations: number): readonly string[];
+  /**
+   * Optional: how many objects a frame of these parameters holds, for the pre-flight estimate of database size
+   * and memory that `check` and `run` make before anything runs (study/preflight.ts). Pure and fast: no files
+   * read, nothing drawn from a generator. Leave it out (or return undefined) when the count cannot be known in
+   * advance.
+   */
+  sizeHint?(params: P, controls: RunControls): SizeHint | undefined;
   /**
    * Optional: what `run(input)` would do, as lines for `spindrift check` (e.g. the exact command an external
    * program would run for this realisation). Runs and writes nothing. Throws `EngineFailure` with a clear

@@ -35,7 +35,8 @@ function ensembles(path: string): Ensemble[] {
   try {
     const study = readStudy(db);
     return readStudyPoints(db, study.id).map((p) => {
-      const ids = readRealisations(db, p.pointHash).filter((r) => r.status === "done").map((r) => r.id);
+      const ids = readRealisations(db, p.pointHash, { seed: study.seed }).filter((r) => r.status === "done")
+        .map((r) => r.id);
       const n = readAlignedSeries(db, ids, "object_count");
       const r = readAlignedSeries(db, ids, "cluster_rms_radius");
       const sep = db.prepare(

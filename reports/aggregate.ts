@@ -189,17 +189,17 @@ export function studyOverview(normalized: unknown): StudyOverview {
 }
 
 /**
- * Aggregates one point: its realisations (index below `planned` when given), series bands, scalars, drifts,
- * evaporated counts, events and failures.
+ * Aggregates one point: its realisations (under the study's master seed `seed`, index below `planned` when
+ * given), series bands, scalars, drifts, evaporated counts, events and failures.
  */
 export function aggregatePoint(
   db: DatabaseSync,
   point: PointRecord,
-  opts: { planned?: number | null; level?: number; series?: readonly string[] } = {},
+  opts: { seed: string | null; planned?: number | null; level?: number; series?: readonly string[] },
 ): PointAggregate {
   const level = opts.level ?? 0.95;
   const planned = opts.planned ?? null;
-  const stored = readRealisations(db, point.pointHash);
+  const stored = readRealisations(db, point.pointHash, { seed: opts.seed });
   const realisations = planned === null ? stored : stored.filter((r) => r.index < planned);
   const done = realisations.filter((r) => r.status === "done");
   const doneIds = done.map((r) => r.id);
@@ -279,7 +279,7 @@ export function aggregateStudy(
   const study = readStudy(db, { studyId: opts.studyId });
   const overview = studyOverview(study.normalized);
   const points = readStudyPoints(db, study.id).map((p) =>
-    aggregatePoint(db, p, { planned: overview.realisations, level, series: opts.series })
+    aggregatePoint(db, p, { seed: study.seed, planned: overview.realisations, level, series: opts.series })
   );
   return { study, overview, level, points, failures: points.flatMap((p) => p.failures) };
 }

@@ -33,6 +33,7 @@ function database(withSnapshots: boolean): string {
     pointHash: "cd".repeat(32),
     index: 0,
     seedHex: "0",
+    masterSeed: "1",
     engineId: "gross-pitaevskii-2d",
     engineVersion: "1.0.0",
     host: "h",

@@ -13,15 +13,44 @@
  * ```
  */
 import { DatabaseSync, type StatementSync } from "node:sqlite";
+import { dirname } from "node:path";
 import { SCHEMA_SQL, SCHEMA_VERSION } from "./schema.ts";
 import { type FieldSnapshotRow, insertFieldSnapshots } from "./snapshots.ts";
+import { DatabaseProblem, inspectDatabase, integrityProblems, type StoreProblem } from "./_open.ts";
+import { acquireWriterLock, describeHolder, type LockHolder, type WriterLock } from "./lock.ts";
+import { migrateDatabase, type MigrationReport } from "./migrate.ts";
 
-/** A problem with the database file itself (not a spindrift database, wrong version, locked, …). */
+export type { StoreProblem } from "./_open.ts";
+export { salvageHint } from "./_open.ts";
+
+/**
+ * A problem with the database file itself or its use: not a spindrift database, damaged, of a newer version,
+ * locked by another writer, in a read-only folder, or holding another study. `reason` says which (errors as
+ * data); `hint` says what to do.
+ */
 export class StoreError extends Error {
-  constructor(message: string) {
+  readonly reason: StoreProblem | "other";
+  readonly hint?: string;
+  constructor(message: string, opts: { reason?: StoreProblem; hint?: string } = {}) {
     super(message);
     this.name = "StoreError";
+    this.reason = opts.reason ?? "other";
+    this.hint = opts.hint;
   }
+}
+
+/** Options of `StudyStore.open`. */
+export interface OpenOptions {
+  /** The command that writes (shown to a second writer that is refused); default "write". */
+  readonly command?: string;
+  /** Take the single-writer lock (default true; only private files such as a salvage target skip it). */
+  readonly lock?: boolean;
+}
+
+/** Options of `StudyStore.recordStudy`. */
+export interface RecordOptions {
+  /** Accept a study whose name differs from the one the database was created for (see `recordStudy`). */
+  readonly allowOtherStudy?: boolean;
 }
 
 export interface StudyRecord {
@@ -50,12 +79,16 @@ export interface PointRecord {
   readonly variedJson: string;
   readonly paramsJson: string;
   readonly controlsJson: string;
+  /** Content fingerprints of the point's input files (path → SHA-256), as JSON; default "{}". */
+  readonly inputsJson?: string;
 }
 
 export interface RealisationStart {
   readonly key: string;
   readonly pointHash: string;
   readonly index: number;
+  /** The study's master seed (with point and index it determines the key). */
+  readonly masterSeed: string;
   readonly seedHex: string;
   readonly engineId: string;
   readonly engineVersion: string;
@@ -105,6 +138,19 @@ function nowIso(): string {
   return new Date().toISOString();
 }
 
+function staleNote(path: string, h: LockHolder): string {
+  return `the writer lock of ${path} was left by ${describeHolder(h)}, which ended without releasing it ` +
+    "(killed?); it no longer holds it";
+}
+
+function migrationNote(path: string, m: MigrationReport): string {
+  const unmatched = m.unmatchedSeeds > 0
+    ? `; ${m.unmatchedSeeds} realisation(s) match no recorded study seed and are counted as before`
+    : "";
+  return `upgraded ${path} from database schema version ${m.from} to ${m.to} (${m.realisations} ` +
+    `realisations kept)${unmatched}`;
+}
+
 /** Finite numbers as REAL, everything else (NaN, ±Inf) as NULL: SQLite has no NaN. */
 function real(v: number): number | null {
   return Number.isFinite(v) ? v : null;
@@ -117,9 +163,15 @@ export class StudyStore {
   #seriesBatch: StatementSync;
   #pendingInsert: StatementSync;
 
-  private constructor(db: DatabaseSync, path: string) {
+  #lock: WriterLock | null;
+  /** What opening did that the user should hear about (a migration, a stale lock taken over). */
+  readonly notes: readonly string[];
+
+  private constructor(db: DatabaseSync, path: string, lock: WriterLock | null, notes: string[]) {
     this.db = db;
     this.path = path;
+    this.#lock = lock;
+    this.notes = notes;
     const placeholders = Array.from({ length: ROWS_PER_INSERT }, () => "(?, ?, ?, ?, ?)").join(", ");
     this.#seriesBatch = db.prepare(
       `INSERT INTO series (realisation_id, name, k, t, value) VALUES ${placeholders}`,
@@ -129,53 +181,98 @@ export class StudyStore {
     );
   }
 
-  /** Opens (creating if needed) a study database for writing, in WAL mode, and checks its schema version. */
-  static open(path: string): StudyStore {
+  /**
+   * Opens (creating if needed) a study database for writing, in WAL mode, and takes the single-writer lock.
+   * Before anything is written the file is checked at the door (`_open.ts`): a file that is not SQLite, an SQLite
+   * file of another program, a damaged file (quick check) and a file of a newer spindrift are refused unchanged;
+   * a file of schema version 1 is upgraded in place (`migrate.ts`).
+   * @throws StoreError with a `reason` and a `hint`.
+   */
+  static open(path: string, opts: OpenOptions = {}): StudyStore {
+    let inspection;
+    try {
+      inspection = inspectDatabase(path);
+    } catch (e) {
+      if (e instanceof DatabaseProblem) throw new StoreError(e.message, { reason: e.reason, hint: e.hint });
+      throw e;
+    }
+    if (inspection?.immutable) {
+      throw new StoreError(`${path} is in a folder spindrift cannot write to; nothing was changed`, {
+        reason: "read-only",
+        hint: "copy the database to a writable folder (or give another --db path); reading commands " +
+          "(report, query, status, export) work where it is",
+      });
+    }
+    let lock: WriterLock | null = null;
+    const notes: string[] = [];
+    if (opts.lock !== false) {
+      try {
+        lock = acquireWriterLock(path, opts.command ?? "write");
+      } catch (e) {
+        if (e instanceof DatabaseProblem) throw new StoreError(e.message, { reason: e.reason, hint: e.hint });
+        throw e;
+      }
+      if (lock.tookOverFrom) notes.push(staleNote(path, lock.tookOverFrom));
+      if (lock.unsupported) {
+        notes.push(
+          `the file system of ${path} cannot lock files (${lock.unsupported}): spindrift cannot keep a second ` +
+            "command from writing it at the same time; run one at a time",
+        );
+      }
+    }
     let db: DatabaseSync;
     try {
       db = new DatabaseSync(path);
     } catch (e) {
-      throw new StoreError(`cannot open database ${path}: ${(e as Error).message}`);
+      lock?.release();
+      throw new StoreError(`cannot create or open database ${path}: ${(e as Error).message}`, {
+        reason: "read-only",
+        hint: `check that the folder ${dirname(path)} exists and that you may write in it`,
+      });
     }
     try {
       db.exec("PRAGMA busy_timeout = 10000");
       db.exec("PRAGMA journal_mode = WAL");
       db.exec("PRAGMA synchronous = NORMAL");
       db.exec("PRAGMA foreign_keys = ON");
-      const tables = db.prepare("SELECT name FROM sqlite_master WHERE type = 'table'").all() as {
-        name: string;
-      }[];
-      const hasMeta = tables.some((t) => t.name === "meta");
-      if (tables.length > 0 && !hasMeta) {
-        throw new StoreError(
-          `${path} is an SQLite file but not a spindrift study database; choose another --db path`,
-        );
+      const version = inspection?.version ?? 0;
+      if (version === 0) {
+        db.exec(SCHEMA_SQL);
+        const setMeta = db.prepare("INSERT OR IGNORE INTO meta (key, value) VALUES (?, ?)");
+        setMeta.run("schema_version", String(SCHEMA_VERSION));
+        setMeta.run("created_at", nowIso());
       }
-      if (hasMeta) {
-        const row = db.prepare("SELECT value FROM meta WHERE key = 'schema_version'").get() as
-          | { value: string }
-          | undefined;
-        if (!row || Number(row.value) !== SCHEMA_VERSION) {
-          throw new StoreError(
-            `${path} has database schema version ${row?.value ?? "unknown"}, this spindrift writes version ` +
-              `${SCHEMA_VERSION}; run the study into a new database file`,
-          );
-        }
+      if (version > 0 && version < SCHEMA_VERSION) {
+        notes.push(migrationNote(path, migrateDatabase(db, version)));
       }
       db.exec(SCHEMA_SQL);
-      db.prepare("INSERT OR IGNORE INTO meta (key, value) VALUES ('schema_version', ?)").run(
-        String(SCHEMA_VERSION),
-      );
-      return new StudyStore(db, path);
+      return new StudyStore(db, path, lock, notes);
     } catch (e) {
       db.close();
+      lock?.release();
+      if (e instanceof DatabaseProblem) throw new StoreError(e.message, { reason: e.reason, hint: e.hint });
       if (e instanceof StoreError) throw e;
-      throw new StoreError(`cannot use database ${path}: ${(e as Error).message}`);
+      const msg = (e as Error).message;
+      if (/readonly|read-only/i.test(msg)) {
+        throw new StoreError(`cannot write to ${path}: ${msg}; nothing was changed`, {
+          reason: "read-only",
+          hint: "copy the database to a writable folder, or give another --db path",
+        });
+      }
+      throw new StoreError(`cannot use database ${path}: ${msg}`);
     }
   }
 
+  /** SQLite's full integrity check (indexes against tables too; O(file size)): [] when the file is sound. */
+  integrityProblems(): string[] {
+    return integrityProblems(this.db);
+  }
+
+  /** Closes the file and releases the writer lock. */
   close(): void {
     if (this.db.isOpen) this.db.close();
+    this.#lock?.release();
+    this.#lock = null;
   }
 
   /** Runs `fn` in one transaction (BEGIN IMMEDIATE … COMMIT, ROLLBACK on error). */
@@ -194,9 +291,15 @@ export class StudyStore {
   /**
    * Records the study revision (idempotent on its hash) and its points; returns the study id.
    * Points are shared across revisions by hash, so editing a study keeps unchanged points' results.
+   *
+   * Lineage: a database belongs to the study it was created for (`meta.study_name`, set by the first study
+   * recorded). A study with another name is refused (StoreError "other-study", nothing written) unless
+   * `opts.allowOtherStudy`; its name is then accepted for good (`meta.accepted_names`). Either way nothing
+   * stored is ever deleted by recording or running another study: realisations are matched by key only.
    */
-  recordStudy(study: StudyRecord, points: readonly PointRecord[]): number {
+  recordStudy(study: StudyRecord, points: readonly PointRecord[], opts: RecordOptions = {}): number {
     return this.transaction(() => {
+      this.#checkLineage(study.name, opts.allowOtherStudy ?? false);
       const now = nowIso();
       const existing = this.db.prepare("SELECT id FROM studies WHERE study_hash = ?").get(study.studyHash) as
         | { id: number }
@@ -242,7 +345,7 @@ export class StudyStore {
       }
       const insPoint = this.db.prepare(
         `INSERT OR IGNORE INTO points (point_hash, params_hash, engine_id, engine_version, params_json,
-           controls_json, created_at) VALUES (?, ?, ?, ?, ?, ?, ?)`,
+           controls_json, created_at, inputs_json) VALUES (?, ?, ?, ?, ?, ?, ?, ?)`,
       );
       const insLink = this.db.prepare(
         `INSERT OR REPLACE INTO study_points (study_id, point_index, point_hash, label, varied_json)
@@ -257,11 +360,72 @@ export class StudyStore {
           p.paramsJson,
           p.controlsJson,
           now,
+          p.inputsJson ?? "{}",
         );
         insLink.run(id, p.pointIndex, p.pointHash, p.label, p.variedJson);
       }
       return id;
     });
+  }
+
+  /** Refuses (inside the caller's transaction) a study of another name than the database's, unless allowed. */
+  #checkLineage(name: string, allow: boolean): void {
+    const meta = (key: string) =>
+      (this.db.prepare("SELECT value FROM meta WHERE key = ?").get(key) as { value: string } | undefined)
+        ?.value;
+    const setMeta = this.db.prepare("INSERT OR REPLACE INTO meta (key, value) VALUES (?, ?)");
+    const owner = meta("study_name");
+    if (owner === undefined) {
+      setMeta.run("study_name", name);
+      return;
+    }
+    if (owner === name) return;
+    let accepted: string[] = [];
+    try {
+      const parsed = JSON.parse(meta("accepted_names") ?? "[]");
+      if (Array.isArray(parsed)) accepted = parsed.map(String);
+    } catch {
+      // An unreadable list accepts nothing more.
+    }
+    if (accepted.includes(name)) return;
+    if (!allow) {
+      const created = meta("created_at");
+      throw new StoreError(
+        `${this.path} belongs to study '${owner}'${
+          created ? ` (created ${created})` : ""
+        }, not to '${name}'; ` +
+          "nothing was changed",
+        {
+          reason: "other-study",
+          hint:
+            `run '${name}' into its own database (leave out --db, or give --db ${name}.sqlite); if it is ` +
+            `a renamed revision of '${owner}', or both belong in one file, add --allow-other-study (nothing ` +
+            "stored is deleted either way)",
+        },
+      );
+    }
+    setMeta.run("accepted_names", JSON.stringify([...accepted, name]));
+  }
+
+  /**
+   * Earlier versions of a point whose input files changed: stored points with the same engine, parameters and
+   * run controls but other input fingerprints, that hold done realisations. Returns their fingerprints (JSON
+   * objects, path → fingerprint), most recent first.
+   */
+  earlierInputs(point: {
+    readonly pointHash: string;
+    readonly paramsHash: string;
+    readonly engineId: string;
+    readonly controlsJson: string;
+  }): Record<string, string>[] {
+    const rows = this.db.prepare(
+      `SELECT p.inputs_json FROM points p
+        WHERE p.params_hash = ? AND p.engine_id = ? AND p.controls_json = ? AND p.point_hash <> ?
+          AND p.inputs_json <> '{}'
+          AND EXISTS (SELECT 1 FROM realisations r WHERE r.point_hash = p.point_hash AND r.status = 'done')
+        ORDER BY p.created_at DESC`,
+    ).all(point.paramsHash, point.engineId, point.controlsJson, point.pointHash) as { inputs_json: string }[];
+    return rows.map((r) => JSON.parse(r.inputs_json));
   }
 
   /** Status of every stored realisation by key (for resume). */
@@ -285,25 +449,37 @@ export class StudyStore {
     });
   }
 
-  /** Deletes every realisation (and its data) of the given points: `--fresh`. */
-  deleteRealisationsOf(pointHashes: readonly string[]): number {
+  /** Deletes the realisations (and their data) with these keys: `--fresh`. Returns how many were stored. */
+  deleteRealisations(keys: Iterable<string>): number {
     return this.transaction(() => {
-      const del = this.db.prepare("DELETE FROM realisations WHERE point_hash = ?");
+      const del = this.db.prepare("DELETE FROM realisations WHERE realisation_key = ?");
       let n = 0;
-      for (const h of pointHashes) n += Number(del.run(h).changes);
+      for (const k of keys) n += Number(del.run(k).changes);
       return n;
     });
   }
 
-  /** Marks a realisation as running (replacing an earlier failed attempt); returns its row id. */
+  /**
+   * Marks a realisation as running (replacing an earlier attempt of the same key, failed or left running);
+   * returns its row id. Rows of other keys — the same point and index under another master seed — stay.
+   */
   beginRealisation(r: RealisationStart): number {
     return this.transaction(() => {
-      this.db.prepare("DELETE FROM realisations WHERE realisation_key = ? OR (point_hash = ? AND idx = ?)")
-        .run(r.key, r.pointHash, r.index);
+      this.db.prepare("DELETE FROM realisations WHERE realisation_key = ?").run(r.key);
       const res = this.db.prepare(
-        `INSERT INTO realisations (realisation_key, point_hash, idx, seed, status, engine_id, engine_version,
-           started_at, host) VALUES (?, ?, ?, ?, 'running', ?, ?, ?, ?)`,
-      ).run(r.key, r.pointHash, r.index, r.seedHex, r.engineId, r.engineVersion, nowIso(), r.host);
+        `INSERT INTO realisations (realisation_key, point_hash, idx, master_seed, seed, status, engine_id,
+           engine_version, started_at, host) VALUES (?, ?, ?, ?, ?, 'running', ?, ?, ?, ?)`,
+      ).run(
+        r.key,
+        r.pointHash,
+        r.index,
+        r.masterSeed,
+        r.seedHex,
+        r.engineId,
+        r.engineVersion,
+        nowIso(),
+        r.host,
+      );
       return Number(res.lastInsertRowid);
     });
   }

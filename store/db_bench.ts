@@ -3,32 +3,13 @@
  * multi-row INSERTs). Run: deno bench -A store/db_bench.ts  (rows/s = 200 000 / time per iteration).
  */
 import { StudyStore } from "./db.ts";
+import { recordOnePointStudy } from "./_testing.ts";
 
 const ROWS = 200_000;
 const SERIES = 20;
 const path = Deno.makeTempFileSync({ suffix: ".sqlite" });
 const store = StudyStore.open(path);
-store.recordStudy({
-  name: "bench",
-  description: "",
-  studyHash: "bench",
-  sourcePath: null,
-  text: "",
-  normalizedJson: "{}",
-  engineId: "e",
-  engineVersion: "1",
-  toolVersion: "0",
-  denoVersion: Deno.version.deno,
-  gitCommit: null,
-}, [{
-  pointIndex: 0,
-  pointHash: "p",
-  paramsHash: "q",
-  label: "base",
-  variedJson: "{}",
-  paramsJson: "{}",
-  controlsJson: "{}",
-}]);
+recordOnePointStudy(store, { name: "bench", studyHash: "bench" });
 const perSeries = ROWS / SERIES;
 const t = Float64Array.from({ length: perSeries }, (_, k) => k * 0.01);
 const series = Object.fromEntries(
@@ -41,6 +22,7 @@ Deno.bench(`store: ${ROWS} series rows in one realisation transaction`, () => {
     key: `k${index}`,
     pointHash: "p",
     index: index++,
+    masterSeed: "1",
     seedHex: "0",
     engineId: "e",
     engineVersion: "1",

@@ -2,9 +2,10 @@ import { assertEquals, assertThrows } from "../test/_assert.ts";
 import { DatabaseSync } from "node:sqlite";
 import { StoreError, StudyStore } from "./db.ts";
 import { decodeFrame, encodeFrame } from "./frame_codec.ts";
+import { tempFile } from "../test/_tmp.ts";
 
 function tempDb(): string {
-  return Deno.makeTempFileSync({ suffix: ".sqlite" });
+  return tempFile(".sqlite");
 }
 
 function seedStudy(store: StudyStore): void {
@@ -36,6 +37,7 @@ function start(store: StudyStore, key: string, index: number): number {
     key,
     pointHash: "p1",
     index,
+    masterSeed: "1",
     seedHex: "00",
     engineId: "e",
     engineVersion: "1",

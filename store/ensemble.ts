@@ -8,6 +8,11 @@
  * never leaves a mixture of old and new rows. NaN and ±∞ are stored as NULL (SQLite has no NaN); inside
  * `detail_json` they become `null` (JSON has none either).
  *
+ * Good results are never replaced by partial ones: when a stored row with a value would be dropped, or replaced
+ * by an error row (`detail.status` "error" and no value: the computation failed), nothing is written and
+ * `PartialResultsError` lists what would have been lost. Rows whose analysis was skipped or is not available
+ * (any other status) replace stored values as usual.
+ *
  * @example
  * ```ts
  * const store = StudyStore.open("film.sqlite");
@@ -51,6 +56,47 @@ export interface EnsembleResult {
   readonly computedAt: string;
 }
 
+/** A write refused because it would replace stored values by errors or drop them; nothing was written. */
+export class PartialResultsError extends Error {
+  /** "analysis/name at point <hash prefix>: <what the new run says>", one per stored value that would be lost. */
+  readonly lost: readonly string[];
+  constructor(lost: readonly string[]) {
+    super(
+      `the new analysis would replace ${lost.length} stored result${lost.length === 1 ? "" : "s"} with ` +
+        `errors or nothing (${lost.slice(0, 3).join("; ")}${lost.length > 3 ? "; …" : ""}); the stored ` +
+        "results were kept",
+    );
+    this.name = "PartialResultsError";
+    this.lost = lost;
+  }
+}
+
+function isErrorRow(r: EnsembleResultInput): boolean {
+  return r.detail?.status === "error" && !(typeof r.value === "number" && Number.isFinite(r.value));
+}
+
+/** Stored values (of the analyses being replaced) that `rows` would drop or turn into errors. */
+function lostValues(
+  db: DatabaseSync,
+  studyId: number,
+  rows: readonly EnsembleResultInput[],
+  analyses: readonly string[] | undefined,
+): string[] {
+  const incoming = new Map(rows.map((r) => [`${r.pointHash}\0${r.analysis}\0${r.name}`, r]));
+  const lost: string[] = [];
+  const stored = db.prepare(
+    "SELECT point_hash, analysis, name FROM ensemble_results WHERE study_id = ? AND value IS NOT NULL",
+  ).all(studyId) as { point_hash: string; analysis: string; name: string }[];
+  for (const s of stored) {
+    if (analyses !== undefined && !analyses.includes(s.analysis)) continue;
+    const r = incoming.get(`${s.point_hash}\0${s.analysis}\0${s.name}`);
+    const where = `${s.analysis}/${s.name} at point ${s.point_hash.slice(0, 8)}`;
+    if (r === undefined) lost.push(`${where}: not computed`);
+    else if (isErrorRow(r)) lost.push(`${where}: ${String(r.detail?.reason ?? "error")}`);
+  }
+  return lost;
+}
+
 /** Finite numbers as REAL, everything else as NULL. */
 function real(v: number | null | undefined): number | null {
   return typeof v === "number" && Number.isFinite(v) ? v : null;
@@ -59,6 +105,7 @@ function real(v: number | null | undefined): number | null {
 /**
  * Replaces the ensemble results of a study revision in one transaction: deletes its rows (all of them, or
  * only those of `opts.analyses`) and inserts `rows`. Returns the number of rows written.
+ * @throws PartialResultsError (nothing written) when stored values would be dropped or replaced by errors.
  *
  * @example
  * ```ts
@@ -74,6 +121,8 @@ export function replaceEnsembleResults(
   const now = opts.computedAt ?? new Date().toISOString();
   return store.transaction(() => {
     const db = store.db;
+    const lost = lostValues(db, studyId, rows, opts.analyses);
+    if (lost.length > 0) throw new PartialResultsError(lost);
     if (opts.analyses === undefined) {
       db.prepare("DELETE FROM ensemble_results WHERE study_id = ?").run(studyId);
     } else {

@@ -1,6 +1,11 @@
 import { assert, assertEquals } from "../test/_assert.ts";
 import { StudyStore } from "./db.ts";
-import { countEnsembleResults, readEnsembleResults, replaceEnsembleResults } from "./ensemble.ts";
+import {
+  countEnsembleResults,
+  PartialResultsError,
+  readEnsembleResults,
+  replaceEnsembleResults,
+} from "./ensemble.ts";
 import { openStoreReadOnly } from "./reads.ts";
 
 function freshStore(dir: string): { store: StudyStore; studyId: number } {
@@ -92,15 +97,76 @@ Deno.test("replaceEnsembleResults: a rerun replaces the study's rows; `analyses`
       row("msd-fit", "tau_c", 2),
       row("vinen", "D", 3),
     ]);
-    replaceEnsembleResults(store, studyId, [row("msd-fit", "D", 10)]);
+    // A skipped analysis (a row with another status and no value) replaces a stored value.
+    replaceEnsembleResults(store, studyId, [
+      row("msd-fit", "D", 10),
+      row("msd-fit", "tau_c", 20),
+      { pointHash: "pa", analysis: "vinen", name: "D", value: null, detail: { status: "not-available" } },
+    ]);
     let all = readEnsembleResults(store.db, studyId);
-    assertEquals(all.map((r) => [r.analysis, r.name, r.value]), [["msd-fit", "D", 10]]);
+    assertEquals(all.map((r) => [r.analysis, r.name, r.value]), [
+      ["msd-fit", "D", 10],
+      ["msd-fit", "tau_c", 20],
+      ["vinen", "D", null],
+    ]);
     replaceEnsembleResults(store, studyId, [row("vinen", "D", 30)], { analyses: ["vinen"] });
     all = readEnsembleResults(store.db, studyId);
-    assertEquals(all.map((r) => [r.analysis, r.name, r.value]), [["msd-fit", "D", 10], ["vinen", "D", 30]]);
+    assertEquals(all.map((r) => [r.analysis, r.name, r.value]), [
+      ["msd-fit", "D", 10],
+      ["msd-fit", "tau_c", 20],
+      ["vinen", "D", 30],
+    ]);
     assert(
       readEnsembleResults(store.db, studyId, { analysis: "vinen" }).every((r) => r.analysis === "vinen"),
     );
+  } finally {
+    store.close();
+    Deno.removeSync(dir, { recursive: true });
+  }
+});
+
+// The guard of issue "never replace good results with partial ones": a rerun in which an analysis failed (an
+// error row without value) or left a stored value out writes nothing. Common practice, no source.
+Deno.test("replaceEnsembleResults: stored values are never replaced by errors or dropped; nothing is written", () => {
+  const dir = Deno.makeTempDirSync();
+  const { store, studyId } = freshStore(dir);
+  try {
+    const good = [
+      { pointHash: "pa", analysis: "msd-fit", name: "D", value: 1 },
+      { pointHash: "pa", analysis: "msd-fit", name: "tau_c", value: 2 },
+      { pointHash: "pb", analysis: "msd-fit", name: "D", value: 3 },
+    ];
+    replaceEnsembleResults(store, studyId, good, { computedAt: "2026-01-01T00:00:00Z" });
+    const partial = [
+      {
+        pointHash: "pa",
+        analysis: "msd-fit",
+        name: "D",
+        value: null,
+        detail: { status: "error", reason: "database disk image is malformed" },
+      },
+      { pointHash: "pb", analysis: "msd-fit", name: "D", value: 3.5 },
+    ];
+    let error: unknown;
+    try {
+      replaceEnsembleResults(store, studyId, partial);
+    } catch (e) {
+      error = e;
+    }
+    assert(error instanceof PartialResultsError, String(error));
+    assertEquals(error.lost.length, 2);
+    assert(
+      error.lost.some((l) => l.includes("msd-fit/D at point pa") && l.includes("malformed")),
+      error.message,
+    );
+    assert(error.lost.some((l) => l.includes("msd-fit/tau_c at point pa: not computed")), error.message);
+    const after = readEnsembleResults(store.db, studyId);
+    assertEquals(after.map((r) => [r.pointHash, r.name, r.value]), [["pa", "D", 1], ["pa", "tau_c", 2], [
+      "pb",
+      "D",
+      3,
+    ]]);
+    assert(after.every((r) => r.computedAt === "2026-01-01T00:00:00Z"));
   } finally {
     store.close();
     Deno.removeSync(dir, { recursive: true });

@@ -33,6 +33,7 @@ import { join } from "node:path";
 import { SCHEMA_VERSION } from "./schema.ts";
 import type { StudyStore } from "./db.ts";
 import { FIELD_SNAPSHOT_COLUMNS, hasTable as hasSnapshotTable } from "./snapshots.ts";
+import { migrateDatabase } from "./migrate.ts";
 
 /** What a shard must belong to. */
 export interface ShardExpectation {
@@ -74,12 +75,12 @@ export class ShardRejected extends Error {
 }
 
 const REALISATION_COLUMNS =
-  "realisation_key, point_hash, idx, seed, status, failure_kind, error, engine_id, " +
+  "realisation_key, point_hash, idx, master_seed, seed, status, failure_kind, error, engine_id, " +
   "engine_version, started_at, finished_at, wall_seconds, sim_time_reached, frame_count, host";
 const STUDY_COLUMNS = "name, description, study_hash, source_path, text, normalized_json, engine_id, " +
   "engine_version, tool_version, deno_version, git_commit, notes_json, units_json, created_at, last_run_at";
 const POINT_COLUMNS =
-  "point_hash, params_hash, engine_id, engine_version, params_json, controls_json, created_at";
+  "point_hash, params_hash, engine_id, engine_version, params_json, controls_json, created_at, inputs_json";
 
 /** Copies the shard into a temporary file with the online backup; the caller removes `dir`. */
 async function snapshot(shardPath: string): Promise<{ dir: string; path: string }> {
@@ -149,7 +150,10 @@ function checkSnapshot(shardPath: string, snapshotPath: string, expect: ShardExp
     const version = db.prepare("SELECT value FROM meta WHERE key = 'schema_version'").get() as
       | { value: string }
       | undefined;
-    if (Number(version?.value) !== SCHEMA_VERSION) {
+    // A shard of the previous schema version (a task that started before spindrift was updated) is upgraded:
+    // the snapshot is a private copy, so this never touches the shard itself.
+    if (Number(version?.value) === 1) migrateDatabase(db, 1);
+    else if (Number(version?.value) !== SCHEMA_VERSION) {
       return reject(
         "schema-version",
         `the shard has database schema version ${version?.value ?? "unknown"}, this spindrift uses ` +
@@ -281,9 +285,7 @@ function copyAll(src: DatabaseSync, dst: DatabaseSync, shardPath: string): Merge
   const rows = src.prepare(`SELECT id, ${REALISATION_COLUMNS} FROM realisations ORDER BY realisation_key`)
     .all() as Row[];
   const stored = dst.prepare("SELECT status FROM realisations WHERE realisation_key = ?");
-  const remove = dst.prepare(
-    "DELETE FROM realisations WHERE realisation_key = ? OR (point_hash = ? AND idx = ?)",
-  );
+  const remove = dst.prepare("DELETE FROM realisations WHERE realisation_key = ?");
   const insert = dst.prepare(
     `INSERT INTO realisations (${REALISATION_COLUMNS}) VALUES (${placeholders(realisationCols.length)})`,
   );
@@ -312,7 +314,7 @@ function copyAll(src: DatabaseSync, dst: DatabaseSync, shardPath: string): Merge
       alreadyStored++;
       continue;
     }
-    remove.run(r.realisation_key, r.point_hash, r.idx);
+    remove.run(r.realisation_key);
     const newId = Number(insert.run(...realisationCols.map((c) => r[c])).lastInsertRowid);
     for (const c of children) {
       insertAll(dst, c.sql, c.columns, c.select.iterate(r.id), { realisation_id: newId });

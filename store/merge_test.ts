@@ -3,6 +3,7 @@ import { createHash } from "node:crypto";
 import { assert, assertEquals } from "../test/_assert.ts";
 import { StudyStore } from "./db.ts";
 import { mergeShard, ShardRejected } from "./merge.ts";
+import { tempDir } from "../test/_tmp.ts";
 
 const ENGINE = { engineId: "toy-2d", engineVersion: "1.0.0" };
 const STUDY_HASH = "aa".repeat(32);
@@ -59,6 +60,7 @@ function writeDb(
         key: r.key,
         pointHash: POINTS[r.point],
         index: r.idx,
+        masterSeed: "1",
         seedHex: "0".repeat(32),
         engineId: ENGINE.engineId,
         engineVersion,
@@ -115,7 +117,7 @@ function fileHash(path: string): string {
 }
 
 function tmp(): string {
-  return Deno.makeTempDirSync({ prefix: "spindrift-merge-" });
+  return tempDir("spindrift-merge-");
 }
 
 const EXPECT = { studyHash: STUDY_HASH, ...ENGINE };

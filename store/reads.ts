@@ -14,20 +14,35 @@
  * const db = openStoreReadOnly("film-patch.sqlite");
  * const study = readStudy(db);                       // latest revision
  * const points = readStudyPoints(db, study.id);
- * const runs = readRealisations(db, points[0].pointHash);
+ * const runs = readRealisations(db, points[0].pointHash, { seed: study.seed });
  * const done = runs.filter((r) => r.status === "done").map((r) => r.id);
  * const msd = readAlignedSeries(db, done, "msd");    // msd.values[i][j] ↔ realisation done[i], frame msd.k[j]
  * db.close();
  * ```
  */
-import { DatabaseSync, type SQLOutputValue, type StatementSync } from "node:sqlite";
+import type { DatabaseSync, SQLOutputValue, StatementSync } from "node:sqlite";
 import { SCHEMA_VERSION } from "./schema.ts";
+import {
+  checkHeader,
+  DatabaseProblem,
+  openReadOnlyConnection,
+  quickCheck,
+  schemaVersion,
+  type StoreProblem,
+} from "./_open.ts";
 
-/** A database that cannot be read as a spindrift study database (missing file, wrong format or version). */
+/**
+ * A database that cannot be read as a spindrift study database (missing file, not SQLite, another program's
+ * database, a newer version, damaged). `reason` says which; `hint` what to do.
+ */
 export class StoreReadError extends Error {
-  constructor(message: string) {
+  readonly reason: StoreProblem | "other";
+  readonly hint?: string;
+  constructor(message: string, opts: { reason?: StoreProblem; hint?: string } = {}) {
     super(message);
     this.name = "StoreReadError";
+    this.reason = opts.reason ?? "other";
+    this.hint = opts.hint;
   }
 }
 
@@ -40,6 +55,8 @@ export interface StudyRecord {
   readonly name: string;
   readonly description: string;
   readonly studyHash: string;
+  /** The master seed (as text); its realisations are those stored with this seed. */
+  readonly seed: string | null;
   readonly sourcePath: string | null;
   /** The study file text exactly as it was run. */
   readonly text: string;
@@ -80,6 +97,8 @@ export interface PointRecord {
   readonly params: unknown;
   /** Run controls and observable settings (parsed `controls_json`). */
   readonly controls: unknown;
+  /** Content fingerprints of the point's input files (path → SHA-256); empty for engines that read none. */
+  readonly inputs: Readonly<Record<string, string>>;
   readonly engineId: string;
   readonly engineVersion: string;
 }
@@ -121,8 +140,11 @@ export interface AlignedSeries {
 }
 
 /**
- * Opens a study database read-only and checks that it is one: the file exists, is SQLite, has the `meta`
- * table and the `schema_version` this code reads. Throws `StoreReadError` with a message for the user.
+ * Opens a study database read-only and checks it at the door (`_open.ts`): the file exists, is SQLite, is a
+ * spindrift database of a version this code reads, and passes SQLite's quick check. In a read-only folder it
+ * is opened as an unchanging snapshot. Nothing is written to the file. Files of schema version 1 are read
+ * through temporary views that give them the columns of version 2 (the first writing command upgrades them).
+ * Throws `StoreReadError` with a message and a hint for the user.
  *
  * @example
  * ```ts
@@ -134,41 +156,64 @@ export function openStoreReadOnly(path: string): DatabaseSync {
   try {
     info = Deno.statSync(path);
   } catch (e) {
-    if (e instanceof Deno.errors.NotFound) throw new StoreReadError(`database file not found: ${path}`);
-    throw new StoreReadError(`cannot read database file ${path}: ${(e as Error).message}`);
-  }
-  if (!info.isFile) throw new StoreReadError(`not a database file (it is a directory or device): ${path}`);
-  if (info.size === 0) throw new StoreReadError(`${path} is empty, not a spindrift database`);
-  let db: DatabaseSync;
-  try {
-    db = new DatabaseSync(path, { readOnly: true });
-  } catch (e) {
-    throw new StoreReadError(`cannot open ${path}: ${(e as Error).message}`);
-  }
-  try {
-    const hasMeta = db.prepare("SELECT 1 FROM sqlite_master WHERE type = 'table' AND name = 'meta'").get();
-    if (hasMeta === undefined) {
-      throw new StoreReadError(`${path} is an SQLite file but not a spindrift database (no 'meta' table)`);
+    if (e instanceof Deno.errors.NotFound) {
+      throw new StoreReadError(`database file not found: ${path}`, { reason: "missing" });
     }
-    const row = db.prepare("SELECT value FROM meta WHERE key = 'schema_version'").get();
-    if (row === undefined) {
-      throw new StoreReadError(`${path} is not a spindrift database (no schema_version in its 'meta' table)`);
-    }
-    const version = Number(row.value);
-    if (version !== SCHEMA_VERSION) {
-      throw new StoreReadError(
-        `${path} has database schema version ${String(row.value)}; this spindrift reads version ` +
-          `${SCHEMA_VERSION}` +
-          (version > SCHEMA_VERSION ? " (the file was written by a newer spindrift)" : ""),
+    throw new StoreReadError(`cannot read database file ${path}: ${(e as Error).message}`, {
+      reason: "unreadable",
+    });
+  }
+  if (!info.isFile) {
+    throw new StoreReadError(`not a database file (it is a directory or device): ${path}`, {
+      reason: "unreadable",
+    });
+  }
+  if (info.size === 0) {
+    throw new StoreReadError(`${path} is empty, not a spindrift database`, { reason: "foreign" });
+  }
+  let db: DatabaseSync | undefined;
+  try {
+    checkHeader(path);
+    const opened = openReadOnlyConnection(path);
+    db = opened.db;
+    for (const w of opened.warnings) console.error(`spindrift: warning: ${w}`);
+    const version = schemaVersion(db, path);
+    if (version === 0) {
+      throw new DatabaseProblem(
+        "foreign",
+        `${path} is an SQLite file but not a spindrift database (no tables)`,
       );
     }
+    quickCheck(db, path);
+    if (version < SCHEMA_VERSION) readAsCurrentVersion(db);
+    return db;
   } catch (e) {
-    db.close();
-    if (e instanceof StoreReadError) throw e;
-    // SQLite says "file is not a database" for files of another format.
-    throw new StoreReadError(`${path} is not a spindrift database: ${(e as Error).message}`);
+    db?.close();
+    if (e instanceof DatabaseProblem) throw new StoreReadError(e.message, { reason: e.reason, hint: e.hint });
+    throw new StoreReadError(`${path} is not a spindrift database: ${(e as Error).message}`, {
+      reason: "foreign",
+    });
   }
-  return db;
+}
+
+/** Temporary views (in the connection's own temp schema) that show a version-1 file with version-2 columns. */
+function readAsCurrentVersion(db: DatabaseSync): void {
+  // (An in-memory snapshot of a read-only folder is query_only; temp views change no database file.)
+  const queryOnly = Number(Object.values(db.prepare("PRAGMA query_only").get() ?? {})[0] ?? 0);
+  db.exec("PRAGMA query_only = OFF");
+  db.exec(`
+    CREATE TEMP VIEW realisations AS SELECT *, NULL AS master_seed FROM main.realisations;
+    CREATE TEMP VIEW points AS SELECT *, '{}' AS inputs_json FROM main.points;
+  `);
+  if (queryOnly) db.exec("PRAGMA query_only = ON");
+}
+
+/**
+ * True for errors of the database itself (SQLite errors such as a damaged page, and `StoreReadError`): code
+ * that turns its own failures into per-item results must let these through, since every later read is suspect.
+ */
+export function isDatabaseError(e: unknown): boolean {
+  return e instanceof StoreReadError || (e as { code?: unknown })?.code === "ERR_SQLITE_ERROR";
 }
 
 /** All key/value pairs of the `meta` table. */
@@ -199,7 +244,8 @@ export function listStudies(db: DatabaseSync): StudySummary[] {
  * added revision). Throws `StoreReadError` when the database holds no study or not that id.
  */
 export function readStudy(db: DatabaseSync, opts: { studyId?: number } = {}): StudyRecord {
-  const sql = `SELECT id, name, description, study_hash, source_path, text, normalized_json, engine_id,
+  const sql = `SELECT id, name, description, study_hash, source_path, text, normalized_json,
+    CAST(json_extract(normalized_json, '$.seed') AS TEXT) AS seed, engine_id,
     engine_version, tool_version, deno_version, git_commit, created_at, last_run_at, notes_json, units_json
     FROM studies`;
   const row = opts.studyId === undefined
@@ -220,6 +266,7 @@ export function readStudy(db: DatabaseSync, opts: { studyId?: number } = {}): St
     name: String(row.name),
     description: String(row.description),
     studyHash: String(row.study_hash),
+    seed: strOrNull(row.seed),
     sourcePath: strOrNull(row.source_path),
     text: String(row.text),
     normalized: parseJson(row.normalized_json, `studies.normalized_json of study ${row.id}`),
@@ -243,7 +290,7 @@ export function readStudy(db: DatabaseSync, opts: { studyId?: number } = {}): St
 export function readStudyPoints(db: DatabaseSync, studyId: number): PointRecord[] {
   const rows = db.prepare(
     `SELECT sp.point_index, sp.point_hash, sp.label, sp.varied_json, p.params_hash, p.params_json,
-            p.controls_json, p.engine_id, p.engine_version
+            p.controls_json, p.inputs_json, p.engine_id, p.engine_version
        FROM study_points sp JOIN points p ON p.point_hash = sp.point_hash
       WHERE sp.study_id = ? ORDER BY sp.point_index`,
   ).all(studyId);
@@ -257,19 +304,36 @@ export function readStudyPoints(db: DatabaseSync, studyId: number): PointRecord[
       varied: isRecord(varied) ? varied : {},
       params: parseJson(r.params_json, `points.params_json of point ${r.point_index}`),
       controls: parseJson(r.controls_json, `points.controls_json of point ${r.point_index}`),
+      inputs:
+        (parseJson(r.inputs_json ?? "{}", `points.inputs_json of point ${r.point_index}`) ?? {}) as Record<
+          string,
+          string
+        >,
       engineId: String(r.engine_id),
       engineVersion: String(r.engine_version),
     };
   });
 }
 
-/** The realisations stored for a parameter point, by index. */
-export function readRealisations(db: DatabaseSync, pointHash: string): RealisationRecord[] {
-  const rows = db.prepare(
-    `SELECT id, realisation_key, point_hash, idx, seed, status, failure_kind, error, engine_id, engine_version,
-            started_at, finished_at, wall_seconds, sim_time_reached, frame_count, host
-       FROM realisations WHERE point_hash = ? ORDER BY idx`,
-  ).all(pointHash);
+/**
+ * The realisations stored for a parameter point under a study's master seed (`StudyRecord.seed`), by index.
+ * The seed is required: the same point may hold realisations of other seeds (an earlier revision, another
+ * study), which belong to those. `seed: null` lists every seed's (for tools that show the whole file). Rows
+ * whose seed is unknown (migrated from version 1 without a matching study) count for every seed.
+ */
+export function readRealisations(
+  db: DatabaseSync,
+  pointHash: string,
+  opts: { readonly seed: string | null },
+): RealisationRecord[] {
+  const columns = `id, realisation_key, point_hash, idx, seed, status, failure_kind, error, engine_id,
+            engine_version, started_at, finished_at, wall_seconds, sim_time_reached, frame_count, host`;
+  const rows = opts.seed === null
+    ? db.prepare(`SELECT ${columns} FROM realisations WHERE point_hash = ? ORDER BY idx`).all(pointHash)
+    : db.prepare(
+      `SELECT ${columns} FROM realisations WHERE point_hash = ? AND (master_seed = ? OR master_seed IS NULL)
+        ORDER BY idx`,
+    ).all(pointHash, opts.seed);
   return rows.map((r) => ({
     id: num(r.id),
     key: String(r.realisation_key),

@@ -30,7 +30,8 @@ function makeDb(dir: string): string {
        '2026-01-01T00:00:00Z', NULL),
       (2, 'new', 'second', 'h2', 'new.yaml', 'name: new', '{"realisations":3,"seed":"7"}', 'e', '1', '0.1',
        '2.9.6', 'abc', '2026-01-02T00:00:00Z', '2026-01-02T01:00:00Z');
-    INSERT INTO points VALUES ('P', 'PH', 'e', '1', '{"n":4}', '{"run":{"duration":1}}', '2026-01-01T00:00:00Z');
+    INSERT INTO points VALUES ('P', 'PH', 'e', '1', '{"n":4}', '{"run":{"duration":1}}', '2026-01-01T00:00:00Z',
+      '{}');
     INSERT INTO study_points VALUES (1, 0, 'P', 'base', '{}'), (2, 0, 'P', 'n=4', '{"n":4}');
     INSERT INTO realisations (id, realisation_key, point_hash, idx, seed, status, failure_kind, error, engine_id,
       engine_version, started_at, finished_at, wall_seconds, sim_time_reached, frame_count, host) VALUES
@@ -65,12 +66,15 @@ Deno.test("openStoreReadOnly explains a missing file, an empty file, a non-SQLit
     Deno.writeTextFileSync(`${dir}/junk.sqlite`, "not a database at all ".repeat(200));
     assert.throws(
       () => openStoreReadOnly(`${dir}/junk.sqlite`),
-      /is not a spindrift database: file is not a database/,
+      /is not an SQLite database file/,
     );
     const other = new DatabaseSync(`${dir}/other.sqlite`);
     other.exec("CREATE TABLE t (x)");
     other.close();
-    assert.throws(() => openStoreReadOnly(`${dir}/other.sqlite`), /SQLite file but not a spindrift database/);
+    assert.throws(
+      () => openStoreReadOnly(`${dir}/other.sqlite`),
+      /SQLite file but not a spindrift study database .*left unchanged/,
+    );
     const future = new DatabaseSync(`${dir}/future.sqlite`);
     future.exec(
       `CREATE TABLE meta (key TEXT PRIMARY KEY, value TEXT); INSERT INTO meta VALUES ('schema_version', '99')`,
@@ -78,7 +82,7 @@ Deno.test("openStoreReadOnly explains a missing file, an empty file, a non-SQLit
     future.close();
     assert.throws(
       () => openStoreReadOnly(`${dir}/future.sqlite`),
-      /schema version 99; this spindrift reads version 1 .*newer/,
+      /schema version 99, written by a newer spindrift/,
     );
     assert.throws(() => openStoreReadOnly(dir), /not a database file/);
   } finally {
@@ -130,7 +134,7 @@ Deno.test("readStudyPoints and readRealisations return the rows in order with pa
     assert.deepEqual(p.params, { n: 4 });
     assert.deepEqual(p.controls, { run: { duration: 1 } });
     assert.equal(p.paramsHash, "PH");
-    const runs = readRealisations(db, "P");
+    const runs = readRealisations(db, "P", { seed: null });
     assert.deepEqual(runs.map((r) => [r.index, r.id, r.status]), [[0, 11, "done"], [1, 12, "done"], [
       2,
       10,

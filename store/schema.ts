@@ -1,12 +1,45 @@
 /**
  * The SQLite schema of a study database (one file per study). Documented table by table in DEVELOPERS.md
- * ("Database schema"); keep the two in step. `SCHEMA_VERSION` is bumped on any change.
+ * ("Database schema"); keep the two in step. `SCHEMA_VERSION` is bumped on any change, with a migration from
+ * the previous version in `migrate.ts`.
  *
  * Visibility rule: rows of a realisation become visible in `frames`, `series`, `scalars` and `events` in the
  * single transaction that marks it `done` or `failed`. While it runs, its frames stream into `pending_frames`;
  * a crash leaves only a `running` row and pending frames, which the next run discards.
+ *
+ * Identity rule: a realisation is identified by its key alone (hash of point, index and master seed), so
+ * realisations of the same point and index with another master seed (a seed edit, another study) coexist and
+ * are never deleted by a run of a different revision.
  */
-export const SCHEMA_VERSION = 1;
+export const SCHEMA_VERSION = 2;
+
+/** Oldest schema version this build can open: older files are migrated (`migrate.ts`) on the first write. */
+export const OLDEST_READABLE_VERSION = 1;
+
+/** The CREATE statement of the realisations table under `name` (the migration builds it under another name). */
+export function realisationsTable(name: string): string {
+  return `-- master_seed: the study's master seed that (with point and index) made this realisation; NULL only for rows
+-- migrated from schema version 1 that no recorded study's seed explains.
+CREATE TABLE IF NOT EXISTS ${name} (
+  id               INTEGER PRIMARY KEY,
+  realisation_key  TEXT NOT NULL UNIQUE,
+  point_hash       TEXT NOT NULL REFERENCES points(point_hash),
+  idx              INTEGER NOT NULL,
+  master_seed      TEXT,
+  seed             TEXT NOT NULL,
+  status           TEXT NOT NULL CHECK (status IN ('running', 'done', 'failed')),
+  failure_kind     TEXT,
+  error            TEXT,
+  engine_id        TEXT NOT NULL,
+  engine_version   TEXT NOT NULL,
+  started_at       TEXT,
+  finished_at      TEXT,
+  wall_seconds     REAL,
+  sim_time_reached REAL,
+  frame_count      INTEGER,
+  host             TEXT
+) STRICT;`;
+}
 
 export const SCHEMA_SQL = `
 CREATE TABLE IF NOT EXISTS meta (
@@ -34,7 +67,8 @@ CREATE TABLE IF NOT EXISTS studies (
   last_run_at     TEXT
 ) STRICT;
 
--- A parameter point: the full normalized engine parameters plus run controls and observable settings.
+-- A parameter point: the full normalized engine parameters plus run controls and observable settings, and the
+-- content fingerprints of the input files its engine reads (imported data), which are part of its hash.
 CREATE TABLE IF NOT EXISTS points (
   point_hash     TEXT PRIMARY KEY,
   params_hash    TEXT NOT NULL,
@@ -42,7 +76,8 @@ CREATE TABLE IF NOT EXISTS points (
   engine_version TEXT NOT NULL,
   params_json    TEXT NOT NULL,
   controls_json  TEXT NOT NULL,
-  created_at     TEXT NOT NULL
+  created_at     TEXT NOT NULL,
+  inputs_json    TEXT NOT NULL DEFAULT '{}'
 ) STRICT;
 
 -- Which points a study revision contains, in sweep order, with the swept values.
@@ -55,25 +90,7 @@ CREATE TABLE IF NOT EXISTS study_points (
   PRIMARY KEY (study_id, point_index)
 ) STRICT;
 
-CREATE TABLE IF NOT EXISTS realisations (
-  id               INTEGER PRIMARY KEY,
-  realisation_key  TEXT NOT NULL UNIQUE,
-  point_hash       TEXT NOT NULL REFERENCES points(point_hash),
-  idx              INTEGER NOT NULL,
-  seed             TEXT NOT NULL,
-  status           TEXT NOT NULL CHECK (status IN ('running', 'done', 'failed')),
-  failure_kind     TEXT,
-  error            TEXT,
-  engine_id        TEXT NOT NULL,
-  engine_version   TEXT NOT NULL,
-  started_at       TEXT,
-  finished_at      TEXT,
-  wall_seconds     REAL,
-  sim_time_reached REAL,
-  frame_count      INTEGER,
-  host             TEXT,
-  UNIQUE (point_hash, idx)
-) STRICT;
+${realisationsTable("realisations")}
 
 CREATE TABLE IF NOT EXISTS scalars (
   realisation_id INTEGER NOT NULL REFERENCES realisations(id) ON DELETE CASCADE,
@@ -155,4 +172,5 @@ CREATE TABLE IF NOT EXISTS field_snapshots (
 ) STRICT;
 
 CREATE INDEX IF NOT EXISTS realisations_by_point ON realisations(point_hash, status);
+CREATE INDEX IF NOT EXISTS realisations_by_point_seed ON realisations(point_hash, master_seed, idx);
 `;

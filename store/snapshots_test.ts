@@ -37,6 +37,7 @@ function writeDb(path: string, withSnapshots = true): void {
       pointHash: POINT,
       index: 0,
       seedHex: "00",
+      masterSeed: "1",
       ...ENGINE,
       host: "h",
     });

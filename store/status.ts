@@ -29,15 +29,17 @@ export function studyStatus(db: DatabaseSync, studyId?: number): StudyStatus | u
       | Record<string, unknown>
       | undefined;
   if (!study) return undefined;
-  const planned = Number(
-    (JSON.parse(String(study.normalized_json)) as { realisations: number }).realisations,
-  );
+  const normalized = JSON.parse(String(study.normalized_json)) as { realisations: number; seed?: unknown };
+  const planned = Number(normalized.realisations);
+  // Realisations of this revision: its points, indices below its count, its master seed (rows of another seed
+  // at the same point belong to another revision or study).
   const rows = db.prepare(
     `SELECT sp.point_index AS i, sp.label AS label,
        SUM(r.status = 'done') AS done, SUM(r.status = 'failed') AS failed, SUM(r.status = 'running') AS running
      FROM study_points sp LEFT JOIN realisations r ON r.point_hash = sp.point_hash AND r.idx < ?
+       AND (r.master_seed = ? OR r.master_seed IS NULL)
      WHERE sp.study_id = ? GROUP BY sp.point_index ORDER BY sp.point_index`,
-  ).all(planned, Number(study.id)) as Record<string, unknown>[];
+  ).all(planned, String(normalized.seed ?? ""), Number(study.id)) as Record<string, unknown>[];
   return {
     studyId: Number(study.id),
     name: String(study.name),
@@ -55,4 +57,22 @@ export function studyStatus(db: DatabaseSync, studyId?: number): StudyStatus | u
       };
     }),
   };
+}
+
+/**
+ * How many of a study revision's realisations are stored `done`: those of its points under its master seed with
+ * index below `realisations` (for the pre-flight estimate of what is left to run, without planning).
+ */
+export function countDone(
+  db: DatabaseSync,
+  pointHashes: readonly string[],
+  opts: { readonly seed: string; readonly realisations: number },
+): number {
+  const stmt = db.prepare(
+    `SELECT COUNT(*) AS n FROM realisations WHERE point_hash = ? AND status = 'done' AND idx < ?
+       AND (master_seed = ? OR master_seed IS NULL)`,
+  );
+  let n = 0;
+  for (const h of pointHashes) n += Number(stmt.get(h, opts.realisations, opts.seed)?.n ?? 0);
+  return n;
 }

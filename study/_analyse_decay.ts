@@ -58,7 +58,8 @@ export function chi2FromDecayStudy(
         `${dbPath}: χ₂ needs a homogeneous decay in a periodic box; study ${study.name} has no periodic domain`,
       );
     }
-    const ids = readRealisations(db, point.pointHash).filter((r) => r.status === "done").map((r) => r.id);
+    const ids = readRealisations(db, point.pointHash, { seed: study.seed }).filter((r) => r.status === "done")
+      .map((r) => r.id);
     if (ids.length < 2) {
       throw new AnalysisInputError(
         `${dbPath}: the decay study has ${ids.length} done realisation(s); need ≥ 2`,

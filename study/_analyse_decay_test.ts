@@ -4,10 +4,12 @@ import { filamentParamsSchema } from "../engines/filament/mod.ts";
 import { RandomStream } from "../engines/random.ts";
 import { chi2FromDecayStudy } from "./_analyse_decay.ts";
 import { AnalysisInputError } from "./analyse.ts";
+import { tempFile } from "../test/_tmp.ts";
+import { recordOnePointStudy } from "../store/_testing.ts";
 
 /** Writes a decay-study database whose line length follows Vinen's free decay (with 1 % noise per sample). */
 function decayDb(chi2: number, periodic = true): string {
-  const path = Deno.makeTempFileSync({ suffix: ".sqlite" });
+  const path = tempFile(".sqlite");
   const store = StudyStore.open(path);
   const params = filamentParamsSchema.parse({
     units: "dimensionless",
@@ -16,27 +18,13 @@ function decayDb(chi2: number, periodic = true): string {
     domain: periodic ? { kind: "periodic", size: 10 } : { kind: "unbounded" },
     initial: { kind: "ring", radius: 1 },
   });
-  store.recordStudy({
+  recordOnePointStudy(store, {
     name: "decay",
-    description: "",
     studyHash: "decay-hash",
-    sourcePath: null,
-    text: "",
     normalizedJson: JSON.stringify({ realisations: 4 }),
     engineId: "vortex-filament-3d",
     engineVersion: "1.0.0",
-    toolVersion: "test",
-    denoVersion: Deno.version.deno,
-    gitCommit: null,
-  }, [{
-    pointIndex: 0,
-    pointHash: "p",
-    paramsHash: "q",
-    label: "base",
-    variedJson: "{}",
-    paramsJson: JSON.stringify(params),
-    controlsJson: "{}",
-  }]);
+  }, { paramsJson: JSON.stringify(params) });
   const rng = RandomStream.fromState([5, 6, 7, 8]);
   const volume = 1000, L0 = 1, kappa = 1;
   const t = Array.from({ length: 101 }, (_, k) => k * 0.5);
@@ -45,6 +33,7 @@ function decayDb(chi2: number, periodic = true): string {
       key: `k${i}`,
       pointHash: "p",
       index: i,
+      masterSeed: "1",
       seedHex: "0",
       engineId: "vortex-filament-3d",
       engineVersion: "1.0.0",

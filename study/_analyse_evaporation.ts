@@ -5,7 +5,7 @@
  */
 import type { DatabaseSync } from "node:sqlite";
 import { type EvaporationEstimate, evaporationSummary } from "../reports/analysis/evaporation.ts";
-import { readAlignedSeries } from "../store/reads.ts";
+import { isDatabaseError, readAlignedSeries } from "../store/reads.ts";
 import type { EnsembleResultInput } from "../store/ensemble.ts";
 
 type Push = (analysis: string, name: string, e: Partial<EnsembleResultInput>) => void;
@@ -117,6 +117,7 @@ export function evaporationRows(ctx: EvaporationContext, push: Push): Evaporatio
       objects,
     };
   } catch (e) {
+    if (isDatabaseError(e)) throw e;
     return none("error", e instanceof Error ? e.message : String(e));
   }
 }

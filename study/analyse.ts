@@ -64,6 +64,7 @@ import { type EnsembleResultInput, replaceEnsembleResults } from "../store/ensem
 import { iterateFrames } from "../store/frames.ts";
 import {
   type AlignedSeries,
+  isDatabaseError,
   openStoreReadOnly,
   type PointRecord,
   readAlignedSeries,
@@ -222,7 +223,7 @@ export async function analyseStudy(dbPath: string, opts: AnalyseOptions = {}): P
     const engine = findEngine(study.engineId);
     const studyPoints = readStudyPoints(db, study.id);
     const allDone = studyPoints.map((p) =>
-      readRealisations(db, p.pointHash).filter((r) =>
+      readRealisations(db, p.pointHash, { seed: study.seed }).filter((r) =>
         r.status === "done" && (planned === null || r.index < planned)
       )
     );
@@ -254,7 +255,7 @@ export async function analyseStudy(dbPath: string, opts: AnalyseOptions = {}): P
     db.close();
   }
   progress("writing results");
-  const store = StudyStore.open(dbPath);
+  const store = StudyStore.open(dbPath, { command: "analyse" });
   let written: number;
   try {
     written = replaceEnsembleResults(store, study.id, rows);
@@ -1067,7 +1068,9 @@ function finiteOrNull(v: number): number | null {
   return Number.isFinite(v) ? v : null;
 }
 
+/** The message of an analysis failure; database errors are not per-point results: they end the analysis. */
 function errorText(e: unknown): string {
+  if (isDatabaseError(e)) throw e;
   return e instanceof Error ? e.message : String(e);
 }
 

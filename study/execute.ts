@@ -4,6 +4,10 @@
  *
  * The caller receives frames in batches through `emitFrames` (to stream them to the store) and the outcome
  * (scalars, series, events, failure) at the end.
+ *
+ * Stopping: when `task.stopFlag[0]` becomes non-zero (the pool sets it on Ctrl-C or SIGTERM), the engine's
+ * `input.stop.check()` and the frame sink throw `RealisationStopped`, which `executeRealisation` rethrows instead
+ * of turning it into a failed outcome: a stopped realisation is not a result and is left for the next run.
  */
 import {
   type Engine,
@@ -12,7 +16,10 @@ import {
   type FieldSnapshot,
   type Frame,
   type FrameSink,
+  RealisationStopped,
   type RunControls,
+  type StopRequest,
+  stopRequestFromFlag,
 } from "../engines/contract.ts";
 import { findEngine } from "../engines/registry.ts";
 import { type GeneratorState, RandomStream } from "../engines/random.ts";
@@ -42,6 +49,8 @@ export interface RealisationTask {
     readonly classification: ClassificationConfig;
     readonly profile?: ProfileBinning;
   };
+  /** Stop flag shared with the pool (Int32Array on a SharedArrayBuffer; non-zero: stop). */
+  readonly stopFlag?: Int32Array;
 }
 
 /** Frames are handed over in batches of about this many bytes (and at least every this many frames). */
@@ -85,6 +94,7 @@ function frameColumns(f: Frame, labels: Uint8Array): Record<string, Column> {
 /**
  * Runs one realisation to the end and returns its outcome; never throws for engine or physics failures
  * (they become `status: "failed"` with a reason).
+ * @throws RealisationStopped when the task's stop flag was set (see the module comment).
  */
 export async function executeRealisation(
   task: RealisationTask,
@@ -132,8 +142,10 @@ export async function executeRealisation(
     batchBytes = 0;
   };
 
+  const stop: StopRequest | undefined = task.stopFlag ? stopRequestFromFlag(task.stopFlag) : undefined;
   const sink: FrameSink = {
     frame(f: Frame): void {
+      stop?.check();
       const bad = firstNonFinite(f);
       if (bad >= 0) {
         throw new EngineFailure("nan", `non-finite position of object ${f.id[bad]} at t = ${f.t}`, f.t);
@@ -179,6 +191,7 @@ export async function executeRealisation(
         rng,
         realisationIndex: task.realisationIndex,
         baseDirectory: task.baseDirectory,
+        stop,
       },
       sink,
     );
@@ -203,6 +216,8 @@ export async function executeRealisation(
       snapshots,
     };
   } catch (e) {
+    // A stop is not a failure of the realisation, whatever the engine made of it (e.g. a killed program).
+    if (e instanceof RealisationStopped || stop?.requested) throw new RealisationStopped();
     flush();
     if (e instanceof EngineFailure) return failed(e.kind, e.message, Number.isFinite(e.t) ? e.t : lastT);
     const err = e as Error;

@@ -99,10 +99,9 @@ export interface LoadOptions {
  * ```
  */
 export async function loadStudy(path: string, opts: LoadOptions = {}): Promise<LoadResult> {
-  let text: string;
+  let bytes: Uint8Array;
   try {
-    const bytes = await Deno.readFile(path);
-    text = new TextDecoder("utf-8", { fatal: true }).decode(bytes);
+    bytes = await Deno.readFile(path);
   } catch (e) {
     return {
       ok: false,
@@ -116,14 +115,63 @@ export async function loadStudy(path: string, opts: LoadOptions = {}): Promise<L
       }],
     };
   }
+  let text: string;
+  try {
+    text = new TextDecoder("utf-8", { fatal: true }).decode(bytes);
+  } catch {
+    return { ok: false, problems: [notUtf8(path, bytes)] };
+  }
   return parseStudyText(text, path, opts);
+}
+
+/** The problem of a study file that is not UTF-8 text, at its first byte that is not. */
+function notUtf8(file: string, bytes: Uint8Array): StudyProblem {
+  const at = firstInvalidUtf8(bytes);
+  const lineStart = bytes.lastIndexOf(0x0a, at - 1) + 1;
+  let line = 1;
+  for (let i = bytes.indexOf(0x0a); i >= 0 && i < at; i = bytes.indexOf(0x0a, i + 1)) line++;
+  const column = new TextDecoder().decode(bytes.subarray(lineStart, at)).length + 1;
+  const hex = bytes[at].toString(16).toUpperCase().padStart(2, "0");
+  return {
+    file,
+    line,
+    column,
+    path: "",
+    message: `the file is not UTF-8 text: byte 0x${hex} here is not UTF-8 (files saved as Latin-1 or ` +
+      "Windows-1252 look like this); save the file with the encoding UTF-8",
+    code: "not-utf8",
+  };
+}
+
+/** Offset of the first byte that does not belong to a well-formed UTF-8 sequence (RFC 3629 §4). */
+function firstInvalidUtf8(b: Uint8Array): number {
+  let i = 0;
+  while (i < b.length) {
+    const c = b[i];
+    const len = c < 0x80
+      ? 1
+      : c >= 0xc2 && c <= 0xdf
+      ? 2
+      : c >= 0xe0 && c <= 0xef
+      ? 3
+      : c >= 0xf0 && c <= 0xf4
+      ? 4
+      : 0;
+    if (len === 0 || i + len > b.length) return i;
+    for (let k = 1; k < len; k++) {
+      const lo = k === 1 && c === 0xe0 ? 0xa0 : k === 1 && c === 0xf0 ? 0x90 : 0x80;
+      const hi = k === 1 && c === 0xed ? 0x9f : k === 1 && c === 0xf4 ? 0x8f : 0xbf;
+      if (b[i + k] < lo || b[i + k] > hi) return i;
+    }
+    i += len;
+  }
+  return b.length - 1;
 }
 
 function readFailure(e: unknown): string {
   if (e instanceof Deno.errors.NotFound) return "cannot read the study file: there is no such file";
   if (e instanceof Deno.errors.IsADirectory) return "cannot read the study file: it is a folder";
   if (e instanceof Deno.errors.PermissionDenied) return "cannot read the study file: permission denied";
-  if (e instanceof TypeError) return "cannot read the study file: it is not UTF-8 text";
   return `cannot read the study file: ${e instanceof Error ? e.message : String(e)}`;
 }
 
@@ -153,7 +201,15 @@ export function parseStudyText(text: string, file: string, opts: LoadOptions = {
 // deno-lint-ignore no-explicit-any
 function check(text: string, file: string, engines: readonly Engine<any>[]): LoadResult {
   const lineCounter = new LineCounter();
-  const doc = parseDocument(text, { lineCounter, prettyErrors: false, uniqueKeys: true });
+  const tooDeep = flowNestingBeyond(text, MAX_NESTING);
+  if (tooDeep >= 0) {
+    const c = new Collector(file, new YamlLocator(text, parseDocument(""), lineCounter));
+    lineCounter.addNewLine(0);
+    for (let i = text.indexOf("\n"); i >= 0; i = text.indexOf("\n", i + 1)) lineCounter.addNewLine(i + 1);
+    c.addAt(tooDeep, "yaml-syntax", nestingMessage());
+    return c.result();
+  }
+  const doc = parseDocument(text, { lineCounter, prettyErrors: false, uniqueKeys: true, logLevel: "error" });
   const c = new Collector(file, new YamlLocator(text, doc, lineCounter));
 
   // 1. YAML
@@ -190,6 +246,11 @@ function check(text: string, file: string, engines: readonly Engine<any>[]): Loa
     },
   });
   if (fatal) return c.result();
+  const deep = deepestNode(doc.contents, MAX_NESTING);
+  if (deep !== null) {
+    c.addAt(deep, "yaml-syntax", nestingMessage());
+    return c.result();
+  }
   let raw: unknown;
   try {
     raw = doc.toJS({ maxAliasCount: 1000 });
@@ -362,6 +423,56 @@ function getAt(root: unknown, path: readonly PropertyKey[]): unknown {
     v = (v as Record<PropertyKey, unknown>)[seg];
   }
   return v;
+}
+
+/** Deepest nesting of lists and maps a study file may have (studies need fewer than ten levels). */
+const MAX_NESTING = 64;
+
+function nestingMessage(): string {
+  return `YAML syntax: lists and maps are nested more than ${MAX_NESTING} levels deep here; a study needs a few ` +
+    "(is a bracket repeated, or the file not a study?)";
+}
+
+/**
+ * Offset where flow lists/maps ([ and {) first nest deeper than `max`, or -1. Quoted text and comments are
+ * skipped. Checked before parsing: the YAML parser itself recurses once per level.
+ */
+function flowNestingBeyond(text: string, max: number): number {
+  let depth = 0;
+  for (let i = 0; i < text.length; i++) {
+    const ch = text[i];
+    if (ch === "'" || ch === '"') {
+      const end = text.indexOf(ch, i + 1);
+      if (end < 0) return -1;
+      i = end;
+    } else if (ch === "#" && (i === 0 || /\s/.test(text[i - 1]))) {
+      const nl = text.indexOf("\n", i);
+      if (nl < 0) return -1;
+      i = nl;
+    } else if (ch === "[" || ch === "{") {
+      if (++depth > max) return i;
+    } else if (ch === "]" || ch === "}") {
+      depth = Math.max(0, depth - 1);
+    }
+  }
+  return -1;
+}
+
+/** Offset of a node nested deeper than `max` (block or flow), found without recursion; null when none. */
+function deepestNode(root: unknown, max: number): number | null {
+  const stack: { node: unknown; depth: number }[] = [{ node: root, depth: 0 }];
+  while (stack.length > 0) {
+    const { node, depth } = stack.pop()!;
+    if (!isCollection(node)) continue;
+    if (depth > max) return node.range?.[0] ?? 0;
+    for (const item of node.items) {
+      if (isMap(node)) {
+        const pair = item as { value?: unknown };
+        stack.push({ node: pair.value, depth: depth + 1 });
+      } else stack.push({ node: item, depth: depth + 1 });
+    }
+  }
+  return null;
 }
 
 function yamlErrorCode(e: YAMLError): ProblemCode {

@@ -249,6 +249,22 @@ Deno.test("parseStudyText never throws when characters of a study are replaced b
   }
 });
 
+Deno.test("parseStudyText refuses lists and maps nested deeper than 64 levels with a location, not a crash", () => {
+  const flow = parseStudyText(`name: x\nparameters: ${"[".repeat(10_000)}${"]".repeat(10_000)}\n`, "f.yaml", {
+    engines,
+  });
+  ok(!flow.ok);
+  deepStrictEqual([flow.problems.length, flow.problems[0].line, flow.problems[0].column], [1, 2, 77]);
+  ok(flow.problems[0].message.includes("nested more than 64 levels"), flow.problems[0].message);
+  let block = "name: x\nparameters:\n";
+  for (let i = 0; i < 300; i++) block += `${"  ".repeat(i + 1)}k${i}:\n`;
+  block += `${"  ".repeat(301)}v: 1\n`;
+  const deep = parseStudyText(block, "b.yaml", { engines });
+  ok(!deep.ok);
+  ok(deep.problems[0].message.includes("nested more than 64 levels"), deep.problems[0].message);
+  ok(!deep.problems[0].message.includes("stack"), deep.problems[0].message);
+});
+
 Deno.test("loadStudy reports unreadable files as problems", async () => {
   const dir = await Deno.makeTempDir();
   try {
@@ -261,10 +277,26 @@ Deno.test("loadStudy reports unreadable files as problems", async () => {
     const folder = await loadStudy(dir, { engines });
     ok(!folder.ok);
     equal(folder.problems[0].code, "file-unreadable");
-    await Deno.writeFile(`${dir}/latin1.yaml`, new Uint8Array([0x6e, 0x3a, 0x20, 0xe9, 0x0a]));
+    // "name: café" saved as Latin-1 on line 2 (é = 0xE9, not UTF-8; RFC 3629 §4).
+    const latin1Bytes = new TextEncoder().encode("# study\nname: caf?\n");
+    latin1Bytes[latin1Bytes.indexOf(0x3f)] = 0xe9;
+    await Deno.writeFile(`${dir}/latin1.yaml`, latin1Bytes);
     const latin1 = await loadStudy(`${dir}/latin1.yaml`, { engines });
     ok(!latin1.ok);
-    equal(latin1.problems[0].message, "cannot read the study file: it is not UTF-8 text");
+    const p = latin1.problems[0];
+    deepStrictEqual([p.code, p.line, p.column], ["not-utf8", 2, 10]);
+    ok(
+      p.message.includes("byte 0xE9") && p.message.includes("save the file with the encoding UTF-8"),
+      p.message,
+    );
+    // A valid multi-byte character before the bad byte counts as one column.
+    await Deno.writeFile(
+      `${dir}/mixed.yaml`,
+      new Uint8Array([...new TextEncoder().encode("name: ∂x "), 0xff, 0x0a]),
+    );
+    const mixed = await loadStudy(`${dir}/mixed.yaml`, { engines });
+    ok(!mixed.ok);
+    deepStrictEqual([mixed.problems[0].line, mixed.problems[0].column], [1, 10]);
     await Deno.writeTextFile(`${dir}/good.yaml`, toyStudy());
     ok((await loadStudy(`${dir}/good.yaml`, { engines })).ok);
   } finally {

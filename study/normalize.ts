@@ -6,7 +6,9 @@
  * - `paramsHash` = H("spindrift-params-v1", { engine id, params }): realisation seeds derive from it, so
  *   changing run controls, observables or the engine version keeps the initial conditions.
  * - `pointHash` = H("spindrift-point-v1", { engine id and version, params, run controls except `workers`,
- *   observables }): identifies stored results; anything that could change them changes it.
+ *   observables, and — for engines that read input files (`Engine.inputFiles`) — `inputs`, the content
+ *   fingerprints of those files (`fingerprint.ts`) }): identifies stored results; anything that could change
+ *   them changes it. Points of engines without input files hash exactly as before fingerprints existed.
  * - `hash` (the study) = H("spindrift-study-v1", { name, description, engine, realisations, seed, run controls
  *   except `workers`, observables, the set of points as (pointHash, varied) pairs sorted by pointHash }).
  *   It does not depend on the order of keys, of grid paths or of sweep values in the file, on comments, on
@@ -26,7 +28,9 @@ import type { Engine } from "../engines/contract.ts";
 import type { ClassificationConfig, ProfileBinning } from "../engines/observables/contract.ts";
 import { DEFAULT_PROFILE } from "../engines/observables/mod.ts";
 import { ENGINES } from "../engines/registry.ts";
+import { dirname, resolve } from "node:path";
 import { contentHash } from "./hash.ts";
+import { fingerprintFiles } from "./fingerprint.ts";
 import { OBSERVABLE_IDS, type StudyFile } from "./schema.ts";
 import { applySetting, expandSweep, pointLabel } from "./sweep.ts";
 
@@ -44,6 +48,8 @@ export interface ParameterPoint {
   readonly paramsHash: string;
   /** Hash of engine id + version + params + run controls (except workers) + observables (identifies results). */
   readonly pointHash: string;
+  /** Content fingerprints of the point's input files (path as named → "sha256:…" or "missing"); {} for none. */
+  readonly inputs: Readonly<Record<string, string>>;
 }
 
 /** Run controls after defaults. */
@@ -142,6 +148,8 @@ export function normalizeStudy(study: StudyFile, opts: NormalizeOptions): Normal
       );
     }
     const params = parsed.data;
+    const files = engine.inputFiles?.(params, study.realisations) ?? [];
+    const inputs = files.length > 0 ? fingerprintFiles(files, dirname(resolve(opts.sourcePath))) : {};
     return {
       index,
       label: pointLabel(setting.varied),
@@ -153,7 +161,9 @@ export function normalizeStudy(study: StudyFile, opts: NormalizeOptions): Normal
         params,
         run: hashedRun,
         observables,
+        ...(files.length > 0 ? { inputs } : {}),
       }),
+      inputs,
     };
   });
 

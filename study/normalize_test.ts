@@ -1,6 +1,7 @@
 import { deepStrictEqual, equal, notEqual, ok, throws } from "node:assert/strict";
 import { parseStudyText } from "./load.ts";
 import { type NormalizedStudy, normalizeStudy } from "./normalize.ts";
+import { contentHash, sha256Hex } from "./hash.ts";
 import { TOY_ENGINE, TOY_ENGINE_V2, toyStudy } from "./_test_engine.ts";
 
 function norm(text: string, engine = TOY_ENGINE): NormalizedStudy {
@@ -147,4 +148,45 @@ Deno.test("normalizeStudy refuses a study whose engine is not among the engines 
   const r = parseStudyText(toyStudy(), "t.yaml", { engines: [TOY_ENGINE] });
   ok(r.ok);
   throws(() => normalizeStudy(r.study, { text: r.text, sourcePath: "x", engines: [] }), /not registered/);
+});
+
+// Databases written before input fingerprints existed must keep matching: a point of an engine without input
+// files hashes exactly the fields it always did. Spindrift's own identity rule; common practice, no source.
+Deno.test("normalizeStudy: points of engines without input files hash as before; file engines add fingerprints", () => {
+  const s = norm(toyStudy());
+  const p = s.points[0];
+  deepStrictEqual(p.inputs, {});
+  const { workers: _w, cluster: _c, ...run } = s.run;
+  equal(
+    p.pointHash,
+    contentHash("spindrift-point-v1", {
+      engine: s.engine,
+      params: p.params,
+      run,
+      observables: s.observables,
+    }),
+  );
+  const dir = Deno.makeTempDirSync();
+  try {
+    const text = `name: f\nengine: imported-tracks-2d\nparameters: { source: { files: "r{index}.csv" } }\n` +
+      `realisations: 2\nseed: 1\nrun: { duration: 1, sampleInterval: 0.5 }\n`;
+    Deno.writeTextFileSync(`${dir}/r0.csv`, "t,id,x,y,circulation\n0,1,0,0,1\n");
+    const load = (t: string) => {
+      const r = parseStudyText(t, `${dir}/f.yaml`);
+      if (!r.ok) throw new Error(r.problems[0].message);
+      return normalizeStudy(r.study, { text: t, sourcePath: `${dir}/f.yaml` });
+    };
+    const a = load(text).points[0];
+    // SHA-256 of the file's bytes (NIST FIPS 180-4), and "missing" for the file not there yet.
+    deepStrictEqual(a.inputs, {
+      "r0.csv": `sha256:${sha256Hex("t,id,x,y,circulation\n0,1,0,0,1\n")}`,
+      "r1.csv": "missing",
+    });
+    Deno.writeTextFileSync(`${dir}/r0.csv`, "t,id,x,y,circulation\n0,1,0.5,0,1\n");
+    const b = load(text).points[0];
+    notEqual(b.pointHash, a.pointHash, "new content, new point");
+    equal(b.paramsHash, a.paramsHash, "same parameters, same seeds");
+  } finally {
+    Deno.removeSync(dir, { recursive: true });
+  }
 });

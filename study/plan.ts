@@ -4,8 +4,9 @@
  * realisations are executed change nothing.
  *
  * - Order: point-major (all realisations of point 0, then of point 1, …), realisation index ascending.
- * - `key` = SHA-256("spindrift-realisation-v1" + canonical JSON of { pointHash, index, seed }): the identity of
- *   a stored realisation (a rerun of the same study finds it and skips it).
+ * - `key` = SHA-256("spindrift-realisation-v1" + canonical JSON of { pointHash, index, seed }) (`store/keys.ts`):
+ *   the identity of a stored realisation (a rerun of the same study finds it and skips it; a seed edit gives
+ *   new keys, and the old realisations stay stored).
  * - `seedState` = `deriveSeedState(seed, paramsHash, index)` (`seeds.ts`): depends on the parameters, not on
  *   the point's position in the sweep, so adding or reordering points keeps every other realisation's seed.
  *
@@ -17,7 +18,7 @@
  * ```
  */
 import type { GeneratorState } from "../engines/random.ts";
-import { contentHash } from "./hash.ts";
+import { realisationKey } from "../store/keys.ts";
 import type { NormalizedStudy } from "./normalize.ts";
 import { deriveSeedState, seedStateHex } from "./seeds.ts";
 
@@ -42,7 +43,7 @@ export function planStudy(study: NormalizedStudy): PlannedRealisation[] {
     for (let index = 0; index < study.realisations; index++) {
       const seedState = deriveSeedState(study.seed, point.paramsHash, index);
       plan.push({
-        key: contentHash("spindrift-realisation-v1", { pointHash: point.pointHash, index, seed: study.seed }),
+        key: realisationKey(point.pointHash, index, study.seed),
         pointIndex: point.index,
         pointHash: point.pointHash,
         index,

@@ -2,6 +2,8 @@ import { deepStrictEqual, equal, ok } from "node:assert/strict";
 import { parseStudyText } from "./load.ts";
 import { type NormalizedStudy, normalizeStudy } from "./normalize.ts";
 import { planStudy } from "./plan.ts";
+import { contentHash } from "./hash.ts";
+import { realisationKey } from "../store/keys.ts";
 import { deriveSeedState, seedStateHex } from "./seeds.ts";
 import { TOY_ENGINE, toyStudy } from "./_test_engine.ts";
 
@@ -71,4 +73,20 @@ Deno.test("planStudy changes every seed with the master seed", () => {
   const a = planStudy(norm(SWEPT));
   const b = planStudy(norm(SWEPT.replace("seed: 42", "seed: 43")));
   ok(b.every((r, i) => r.seedHex !== a[i].seedHex && r.key !== a[i].key));
+});
+
+// Realisation keys are the content hash the planner always used (hash.ts), now written out in store/keys.ts so
+// that the store can recompute them; a change would orphan every stored realisation. Common practice, no source.
+Deno.test("planStudy keys are contentHash('spindrift-realisation-v1', { pointHash, index, seed })", () => {
+  const study = norm(SWEPT);
+  for (const r of planStudy(study)) {
+    equal(
+      r.key,
+      contentHash("spindrift-realisation-v1", { pointHash: r.pointHash, index: r.index, seed: study.seed }),
+    );
+  }
+  equal(
+    realisationKey("0f", 123456, 'a "quoted" seed ✓'),
+    contentHash("spindrift-realisation-v1", { pointHash: "0f", index: 123456, seed: 'a "quoted" seed ✓' }),
+  );
 });

@@ -33,8 +33,10 @@ import { describeAllowed } from "./_schema_walk.ts";
 
 /** Kinds of problems (stable identifiers, for tests and tools). */
 export type ProblemCode =
-  /** The file cannot be read (missing, a folder, no permission, not UTF-8). */
+  /** The file cannot be read (missing, a folder, no permission). */
   | "file-unreadable"
+  /** The file is not UTF-8 text (line and column of the first byte that is not). */
+  | "not-utf8"
   /** YAML syntax error (bad indentation, unclosed bracket or quote, tab indentation, several documents, …). */
   | "yaml-syntax"
   /** The same key twice in one map. */

@@ -30,6 +30,8 @@ import { type PoolHooks, runRealisations } from "./pool.ts";
 import { StudyStore } from "../store/db.ts";
 import { canonicalJson } from "./hash.ts";
 import type { Progress } from "./progress.ts";
+import { preflight } from "./preflight.ts";
+import { countDone } from "../store/status.ts";
 
 export interface Provenance {
   readonly toolVersion: string;
@@ -43,10 +45,16 @@ export interface RunOptions {
   readonly fresh?: boolean;
   /** Keep failed realisations instead of running them again. */
   readonly keepFailed?: boolean;
+  /** Run into a database created for a study of another name (see `StudyStore.recordStudy`). */
+  readonly allowOtherStudy?: boolean;
   readonly progress: Progress;
   readonly provenance: Provenance;
   /** Aborting stops dispatching, terminates workers and keeps every finished realisation. */
   readonly signal?: AbortSignal;
+  /** Lines the user should see before the run starts (a database upgrade, a stale lock taken over, warnings). */
+  readonly onNote?: (line: string) => void;
+  /** Run even past the pre-flight's hard limits (`preflight.ts`). */
+  readonly force?: boolean;
 }
 
 export interface FailureSummary {
@@ -56,8 +64,16 @@ export interface FailureSummary {
   readonly error: string;
 }
 
+/** A point computed again because an input file changed since it was last run. */
+export interface InputChange {
+  readonly pointLabel: string;
+  readonly files: readonly { readonly path: string; readonly before: string; readonly after: string }[];
+}
+
 export interface RunReport {
   readonly studyId: number;
+  /** Points whose input files changed since an earlier run (their earlier results stay stored). */
+  readonly inputChanges: readonly InputChange[];
   readonly planned: number;
   readonly skipped: number;
   readonly completed: number;
@@ -97,17 +113,56 @@ export function taskFor(study: NormalizedStudy, r: PlannedRealisation): Realisat
   };
 }
 
-/** Records the study and its points in the store; returns the study id. */
-export function recordStudy(store: StudyStore, study: NormalizedStudy, provenance: Provenance): number {
-  const engine = findEngine(study.engine.id);
-  const skipped = engine ? applicableObservables(study.observables.record, engine.capabilities).skipped : [];
-  const controls = {
+/** The run controls and observable settings stored with every point (`points.controls_json`). */
+function pointControls(study: NormalizedStudy) {
+  return {
     duration: study.run.duration,
     sampleInterval: study.run.sampleInterval,
     tolerance: study.run.tolerance,
     maxDistance: study.run.maxDistance,
     observables: study.observables,
   };
+}
+
+/** Points of `study` whose input files differ from those of an earlier run of the same parameters. */
+export function inputChanges(store: StudyStore, study: NormalizedStudy): InputChange[] {
+  const controlsJson = canonicalJson(pointControls(study));
+  const out: InputChange[] = [];
+  for (const p of study.points) {
+    if (Object.keys(p.inputs).length === 0) continue;
+    // Already computed with the current content (an earlier run announced it): nothing to say.
+    if (countDone(store.db, [p.pointHash], { seed: study.seed, realisations: study.realisations }) > 0) {
+      continue;
+    }
+    const earlier = store.earlierInputs({
+      pointHash: p.pointHash,
+      paramsHash: p.paramsHash,
+      engineId: study.engine.id,
+      controlsJson,
+    });
+    if (earlier.length === 0) continue;
+    const files = Object.entries(p.inputs)
+      .filter(([path, after]) => earlier[0][path] !== after)
+      .map(([path, after]) => ({ path, before: earlier[0][path] ?? "absent", after }));
+    if (files.length > 0) out.push({ pointLabel: p.label, files });
+  }
+  return out;
+}
+
+/**
+ * Records the study and its points in the store; returns the study id.
+ * @throws StoreError ("other-study") when the database belongs to another study and `opts.allowOtherStudy` is
+ * not set; nothing is written then.
+ */
+export function recordStudy(
+  store: StudyStore,
+  study: NormalizedStudy,
+  provenance: Provenance,
+  opts: { readonly allowOtherStudy?: boolean } = {},
+): number {
+  const engine = findEngine(study.engine.id);
+  const skipped = engine ? applicableObservables(study.observables.record, engine.capabilities).skipped : [];
+  const controls = pointControls(study);
   const { text: _text, sourcePath: _sourcePath, ...normalized } = study;
   return store.recordStudy(
     {
@@ -135,7 +190,9 @@ export function recordStudy(store: StudyStore, study: NormalizedStudy, provenanc
       variedJson: canonicalJson(p.varied),
       paramsJson: canonicalJson(p.params),
       controlsJson: canonicalJson(controls),
+      inputsJson: canonicalJson(p.inputs),
     })),
+    { allowOtherStudy: opts.allowOtherStudy },
   );
 }
 
@@ -144,12 +201,21 @@ export async function runStudy(study: NormalizedStudy, opts: RunOptions): Promis
   const t0 = performance.now();
   const engine = findEngine(study.engine.id);
   if (!engine) throw new Error(`engine ${study.engine.id} is not registered`);
-  const store = StudyStore.open(opts.dbPath);
+  // Sizes first, from counts alone: a study too large for the disk or the memory is refused before the
+  // database is touched or a plan is built.
+  const verdict = preflight(study, { dbPath: opts.dbPath, workers: opts.workers, force: opts.force });
+  for (const r of verdict.refusals) opts.onNote?.(`warning (run anyway, --force): ${r}`);
+  for (const w of verdict.warnings) opts.onNote?.(`warning: ${w}`);
+  const store = StudyStore.open(opts.dbPath, { command: "run" });
   try {
+    for (const n of store.notes) opts.onNote?.(n);
+    const studyId = recordStudy(store, study, opts.provenance, { allowOtherStudy: opts.allowOtherStudy });
+    const changes = inputChanges(store, study);
+    for (const c of changes) opts.onNote?.(describeInputChange(c));
+    // The lock guarantees no other writer: `running` rows are what a killed run left.
     const discardedUnfinished = store.discardUnfinished();
-    const studyId = recordStudy(store, study, opts.provenance);
-    if (opts.fresh) store.deleteRealisationsOf(study.points.map((p) => p.pointHash));
     const plan = planStudy(study);
+    if (opts.fresh) store.deleteRealisations(plan.map((r) => r.key));
     const statuses = store.realisationStatuses();
     const todo = plan.filter((r) => {
       const s = statuses.get(r.key);
@@ -159,6 +225,7 @@ export async function runStudy(study: NormalizedStudy, opts: RunOptions): Promis
     const result = await runPool(study, interleavePoints(todo), store, opts, plan.length, skipped);
     return {
       studyId,
+      inputChanges: changes,
       planned: plan.length,
       skipped,
       completed: result.completed,
@@ -171,6 +238,14 @@ export async function runStudy(study: NormalizedStudy, opts: RunOptions): Promis
   } finally {
     store.close();
   }
+}
+
+/** "point base: input data/w.csv changed since its last run (sha256:1a2b3c4d… → sha256:5e6f7a8b…); …". */
+export function describeInputChange(c: InputChange): string {
+  const short = (f: string) => f.startsWith("sha256:") ? `${f.slice(0, 15)}…` : f;
+  const files = c.files.map((f) => `${f.path} (${short(f.before)} → ${short(f.after)})`).join(", ");
+  return `point ${c.pointLabel}: input ${files} changed since it was last run; its realisations are computed ` +
+    "again (the earlier results stay in the database under the old content)";
 }
 
 /**
@@ -206,6 +281,7 @@ export function storingHooks(
         key: r.key,
         pointHash: r.pointHash,
         index: r.index,
+        masterSeed: study.seed,
         seedHex: r.seedHex,
         engineId: study.engine.id,
         engineVersion: study.engine.version,

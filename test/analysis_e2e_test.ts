@@ -177,11 +177,13 @@ Deno.test("report: the Answers section shows exactly the numbers stored in ensem
 
 Deno.test("query: spindrift query reaches the ensemble rows", async () => {
   const { walkers } = await fixtures;
-  const out = JSON.parse(runQuery(
-    walkers,
-    "SELECT analysis, name, value, lower, upper FROM ensemble_results WHERE analysis = 'msd-fit' AND name = 'D'",
-    "json",
-  )) as { value: number; lower: number; upper: number }[];
+  const out = JSON.parse(
+    await runQuery(
+      walkers,
+      "SELECT analysis, name, value, lower, upper FROM ensemble_results WHERE analysis = 'msd-fit' AND name = 'D'",
+      "json",
+    ),
+  ) as { value: number; lower: number; upper: number }[];
   assertEquals(out.length, 1);
   assertEquals(out[0].value, find(rowsOf(walkers), "msd-fit", "D").value);
 });

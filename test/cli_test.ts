@@ -1,30 +1,9 @@
 /** End-to-end runs of the command line as a user would type it (subprocesses of the real launcher path). */
 import { DatabaseSync } from "node:sqlite";
 import { assert, assertEquals } from "./_assert.ts";
-import { countWhere, digestResults, loadNormalizedForTest, REPO, runForTest } from "./_study.ts";
-
-const DENO = Deno.execPath();
-const PERMS = ["--allow-read", "--allow-write", "--allow-env", "--allow-sys=hostname"];
-
-function cli(args: string[], opts: { cwd?: string } = {}): Deno.Command {
-  return new Deno.Command(DENO, {
-    args: ["run", "--quiet", "--no-prompt", ...PERMS, `${REPO}cli/main.ts`, ...args],
-    cwd: opts.cwd ?? REPO,
-    stdout: "piped",
-    stderr: "piped",
-    env: { DENO_NO_UPDATE_CHECK: "1", NO_COLOR: "1" },
-  });
-}
-
-async function runCli(args: string[]): Promise<{ code: number; stdout: string; stderr: string }> {
-  const out = await cli(args).output();
-  const dec = new TextDecoder();
-  return { code: out.code, stdout: dec.decode(out.stdout), stderr: dec.decode(out.stderr) };
-}
-
-function assertNoStackTrace(text: string): void {
-  assert(!/\n\s+at .+:\d+:\d+/.test(text), `a stack trace was printed:\n${text}`);
-}
+import { countWhere, digestResults, loadNormalizedForTest, runForTest } from "./_study.ts";
+import { assertNoStackTrace, cli, runCli } from "./_cli.ts";
+import { tempDir } from "./_tmp.ts";
 
 Deno.test("cli: --help lists the commands in plain words", async () => {
   const r = await runCli(["--help"]);
@@ -56,7 +35,7 @@ Deno.test("cli: --help shows the typical session, analyse included", async () =>
 });
 
 Deno.test("cli: check of a broken study lists problems with line numbers and no stack trace", async () => {
-  const dir = Deno.makeTempDirSync();
+  const dir = tempDir();
   const path = `${dir}/bad.yaml`;
   Deno.writeTextFileSync(
     path,
@@ -80,12 +59,16 @@ Deno.test("cli: a missing database gets a clear message", async () => {
 
 Deno.test("cli: a file that is not a study database gets a clear message on status, report and query", async () => {
   const path = Deno.makeTempFileSync({ suffix: ".sqlite" });
-  Deno.writeTextFileSync(path, "these are notes, not a database\n");
-  for (const args of [["status", path], ["report", path], ["query", path, "SELECT 1"]]) {
-    const r = await runCli(args);
-    assertEquals(r.code, 1, args.join(" "));
-    assert(r.stderr.includes("not a spindrift database"), r.stderr);
-    assertNoStackTrace(r.stderr);
+  try {
+    Deno.writeTextFileSync(path, "these are notes, not a database\n");
+    for (const args of [["status", path], ["report", path], ["query", path, "SELECT 1"]]) {
+      const r = await runCli(args);
+      assertEquals(r.code, 1, args.join(" "));
+      assert(r.stderr.includes("is not an SQLite database file"), r.stderr);
+      assertNoStackTrace(r.stderr);
+    }
+  } finally {
+    Deno.removeSync(path);
   }
 });
 
@@ -105,7 +88,7 @@ run: { duration: 1.5, sampleInterval: 0.05, tolerance: 1.0e-9 }
 `;
 
 Deno.test("cli: SIGKILL mid-run loses no finished realisation; resuming gives the uninterrupted database", async () => {
-  const dir = Deno.makeTempDirSync();
+  const dir = tempDir();
   const studyPath = `${dir}/kill.yaml`;
   Deno.writeTextFileSync(studyPath, KILL_STUDY);
   const killedDb = `${dir}/killed.sqlite`;
@@ -150,7 +133,7 @@ Deno.test("cli: SIGKILL mid-run loses no finished realisation; resuming gives th
 });
 
 Deno.test("cli: run, status, query and export work together on a small study", async () => {
-  const dir = Deno.makeTempDirSync();
+  const dir = tempDir();
   const studyPath = `${dir}/small.yaml`;
   Deno.writeTextFileSync(studyPath, KILL_STUDY.replace("realisations: 6", "realisations: 2"));
   const run = await runCli(["run", studyPath, "--workers", "2", "--quiet"]);

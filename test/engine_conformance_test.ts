@@ -7,6 +7,7 @@
 import { assert, assertEquals } from "./_assert.ts";
 import { countWhere, digestResults, loadNormalizedForTest, REPO, runForTest } from "./_study.ts";
 import type { NormalizedStudy } from "../study/normalize.ts";
+import { tempFile } from "./_tmp.ts";
 
 const studies = [...Deno.readDirSync(`${REPO}test/conformance`)]
   .filter((e) => e.name.endsWith(".yaml"))
@@ -14,7 +15,7 @@ const studies = [...Deno.readDirSync(`${REPO}test/conformance`)]
   .sort();
 
 function tmp(): string {
-  return Deno.makeTempFileSync({ suffix: ".sqlite" });
+  return tempFile(".sqlite");
 }
 
 for (const path of studies) {

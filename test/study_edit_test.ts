@@ -7,6 +7,7 @@ import { assertEquals } from "./_assert.ts";
 import { countWhere, normalizeText, runForTest } from "./_study.ts";
 import { runStudy } from "../study/runner.ts";
 import { createProgress } from "../study/progress.ts";
+import { tempFile } from "./_tmp.ts";
 
 const BASE = `
 name: edit-test
@@ -23,7 +24,7 @@ run: { duration: 0.2, sampleInterval: 0.05 }
 `;
 
 Deno.test("runStudy after an edit keeps unchanged points, runs new ones, and --fresh recomputes all", async () => {
-  const db = Deno.makeTempFileSync({ suffix: ".sqlite" });
+  const db = tempFile(".sqlite");
   const first = await runForTest(normalizeText(BASE), db, 2);
   assertEquals(first.completed, 4);
 

@@ -18,7 +18,17 @@ step "type check (deno check)"
 "$DENO" check --quiet . || status=1
 step "tests (deno test)"
 junit=$(mktemp)
-"$DENO" test --quiet --allow-all --parallel --reporter=dot --junit-path="$junit" "$@" || status=1
+# Tests write their databases into a private temporary folder, removed afterwards; what they leave behind is
+# counted, so a test that forgets to clean up shows.
+scratch=$(mktemp -d "${TMPDIR:-/tmp}/spindrift-tests-XXXXXX")
+chmod 755 "$scratch" # a test runs commands as an unprivileged user on files in here
+TMPDIR="$scratch" "$DENO" test --quiet --allow-all --parallel --reporter=dot --junit-path="$junit" "$@" || status=1
+left=$(find "$scratch" -mindepth 1 -maxdepth 1 | wc -l)
+if [ "$left" -gt 0 ]; then
+  echo "note: the tests left $left file(s) or folder(s) in their temporary folder (removed now):" >&2
+  find "$scratch" -mindepth 1 -maxdepth 1 | head -5 | sed 's/^/  /' >&2
+fi
+rm -rf "$scratch"
 passed=0
 failed=0
 if [ -s "$junit" ]; then

@@ -250,7 +250,7 @@ async function runExternal(
   let ok = false;
   try {
     await prepareWorkFolder(inv);
-    const result = await runProgram(inv, p);
+    const result = await runProgram(inv, { ...p, stop: input.stop });
     sink.event(programRunEvent(inv, result));
     const failure = runFailure(inv, result, p, keptOnFailure);
     if (failure !== null) throw failure;
@@ -320,6 +320,11 @@ const capabilities3d: EngineCapabilities = {
 };
 
 /** Runs a program per realisation and imports its 2D point-vortex tracks. */
+/** The template files of the input files (their contents shape every run; the program has its `version`). */
+function templateFiles(p: ExternalParams): string[] {
+  return p.inputFiles.flatMap((f) => f.template === undefined ? [] : [f.template]);
+}
+
 export const externalProgram2dEngine: Engine<External2dParams> = {
   id: EXTERNAL_2D_ID,
   version: EXTERNAL_ENGINE_VERSION,
@@ -329,6 +334,7 @@ export const externalProgram2dEngine: Engine<External2dParams> = {
   starter: EXTERNAL_2D_STARTER,
   scales: (params) => ({ units: studyUnitLabels(params.units) }),
   run: (input, sink) => runExternal(2, EXTERNAL_2D_ID, input, sink),
+  inputFiles: templateFiles,
   describeRealisation: (input) => describeExternal(2, EXTERNAL_2D_ID, input),
 };
 
@@ -345,5 +351,6 @@ export const externalProgram3dEngine: Engine<External3dParams> = {
     units: studyUnitLabels(params.units),
   }),
   run: (input, sink) => runExternal(3, EXTERNAL_3D_ID, input, sink),
+  inputFiles: templateFiles,
   describeRealisation: (input) => describeExternal(3, EXTERNAL_3D_ID, input),
 };

@@ -17,7 +17,7 @@
  * ```
  */
 import { dirname, join } from "node:path";
-import { EngineFailure } from "../contract.ts";
+import { EngineFailure, RealisationStopped, type StopRequest } from "../contract.ts";
 import type { Invocation } from "./invocation.ts";
 import { STDERR_LOG, STDOUT_LOG } from "./params.ts";
 import { TailBuffer, type TailText } from "./tail.ts";
@@ -51,7 +51,12 @@ export interface RunProgramOptions {
   readonly killGraceSeconds: number;
   /** Milliseconds to wait for the output pipes to close after the program exited (default 2000). */
   readonly drainMilliseconds?: number;
+  /** The run's stop request: once set, the program gets SIGTERM (SIGKILL after the grace period). */
+  readonly stop?: StopRequest;
 }
+
+/** How often a running program's realisation looks at the stop request. */
+const STOP_POLL_MS = 100;
 
 /**
  * Creates the invocation's work folder empty (removing what an earlier, interrupted attempt left) and writes
@@ -179,17 +184,28 @@ export async function runProgram(inv: Invocation, options: RunProgramOptions): P
   const pumps = Promise.all([pump(outReader, outLog, outTail), pump(errReader, errLog, errTail)]);
 
   let timedOut = false;
+  let stopped = false;
   let killTimer: ReturnType<typeof setTimeout> | undefined;
-  const limitTimer = setTimeout(() => {
-    timedOut = true;
+  const terminate = () => {
     tryKill(child, "SIGTERM");
     killTimer = setTimeout(() => tryKill(child, "SIGKILL"), options.killGraceSeconds * 1000);
+  };
+  const limitTimer = setTimeout(() => {
+    timedOut = true;
+    terminate();
   }, options.timeoutSeconds * 1000);
+  const stopPoll = options.stop === undefined ? undefined : setInterval(() => {
+    if (stopped || !options.stop!.requested) return;
+    stopped = true;
+    clearTimeout(limitTimer);
+    terminate();
+  }, STOP_POLL_MS);
   let status: Deno.CommandStatus;
   try {
     status = await child.status;
   } finally {
     clearTimeout(limitTimer);
+    clearInterval(stopPoll);
     if (killTimer !== undefined) clearTimeout(killTimer);
   }
   const wallSeconds = (performance.now() - started) / 1000;
@@ -207,6 +223,7 @@ export async function runProgram(inv: Invocation, options: RunProgramOptions): P
   }
   outLog.close();
   errLog.close();
+  if (stopped) throw new RealisationStopped();
   const signal = status.signal;
   return {
     exitCode: signal === null ? status.code : null,

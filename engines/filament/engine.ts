@@ -28,6 +28,7 @@
  */
 import { checkRunControls } from "../_controls.ts";
 import { EngineFailure } from "../contract.ts";
+import { filamentSizeHint } from "./size_hint.ts";
 import type { Engine, EngineRunInput, EngineRunSummary, FrameSink } from "../contract.ts";
 import { computeGeometry } from "./geometry.ts";
 import { ringConstant } from "./biot_savart.ts";
@@ -97,6 +98,7 @@ export const filamentEngine: Engine<FilamentParams> = {
   paramsSchema: filamentParamsSchema,
   upgradeParams: upgradeFilamentParams,
   starter: FILAMENT_STARTER,
+  sizeHint: filamentSizeHint,
   run(input, sink) {
     checkRunControls(input.controls, { usesTolerance: false });
     const init = input.params.initial;
@@ -350,6 +352,7 @@ function runWithLoops(
   for (let k = 1; k <= frames; k++) {
     const tk = k * dtSample;
     while (sim.t < tk * (1 - 1e-12)) {
+      input.stop?.check();
       sim.advance(tk - sim.t);
       if (tk - sim.t < 1e-12 * tk) sim.t = tk;
     }

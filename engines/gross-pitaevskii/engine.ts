@@ -19,6 +19,7 @@ import { type GpParams, gpParamsSchema } from "./params.ts";
 import { simulate } from "./simulate.ts";
 import { SNAPSHOT_FIELDS } from "./snapshot.ts";
 import { GP_STARTER } from "./starter.ts";
+import { gpSizeHint } from "./size_hint.ts";
 
 export const gpEngine: Engine<GpParams> = {
   id: "gross-pitaevskii-2d",
@@ -55,6 +56,7 @@ export const gpEngine: Engine<GpParams> = {
   },
   paramsSchema: gpParamsSchema,
   starter: GP_STARTER,
+  sizeHint: gpSizeHint,
   scales() {
     return { coreRadius: 1, circulation: 1 };
   },

@@ -63,6 +63,8 @@ export class Relaxer {
   readonly potential: Float64Array;
   readonly #fft: Fft2d;
   readonly #work: Float64Array;
+  /** Called every few iterations (e.g. the engine's stop check, which may throw to end the relaxation). */
+  onCheck: (() => void) | null = null;
 
   constructor(grid: Grid, fft: Fft2d, potential: Float64Array) {
     this.grid = grid;
@@ -176,6 +178,7 @@ export class Relaxer {
       }
       for (let p = 0; p < 2 * m; p++) psi[p] = scale * w[p];
       it++;
+      if (it % CHECK_EVERY === 0) this.onCheck?.();
       if (fixedNorm) mu = (scale * scale * kin + this.#potentialTerms(psi)) * cell / target;
       if (opts.tolerance > 0 && it % CHECK_EVERY === 0) {
         residual = this.residual(psi);

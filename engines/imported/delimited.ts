@@ -19,7 +19,7 @@
  * });
  * ```
  */
-import { type ByteSource, forEachLine, TextFormatError } from "./text_lines.ts";
+import { type ByteSource, forEachLine, type LineOptions, TextFormatError } from "./text_lines.ts";
 
 /** A field delimiter character, or "whitespace" (runs of spaces and tabs). */
 export type RecordDelimiter = string;
@@ -92,26 +92,27 @@ function isBlank(line: string): boolean {
   return line.trim().length === 0;
 }
 
-export interface RecordOptions {
+export interface RecordOptions extends LineOptions {
   readonly delimiter: RecordDelimiter;
   /** Lines starting with this character are skipped; null: no comments. */
   readonly comment: string | null;
-  readonly chunkBytes?: number;
 }
 
 /**
- * Streams the records of a delimited text file: `onRecord(fields, line)` with the 1-based line where the
- * record starts. Stops early when `onRecord` returns false. Throws `RecordFormatError` for malformed quoting
- * and `TextFormatError` for bytes that are not UTF-8.
+ * Streams the records of a delimited text file: `onRecord(fields, line, byteOffset)` with the 1-based line
+ * where the record starts and (with `options.offsets`) the byte offset of that line. Stops early when
+ * `onRecord` returns false. Throws `RecordFormatError` for malformed quoting and `TextFormatError` for bytes
+ * that are not UTF-8.
  */
 export async function forEachRecord(
   source: ByteSource,
   options: RecordOptions,
-  onRecord: (fields: string[], line: number) => boolean | void,
+  onRecord: (fields: string[], line: number, byteOffset: number) => boolean | void,
 ): Promise<void> {
   const { delimiter, comment } = options;
   let pending: string | null = null;
   let pendingLine = 0;
+  let pendingByte = -1;
   let stopped = false;
   const split = (text: string, line: number): string[] | null => {
     try {
@@ -121,7 +122,7 @@ export async function forEachRecord(
       throw e;
     }
   };
-  await forEachLine(source, (line, lineNumber) => {
+  await forEachLine(source, (line, lineNumber, byteOffset) => {
     if (pending === null) {
       if (isBlank(line)) return true;
       if (comment !== null && line.startsWith(comment)) return true;
@@ -129,9 +130,10 @@ export async function forEachRecord(
       if (fields === null) {
         pending = line;
         pendingLine = lineNumber;
+        pendingByte = byteOffset;
         return true;
       }
-      if (onRecord(fields, lineNumber) === false) {
+      if (onRecord(fields, lineNumber, byteOffset) === false) {
         stopped = true;
         return false;
       }
@@ -141,12 +143,12 @@ export async function forEachRecord(
     const fields = split(pending, pendingLine);
     if (fields === null) return true;
     pending = null;
-    if (onRecord(fields, pendingLine) === false) {
+    if (onRecord(fields, pendingLine, pendingByte) === false) {
       stopped = true;
       return false;
     }
     return true;
-  }, { chunkBytes: options.chunkBytes });
+  }, options);
   if (!stopped && pending !== null) {
     throw new RecordFormatError(`a quoted field opened on line ${pendingLine} is never closed`, pendingLine);
   }

@@ -29,7 +29,7 @@ import {
   type Tracks2dParams,
   tracks2dParamsSchema,
 } from "./params.ts";
-import { assemblerSettings, planRead, selectionText } from "./plan.ts";
+import { assemblerSettings, planRead, selectionText, sourceFilePaths } from "./plan.ts";
 import { readDelimited } from "./read_delimited.ts";
 import { readHdf5 } from "./read_hdf5.ts";
 import { readJsonLines } from "./read_jsonl.ts";
@@ -109,6 +109,7 @@ export const importedTracks2dEngine: Engine<Tracks2dParams> = {
   starter: TRACKS_2D_STARTER,
   scales: (params) => ({ units: studyUnitLabels(params.units) }),
   run: (input, sink) => runImport(2, input, sink),
+  inputFiles: (params, realisations) => sourceFilePaths(params.source, realisations),
 };
 
 /** 3D vortex-filament snapshots read from CSV/TSV, JSON lines or HDF5 files. */
@@ -125,4 +126,5 @@ export const importedFilaments3dEngine: Engine<Filaments3dParams> = {
     units: studyUnitLabels(params.units),
   }),
   run: (input, sink) => runImport(3, input, sink),
+  inputFiles: (params, realisations) => sourceFilePaths(params.source, realisations),
 };

@@ -263,6 +263,18 @@ export function sourceFormat(source: SourceParams): DataFormat | undefined {
   return first === undefined ? undefined : EXTENSION_FORMATS[extensionOf(first)];
 }
 
+/** The format of one file of a source: explicit `source.format`, else from that file's own extension. */
+export function fileFormat(source: SourceParams, path: string): DataFormat | undefined {
+  return source.format ?? EXTENSION_FORMATS[extensionOf(path)];
+}
+
+/** Every file name a source lists (patterns as written). */
+function sourceFiles(source: SourceParams): string[] {
+  if (source.file !== undefined) return [source.file];
+  if (Array.isArray(source.files)) return [...source.files];
+  return source.files === undefined ? [] : [source.files];
+}
+
 function checkSource(s: SourceParams, ctx: Ctx): void {
   const issue = (path: (string | number)[], message: string) =>
     ctx.addIssue({ code: "custom", path: ["source", ...path], message });
@@ -288,22 +300,33 @@ function checkSource(s: SourceParams, ctx: Ctx): void {
   if (s.realisationOffset !== undefined && s.realisationValues !== undefined) {
     issue(["realisationValues"], "give source.realisationValues or source.realisationOffset, not both");
   }
-  const format = sourceFormat(s);
-  if (format === undefined && (s.files !== undefined || s.file !== undefined)) {
+  // Each listed file is read in its own format (explicit source.format, else its own extension).
+  const files = sourceFiles(s);
+  const unknown = files.filter((f) => fileFormat(s, f) === undefined);
+  if (unknown.length > 0) {
     const known = Object.keys(EXTENSION_FORMATS).join(", ");
     issue(
       ["format"],
-      `cannot tell the format from the file name (known extensions: ${known}); set source.format`,
+      `cannot tell the format from the file name${unknown.length > 1 ? "s" : ""} ` +
+        `${unknown.slice(0, 3).map((f) => `'${f}'`).join(", ")}${unknown.length > 3 ? ", …" : ""} ` +
+        `(known extensions: ${known}); set source.format`,
     );
   }
-  if (format !== undefined) {
-    const delimited = format === "csv" || format === "tsv";
-    if (!delimited && s.delimiter !== undefined) {
-      issue(["delimiter"], `applies to csv/tsv files, not ${format}`);
+  const formats = new Set(files.map((f) => fileFormat(s, f)).filter((f): f is DataFormat => f !== undefined));
+  if (formats.size > 0) {
+    const list = [...formats].join("/");
+    const any = (pred: (f: DataFormat) => boolean) => [...formats].some(pred);
+    const delimited = (f: DataFormat) => f === "csv" || f === "tsv";
+    if (!any(delimited) && s.delimiter !== undefined) {
+      issue(["delimiter"], `applies to csv/tsv files, not ${list}`);
     }
-    if (!delimited && s.header !== undefined) issue(["header"], `applies to csv/tsv files, not ${format}`);
-    if (format === "hdf5" && s.comment !== undefined) issue(["comment"], "applies to text files, not hdf5");
-    if (format !== "hdf5" && s.group !== undefined) issue(["group"], `applies to hdf5 files, not ${format}`);
+    if (!any(delimited) && s.header !== undefined) issue(["header"], `applies to csv/tsv files, not ${list}`);
+    if (!any((f) => f !== "hdf5") && s.comment !== undefined) {
+      issue(["comment"], "applies to text files, not hdf5");
+    }
+    if (!any((f) => f === "hdf5") && s.group !== undefined) {
+      issue(["group"], `applies to hdf5 files, not ${list}`);
+    }
   }
 }
 

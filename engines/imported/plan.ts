@@ -25,8 +25,8 @@ import {
   columnUnit,
   type DataFormat,
   type Filaments3dParams,
+  fileFormat,
   PLACEHOLDER,
-  sourceFormat,
   type SourceParams,
   type Tracks2dParams,
 } from "./params.ts";
@@ -121,6 +121,19 @@ function fileFor(source: SourceParams, index: number): { path: string; filter: R
   return { path: file, filter: { ref: source.realisationColumn, value, param: "source.realisationColumn" } };
 }
 
+/**
+ * The data files realisations 0 … `realisations` − 1 read, relative to the study file's folder (`directory`
+ * applied) or absolute, each once: what the point's content fingerprint covers (`Engine.inputFiles`).
+ */
+export function sourceFilePaths(source: SourceParams, realisations: number): string[] {
+  const files = source.file !== undefined
+    ? [source.file]
+    : Array.isArray(source.files)
+    ? source.files.slice(0, Math.max(1, realisations))
+    : Array.from({ length: Math.max(1, realisations) }, (_, i) => expandPattern(source.files as string, i));
+  return [...new Set(files.map((f) => joinPath(source.directory, f)))];
+}
+
 /** The read plan of realisation `index` (fails clearly when the realisation has no data source). */
 export function planRead(
   params: Tracks2dParams | Filaments3dParams,
@@ -134,7 +147,8 @@ export function planRead(
     fail("the runner did not pass the realisation index, which selects this realisation's data");
   }
   const { path, filter } = fileFor(source, index ?? 0);
-  const format = sourceFormat(source) as DataFormat;
+  // The format of this realisation's own file: a list may mix formats (e.g. .csv and .h5).
+  const format = fileFormat(source, path) as DataFormat;
   const columns: MappedColumn[] = [];
   const add = (
     slot: SlotIndex,

@@ -59,3 +59,15 @@ Deno.test("planRead: a realisation without data fails with the reason", () => {
     }
   }
 });
+
+Deno.test("planRead: each file of a list is read in its own format (a .h5 after a .csv is HDF5)", () => {
+  const params = tracks2dParamsSchema.parse({ source: { files: ["r0.csv", "r1.h5", "r2.jsonl"] } });
+  assertEquals([0, 1, 2].map((i) => planRead(params, 2, i).format), ["csv", "hdf5", "jsonl"]);
+  const forced = tracks2dParamsSchema.parse({ source: { files: ["r0.txt", "r1.dat"], format: "tsv" } });
+  assertEquals([0, 1].map((i) => planRead(forced, 2, i).format), ["tsv", "tsv"]);
+  const bad = tracks2dParamsSchema.safeParse({ source: { files: ["r0.csv", "r1.dat"] } });
+  assertEquals(bad.success, false);
+  assertEquals(bad.error?.issues.map((i) => [i.path.join("."), i.message.slice(0, 52)]), [
+    ["source.format", "cannot tell the format from the file name 'r1.dat' ("],
+  ]);
+});

@@ -17,6 +17,7 @@
 import { absentHint, didYouMean, fail, listNames, openDataFile } from "./_messages.ts";
 import { type FrameAssembler, type RowOrigin, Slot, SLOT_COUNT, type SlotIndex } from "./assemble.ts";
 import { forEachRecord, RecordFormatError, TextFormatError } from "./delimited.ts";
+import { readOwnRows } from "./_shared_file_index.ts";
 import type { ReadPlan } from "./plan.ts";
 
 const NAN_TEXT = /^\s*[+-]?nan\s*$/i;
@@ -99,51 +100,65 @@ export async function readDelimited(plan: ReadPlan, asm: FrameAssembler): Promis
   };
 
   let resolved = false;
-  try {
-    await forEachRecord(file, { delimiter: plan.delimiter, comment: plan.comment }, (fields, line) => {
-      if (!resolved) {
-        fieldCount = fields.length;
-        resolve(plan.header ? fields : null, line);
-        resolved = true;
-        if (plan.header) return true;
-      }
-      if (fields.length !== fieldCount) {
-        const count = `${fields.length} field${fields.length === 1 ? "" : "s"}`;
-        const reference = plan.header ? "as in the header" : "as in the first row";
+  let stopped = false;
+  const onRecord = (fields: string[], line: number): boolean => {
+    if (!resolved) {
+      fieldCount = fields.length;
+      resolve(plan.header ? fields : null, line);
+      resolved = true;
+      if (plan.header) return true;
+    }
+    if (fields.length !== fieldCount) {
+      const count = `${fields.length} field${fields.length === 1 ? "" : "s"}`;
+      const reference = plan.header ? "as in the header" : "as in the first row";
+      fail(
+        `${plan.display}:${line}: the row has ${count}, expected ${fieldCount} (${reference}); unequal ` +
+          "field counts mean a missing or extra delimiter",
+      );
+    }
+    origin.ref = line;
+    if (filterIndex >= 0) {
+      const text = fields[filterIndex];
+      const v = Number(text);
+      if (text.trim().length === 0 || !Number.isInteger(v)) {
         fail(
-          `${plan.display}:${line}: the row has ${count}, expected ${fieldCount} (${reference}); unequal ` +
-            "field counts mean a missing or extra delimiter",
+          `${plan.display}:${line} column '${filterLabel}': got '${text}', expected an integer realisation ` +
+            `number (${plan.filter!.param})`,
         );
       }
-      origin.ref = line;
-      if (filterIndex >= 0) {
-        const text = fields[filterIndex];
-        const v = Number(text);
-        if (text.trim().length === 0 || !Number.isInteger(v)) {
-          fail(
-            `${plan.display}:${line} column '${filterLabel}': got '${text}', expected an integer realisation ` +
-              `number (${plan.filter!.param})`,
-          );
-        }
-        if (v !== plan.filter!.value) return true;
+      if (v !== plan.filter!.value) return true;
+    }
+    let blank = true;
+    for (let j = 0; j < slots.length; j++) {
+      const s = slots[j];
+      if (s !== Slot.T && fields[index[s]].length > 0) {
+        blank = false;
+        break;
       }
-      let blank = true;
-      for (let j = 0; j < slots.length; j++) {
-        const s = slots[j];
-        if (s !== Slot.T && fields[index[s]].length > 0) {
-          blank = false;
-          break;
-        }
-      }
-      for (let j = 0; j < slots.length; j++) {
-        const s = slots[j];
-        if (blank && s !== Slot.T) continue;
-        const text = fields[index[s]];
-        const v = Number(text);
-        if (notANumber(text, v)) badNumber(origin.describe(line, s), text);
-        row[s] = v;
-      }
-      return blank ? asm.emptyRow(row[Slot.T], origin) : asm.row(row, origin);
+    }
+    for (let j = 0; j < slots.length; j++) {
+      const s = slots[j];
+      if (blank && s !== Slot.T) continue;
+      const text = fields[index[s]];
+      const v = Number(text);
+      if (notANumber(text, v)) badNumber(origin.describe(line, s), text);
+      row[s] = v;
+    }
+    return blank ? asm.emptyRow(row[Slot.T], origin) : asm.row(row, origin);
+  };
+  try {
+    // One file holding every realisation: read only this realisation's rows (see _shared_file_index.ts).
+    await readOwnRows(plan, file, async (source, start) => {
+      await forEachRecord(
+        source,
+        { delimiter: plan.delimiter, comment: plan.comment, ...start },
+        (f, line) => {
+          if (onRecord(f, line) !== false) return true;
+          stopped = true;
+          return false;
+        },
+      );
+      return !stopped;
     });
   } catch (e) {
     if (e instanceof RecordFormatError) fail(`${plan.display}:${e.line}: ${e.message}`);

@@ -20,6 +20,7 @@ import { absentHint, fail, listNames, openDataFile } from "./_messages.ts";
 import { type FrameAssembler, type RowOrigin, Slot, SLOT_COUNT, type SlotIndex } from "./assemble.ts";
 import type { ReadPlan } from "./plan.ts";
 import { forEachLine, TextFormatError } from "./text_lines.ts";
+import { readOwnRows } from "./_shared_file_index.ts";
 
 /** Row references pack (line, array position + 1) into one exactly represented double. */
 const ELEMENT_RADIX = 16777216; // 2^24
@@ -179,7 +180,12 @@ export async function readJsonLines(plan: ReadPlan, asm: FrameAssembler): Promis
   };
 
   try {
-    await forEachLine(file, onLine);
+    // One file holding every realisation: read only this realisation's lines (see _shared_file_index.ts).
+    await readOwnRows(plan, file, async (source, start) => {
+      let more = true;
+      await forEachLine(source, (text, line) => (more = onLine(text, line) !== false), start);
+      return more;
+    });
   } catch (e) {
     if (e instanceof TextFormatError) fail(`${plan.display}: ${e.message}`);
     throw e;

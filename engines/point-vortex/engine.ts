@@ -11,6 +11,7 @@
  * ```
  */
 import type { Engine } from "../contract.ts";
+import { pointVortexSizeHint } from "./size_hint.ts";
 import { type PointVortexParams, pointVortexParamsSchema } from "./params.ts";
 import { POINT_VORTEX_STARTER } from "./starter.ts";
 import { squared } from "../units.ts";
@@ -42,6 +43,7 @@ export const pointVortexEngine: Engine<PointVortexParams> = {
   },
   paramsSchema: pointVortexParamsSchema,
   starter: POINT_VORTEX_STARTER,
+  sizeHint: pointVortexSizeHint,
   scales(params) {
     const l = params.lengthUnit;
     return { units: { length: l, time: `${squared(l)}/κ`, circulation: "κ" } };

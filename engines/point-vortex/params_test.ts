@@ -146,3 +146,11 @@ Deno.test("pointVortexParamsSchema converts to a JSON Schema with units in the d
   const js = JSON.stringify(z.toJSONSchema(pointVortexParamsSchema, { io: "input" }));
   for (const fragment of ["length units ℓ", "units of κ", "κ/ℓ"]) assert.ok(js.includes(fragment), fragment);
 });
+
+Deno.test("pointVortexParamsSchema reports a negative or fractional count once, without a spurious parity issue", () => {
+  for (const count of [-3, 2.5, 0]) {
+    const list = issues({ initial: cloud({ count }) });
+    assert.deepEqual(list.map((i) => i.path), ["initial.count"], JSON.stringify(list));
+    assert.ok(!list[0].message.includes("odd"), list[0].message);
+  }
+});

@@ -247,6 +247,7 @@ export function simulate(input: EngineRunInput<PointVortexParams>, sink: FrameSi
   for (let k = 1; k <= frames; k++) {
     const tk = k * dtSample;
     while (dp.t < tk) {
+      input.stop?.check();
       const hCap = n > 0 && gMax > 0 ? capFactor * dp.minSeparation2 / gMax : Infinity;
       dp.step(tk, hCap);
       afterStep();

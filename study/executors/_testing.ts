@@ -1,6 +1,7 @@
 /** Test helpers of the cluster executor: a small real study and a scripted stand-in for Slurm. */
 import type { BatchSystem, QueueSnapshot } from "./slurm.ts";
 import type { Provenance } from "../runner.ts";
+import { tempDir } from "../../test/_tmp.ts";
 
 /** A small point-vortex study: 2 points × 3 realisations, well under a second each. */
 export const SMALL_STUDY = `
@@ -26,7 +27,7 @@ export const TEST_PROVENANCE: Provenance = {
 
 /** Writes the study into a fresh temporary folder; returns the folder and the study path. */
 export function studyInTempDir(text = SMALL_STUDY): { dir: string; studyPath: string } {
-  const dir = Deno.makeTempDirSync({ prefix: "spindrift-cluster-" });
+  const dir = tempDir("spindrift-cluster-");
   const studyPath = `${dir}/study.yaml`;
   Deno.writeTextFileSync(studyPath, text);
   return { dir, studyPath };

@@ -137,6 +137,8 @@ export function pointProgress(
     readonly stored: readonly RealisationRef[];
     readonly shards?: readonly RealisationRef[];
     readonly inFlight?: ReadonlyMap<string, InFlightTask>;
+    /** The study's planned keys: rows of the same points under another master seed are not counted. */
+    readonly keys?: ReadonlySet<string>;
   },
 ): PointProgress[] {
   const stored = bestByKey(sources.stored);
@@ -155,7 +157,7 @@ export function pointProgress(
   }]));
   for (const [key, r] of all) {
     const row = rows.get(r.pointHash);
-    if (!row || r.idx >= planned) continue;
+    if (!row || r.idx >= planned || (sources.keys !== undefined && !sources.keys.has(key))) continue;
     if (r.status === "done" || r.status === "failed") {
       row[r.status]++;
       if (stored.get(key)?.status !== r.status) row.uncollected++;

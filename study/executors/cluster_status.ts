@@ -81,7 +81,8 @@ export async function clusterStatus(
   const finished = new Set(
     [...stored, ...shards.refs].filter((r) => r.status !== "running").map((r) => r.key),
   );
-  const missingKeys = planStudy(normalized).map((r) => r.key).filter((k) => !finished.has(k));
+  const keys = new Set(planStudy(normalized).map((r) => r.key));
+  const missingKeys = [...keys].filter((k) => !finished.has(k));
   const jobs = mine.map(({ manifest }) => {
     let queued = 0, running = 0;
     for (const state of (manifest.jobId !== null ? queue?.get(manifest.jobId)?.values() : undefined) ?? []) {
@@ -95,7 +96,7 @@ export async function clusterStatus(
     studyId: base.studyId,
     name: base.name,
     lastRunAt: base.lastRunAt,
-    points: pointProgress(points, planned, { stored, shards: shards.refs, inFlight }),
+    points: pointProgress(points, planned, { stored, shards: shards.refs, inFlight, keys }),
     shards: shardPaths.length,
     unreadableShards: shards.unreadable,
     jobs,

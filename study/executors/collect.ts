@@ -14,7 +14,7 @@
 import { planStudy } from "../plan.ts";
 import type { NormalizedStudy } from "../normalize.ts";
 import { type Provenance, recordStudy } from "../runner.ts";
-import { StudyStore } from "../../store/db.ts";
+import { salvageHint, StoreError, StudyStore } from "../../store/db.ts";
 import { type MergeResult, mergeShard, type ShardProblem, ShardRejected } from "../../store/merge.ts";
 import {
   explainMissing,
@@ -34,6 +34,8 @@ export interface CollectOptions {
   readonly provenance: Provenance;
   /** Asked which array tasks are still active; without it (or when it fails) the queue state is unknown. */
   readonly batch?: BatchSystem;
+  /** Collect into a database created for a study of another name (see `StudyStore.recordStudy`). */
+  readonly allowOtherStudy?: boolean;
 }
 
 export interface CollectReport {
@@ -82,10 +84,20 @@ export async function collectStudy(study: NormalizedStudy, opts: CollectOptions)
   const expect = { studyHash: study.hash, engineId: study.engine.id, engineVersion: study.engine.version };
   const merged: MergeResult[] = [];
   const rejected: { shard: string; problem: ShardProblem; message: string }[] = [];
-  const store = StudyStore.open(opts.dbPath);
+  const store = StudyStore.open(opts.dbPath, { command: "collect" });
   let stored;
   try {
-    recordStudy(store, study, opts.provenance);
+    // A merge writes many rows at once: check the whole file first (the open ran only the quick check).
+    const problems = store.integrityProblems();
+    if (problems.length > 0) {
+      throw new StoreError(
+        `${opts.dbPath} fails SQLite's integrity check (${
+          problems.slice(0, 3).join("; ")
+        }); nothing was merged`,
+        { reason: "corrupt", hint: salvageHint(opts.dbPath) },
+      );
+    }
+    recordStudy(store, study, opts.provenance, { allowOtherStudy: opts.allowOtherStudy });
     for (const shard of shardPaths) {
       try {
         merged.push(await mergeShard(store, shard, expect));
@@ -101,13 +113,14 @@ export async function collectStudy(study: NormalizedStudy, opts: CollectOptions)
   const { queue, problem } = await tryQueue(opts.batch);
   const mine = manifests.filter((m) => m.manifest.studyHash === study.hash);
   const inFlight = inFlightKeys(mine.map((m) => m.manifest), queue ?? new Map());
+  const keys = new Set(planStudy(study).map((r) => r.key));
   const points = pointProgress(
     study.points.map((p) => ({ index: p.index, label: p.label, pointHash: p.pointHash })),
     study.realisations,
-    { stored, inFlight },
+    { stored, inFlight, keys },
   );
   const finished = new Set(stored.filter((r) => r.status !== "running").map((r) => r.key));
-  const missingKeys = planStudy(study).map((r) => r.key).filter((k) => !finished.has(k));
+  const missingKeys = [...keys].filter((k) => !finished.has(k));
   return {
     shards: shardPaths.length,
     merged,

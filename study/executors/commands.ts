@@ -52,6 +52,8 @@ export interface ClusterRunFlags extends ClusterSettings {
   readonly dryRun?: boolean;
   readonly wait?: boolean;
   readonly keepFailed?: boolean;
+  /** Accept a database created for a study of another name. */
+  readonly allowOtherStudy?: boolean;
   /** Seconds between queue polls with `wait` (default: from 2 s growing to 60 s). */
   readonly pollSeconds?: number;
   /** Absolute path of the launcher the array tasks call. */
@@ -104,6 +106,7 @@ export async function clusterRunCommand(
     batch: env.batch,
     keepFailed: flags.keepFailed,
     dryRun: flags.dryRun,
+    allowOtherStudy: flags.allowOtherStudy,
   });
   const known: string[] = [`${r.done} done`];
   if (r.failedKept) known.push(`${r.failedKept} failed (kept)`);
@@ -170,7 +173,11 @@ export async function clusterRunCommand(
     return 130;
   }
   env.write(`job ${r.jobId} finished; collecting`);
-  return await collectCommand(study, { dbPath, results: flags.results }, env);
+  return await collectCommand(study, {
+    dbPath,
+    results: flags.results,
+    allowOtherStudy: flags.allowOtherStudy,
+  }, env);
 }
 
 /** The flags `collect` needs to find the same database and results folder. */
@@ -223,13 +230,19 @@ function missingLines(m: MissingReport, study: string): string[] {
 /** `spindrift collect STUDY`; returns the exit code (1 when a shard was refused). */
 export async function collectCommand(
   study: NormalizedStudy,
-  flags: { readonly dbPath: string; readonly results?: string },
+  flags: { readonly dbPath: string; readonly results?: string; readonly allowOtherStudy?: boolean },
   env: CommandEnv,
 ): Promise<number> {
   const dbPath = flags.dbPath;
   const note = env.note ?? env.write;
   const resultsDir = flags.results ?? defaultResultsDir(dbPath);
-  const r = await collectStudy(study, { dbPath, resultsDir, provenance: env.provenance, batch: env.batch });
+  const r = await collectStudy(study, {
+    dbPath,
+    resultsDir,
+    provenance: env.provenance,
+    batch: env.batch,
+    allowOtherStudy: flags.allowOtherStudy,
+  });
   const sum = (f: (m: typeof r.merged[number]) => number) => r.merged.reduce((s, m) => s + f(m), 0);
   const parts = [
     `${sum((m) => m.added)} realisations added`,
@@ -263,7 +276,12 @@ export async function collectCommand(
 /** `spindrift run-slice MANIFEST --slice K --shard FILE`; returns the exit code (1 when a realisation failed). */
 export async function runSliceCommand(
   manifestPath: string,
-  flags: { readonly slice: string; readonly shard: string; readonly workers?: number },
+  flags: {
+    readonly slice: string;
+    readonly shard: string;
+    readonly workers?: number;
+    readonly signal?: AbortSignal;
+  },
   env: Omit<CommandEnv, "batch">,
 ): Promise<number> {
   const slice = Number(flags.slice);
@@ -276,6 +294,7 @@ export async function runSliceCommand(
     shardPath: flags.shard,
     workers: flags.workers,
     provenance: env.provenance,
+    signal: flags.signal,
     onFinished: (p, outcome, done, total) => {
       const what = outcome.status === "done"
         ? `done in ${outcome.wallSeconds.toFixed(1)} s`
@@ -286,9 +305,9 @@ export async function runSliceCommand(
     },
   });
   env.write(
-    `${
-      new Date().toISOString()
-    } slice ${flags.slice} finished: ${r.completed} done, ${r.failures.length} failed, ` +
+    `${new Date().toISOString()} slice ${flags.slice} ${
+      r.interrupted ? "stopped" : "finished"
+    }: ${r.completed} done, ${r.failures.length} failed, ` +
       `${r.skipped} already in the shard, ${r.wallSeconds.toFixed(1)} s`,
   );
   return r.failures.length ? 1 : 0;

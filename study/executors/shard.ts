@@ -33,6 +33,8 @@ export interface SliceOptions {
   readonly provenance: Provenance;
   /** Host name stored with each realisation. */
   readonly host?: string;
+  /** Aborting stops the slice (see `runRealisations`); unfinished realisations are discarded from the shard. */
+  readonly signal?: AbortSignal;
   /** Called after each finished realisation (for log lines). */
   readonly onFinished?: (
     r: PlannedRealisation,
@@ -49,6 +51,8 @@ export interface SliceReport {
   readonly completed: number;
   readonly failures: readonly FailureSummary[];
   readonly wallSeconds: number;
+  /** Stopped from outside before the end. */
+  readonly interrupted: boolean;
 }
 
 /**
@@ -71,7 +75,8 @@ export async function executeSlice(
     }
     return r;
   });
-  const store = StudyStore.open(opts.shardPath);
+  // A shard has exactly one writer, its array task; shards may live on a network file system without locks.
+  const store = StudyStore.open(opts.shardPath, { command: "run-slice", lock: false });
   try {
     try {
       store.db.exec("PRAGMA journal_mode = DELETE");
@@ -86,7 +91,8 @@ export async function executeSlice(
     const run = storingHooks(store, study, host, (r, outcome, finished) => {
       opts.onFinished?.(r, outcome, finished, todo.length);
     });
-    await runRealisations(study, todo, opts.workers ?? 1, run.hooks);
+    const { interrupted } = await runRealisations(study, todo, opts.workers ?? 1, run.hooks, opts.signal);
+    if (interrupted) store.discardUnfinished();
     const completed = run.completed();
     const failures = run.failures;
     return {
@@ -95,6 +101,7 @@ export async function executeSlice(
       completed,
       failures,
       wallSeconds: (performance.now() - t0) / 1000,
+      interrupted,
     };
   } finally {
     store.close();

@@ -15,6 +15,7 @@ import { sha256Hex } from "../hash.ts";
 import { CLUSTER_DEFAULTS } from "./slurm_schema.ts";
 import { ExecutorError } from "./errors.ts";
 import { SMALL_STUDY, studyInTempDir } from "./_testing.ts";
+import { tempDir } from "../../test/_tmp.ts";
 
 function manifestFor(over: Partial<SubmissionManifest> = {}): SubmissionManifest {
   return {
@@ -44,7 +45,7 @@ Deno.test("defaultResultsDir: '<database name>-cluster' beside the database", ()
 });
 
 Deno.test("writeManifest/readManifest: round trip; a damaged or foreign manifest gets a clear message", () => {
-  const dir = Deno.makeTempDirSync();
+  const dir = tempDir();
   const m = manifestFor({ jobId: "4711" });
   writeManifest(`${dir}/manifest.json`, m);
   assertEquals(readManifest(`${dir}/manifest.json`), m);
@@ -56,7 +57,7 @@ Deno.test("writeManifest/readManifest: round trip; a damaged or foreign manifest
 });
 
 Deno.test("newSubmissionId: UTC time to the second, made unique within the folder", () => {
-  const dir = Deno.makeTempDirSync();
+  const dir = tempDir();
   const t = new Date("2026-12-01T10:15:00.250Z");
   assertEquals(newSubmissionId(dir, t), "20261201T101500Z");
   Deno.mkdirSync(`${dir}/20261201T101500Z`);
@@ -64,7 +65,7 @@ Deno.test("newSubmissionId: UTC time to the second, made unique within the folde
 });
 
 Deno.test("listSubmissions and listShards: submissions oldest first, shards in task order", () => {
-  const dir = Deno.makeTempDirSync();
+  const dir = tempDir();
   for (const id of ["20261202T000000Z", "20261201T000000Z"]) {
     Deno.mkdirSync(`${dir}/${id}`);
     writeManifest(`${dir}/${id}/manifest.json`, manifestFor({ id }));

@@ -54,6 +54,8 @@ export interface SubmitOptions {
   readonly keepFailed?: boolean;
   /** Build the script and report, but write and submit nothing. */
   readonly dryRun?: boolean;
+  /** Submit into a database created for a study of another name (see `StudyStore.recordStudy`). */
+  readonly allowOtherStudy?: boolean;
   /** Clock for the submission id (tests). */
   readonly now?: Date;
 }
@@ -110,8 +112,32 @@ function exists(path: string): boolean {
   }
 }
 
-/** Submits what is left of a study as one job array (see the module comment). */
+/**
+ * Submits what is left of a study as one job array (see the module comment). The database is opened as its
+ * writer first (single-writer lock, lineage check), so a database of another study is refused before anything
+ * is submitted; a dry run only reads.
+ */
 export async function submitStudy(study: NormalizedStudy, opts: SubmitOptions): Promise<SubmitReport> {
+  if (opts.dryRun) return await planSubmission(study, opts);
+  const dbExisted = exists(opts.dbPath);
+  const store = StudyStore.open(opts.dbPath, { command: "run --executor slurm" });
+  let report: SubmitReport | undefined;
+  try {
+    recordStudy(store, study, opts.provenance, { allowOtherStudy: opts.allowOtherStudy });
+    report = await planSubmission(study, opts);
+    return report;
+  } finally {
+    store.close();
+    // A submission that did not happen leaves no database behind it either.
+    if (report === undefined && !dbExisted) {
+      for (const suffix of ["", "-wal", "-shm"]) {
+        if (exists(opts.dbPath + suffix)) Deno.removeSync(opts.dbPath + suffix);
+      }
+    }
+  }
+}
+
+async function planSubmission(study: NormalizedStudy, opts: SubmitOptions): Promise<SubmitReport> {
   const resultsDir = resolve(opts.resultsDir);
   const shards = readShardRefs(listShards(resultsDir));
   const status = new Map<string, string>();
@@ -209,13 +235,6 @@ export async function submitStudy(study: NormalizedStudy, opts: SubmitOptions): 
     if (!copyExisted) Deno.removeSync(copy);
     if (!resultsExisted) Deno.removeSync(resultsDir, { recursive: true });
     throw e;
-  }
-  // The database records the study now, so `spindrift status` shows it while the job is queued.
-  const store = StudyStore.open(opts.dbPath);
-  try {
-    recordStudy(store, study, opts.provenance);
-  } finally {
-    store.close();
   }
   writeManifest(paths.manifest, { ...manifest, jobId });
   return { ...report, jobId };

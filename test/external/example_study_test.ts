@@ -16,9 +16,7 @@ const WALKERS = 50;
 const TAU = 0.1;
 
 async function example() {
-  const study = loadStudyText(await Deno.readTextFile(EXAMPLE), EXAMPLE);
-  const work = await Deno.makeTempDir({ prefix: "spindrift-example-" });
-  return { study, work };
+  return loadStudyText(await Deno.readTextFile(EXAMPLE), EXAMPLE);
 }
 
 let cached: { ran: Ran[]; labels: string[]; diffusion: number[] } | null = null;
@@ -26,7 +24,8 @@ let cached: { ran: Ran[]; labels: string[]; diffusion: number[] } | null = null;
 /** Runs the example once for all tests in this file. */
 async function ranExample() {
   if (cached !== null) return cached;
-  const { study, work } = await example();
+  const study = await example();
+  const work = await Deno.makeTempDir({ prefix: "spindrift-example-" });
   try {
     const ran = await runAll(study, work);
     cached = {
@@ -149,7 +148,6 @@ Deno.test("examples/external-walkers.yaml: the MSD fit of the stored series reco
 });
 
 Deno.test("examples/external-walkers.yaml: the plan gives realisation seeds that depend on the point, not its position", async () => {
-  const { study } = await example();
-  const plan = planStudy(study);
+  const plan = planStudy(await example());
   assertEquals(new Set(plan.map((r) => r.seedHex)).size, plan.length);
 });

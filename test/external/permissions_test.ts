@@ -17,7 +17,7 @@ const LAUNCHER_FLAGS = [
   "--allow-read",
   "--allow-write",
   "--allow-env",
-  "--allow-sys=hostname",
+  "--allow-sys=hostname,statfs,systemMemoryInfo",
 ];
 const HARNESS = `${REPO}test/external/_worker_harness.ts`;
 

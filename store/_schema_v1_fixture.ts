@@ -1,0 +1,134 @@
+/**
+ * The schema of study databases written by spindrift builds up to schema version 1, verbatim (fixture for the
+ * migration tests: a version-1 file is built with it and must open, upgraded, in this build).
+ */
+export const SCHEMA_V1_SQL = `
+CREATE TABLE IF NOT EXISTS meta (
+  key   TEXT PRIMARY KEY,
+  value TEXT NOT NULL
+) STRICT;
+
+-- One row per distinct normalized study that was run into this database (edits add rows).
+CREATE TABLE IF NOT EXISTS studies (
+  id              INTEGER PRIMARY KEY,
+  name            TEXT NOT NULL,
+  description     TEXT NOT NULL,
+  study_hash      TEXT NOT NULL UNIQUE,
+  source_path     TEXT,
+  text            TEXT NOT NULL,
+  normalized_json TEXT NOT NULL,
+  engine_id       TEXT NOT NULL,
+  engine_version  TEXT NOT NULL,
+  tool_version    TEXT NOT NULL,
+  deno_version    TEXT NOT NULL,
+  git_commit      TEXT,
+  notes_json      TEXT NOT NULL DEFAULT '[]',
+  units_json      TEXT NOT NULL DEFAULT '{}',
+  created_at      TEXT NOT NULL,
+  last_run_at     TEXT
+) STRICT;
+
+-- A parameter point: the full normalized engine parameters plus run controls and observable settings.
+CREATE TABLE IF NOT EXISTS points (
+  point_hash     TEXT PRIMARY KEY,
+  params_hash    TEXT NOT NULL,
+  engine_id      TEXT NOT NULL,
+  engine_version TEXT NOT NULL,
+  params_json    TEXT NOT NULL,
+  controls_json  TEXT NOT NULL,
+  created_at     TEXT NOT NULL
+) STRICT;
+
+-- Which points a study revision contains, in sweep order, with the swept values.
+CREATE TABLE IF NOT EXISTS study_points (
+  study_id    INTEGER NOT NULL REFERENCES studies(id) ON DELETE CASCADE,
+  point_index INTEGER NOT NULL,
+  point_hash  TEXT NOT NULL REFERENCES points(point_hash),
+  label       TEXT NOT NULL,
+  varied_json TEXT NOT NULL,
+  PRIMARY KEY (study_id, point_index)
+) STRICT;
+
+CREATE TABLE IF NOT EXISTS realisations (
+  id               INTEGER PRIMARY KEY,
+  realisation_key  TEXT NOT NULL UNIQUE,
+  point_hash       TEXT NOT NULL REFERENCES points(point_hash),
+  idx              INTEGER NOT NULL,
+  seed             TEXT NOT NULL,
+  status           TEXT NOT NULL CHECK (status IN ('running', 'done', 'failed')),
+  failure_kind     TEXT,
+  error            TEXT,
+  engine_id        TEXT NOT NULL,
+  engine_version   TEXT NOT NULL,
+  started_at       TEXT,
+  finished_at      TEXT,
+  wall_seconds     REAL,
+  sim_time_reached REAL,
+  frame_count      INTEGER,
+  host             TEXT,
+  UNIQUE (point_hash, idx)
+) STRICT;
+
+CREATE TABLE IF NOT EXISTS scalars (
+  realisation_id INTEGER NOT NULL REFERENCES realisations(id) ON DELETE CASCADE,
+  name           TEXT NOT NULL,
+  value          REAL,
+  PRIMARY KEY (realisation_id, name)
+) STRICT, WITHOUT ROWID;
+
+CREATE TABLE IF NOT EXISTS series (
+  realisation_id INTEGER NOT NULL REFERENCES realisations(id) ON DELETE CASCADE,
+  name           TEXT NOT NULL,
+  k              INTEGER NOT NULL,
+  t              REAL NOT NULL,
+  value          REAL,
+  PRIMARY KEY (realisation_id, name, k)
+) STRICT, WITHOUT ROWID;
+
+CREATE TABLE IF NOT EXISTS events (
+  realisation_id INTEGER NOT NULL REFERENCES realisations(id) ON DELETE CASCADE,
+  seq            INTEGER NOT NULL,
+  t              REAL NOT NULL,
+  kind           TEXT NOT NULL,
+  ids_json       TEXT NOT NULL,
+  data_json      TEXT NOT NULL,
+  PRIMARY KEY (realisation_id, seq)
+) STRICT;
+
+-- One row per stored frame; 'layout' names the little-endian arrays packed into 'data' (see frame_codec.ts).
+CREATE TABLE IF NOT EXISTS frames (
+  realisation_id INTEGER NOT NULL REFERENCES realisations(id) ON DELETE CASCADE,
+  k              INTEGER NOT NULL,
+  t              REAL NOT NULL,
+  n              INTEGER NOT NULL,
+  layout         TEXT NOT NULL,
+  data           BLOB NOT NULL,
+  PRIMARY KEY (realisation_id, k)
+) STRICT;
+
+CREATE TABLE IF NOT EXISTS pending_frames (
+  realisation_id INTEGER NOT NULL REFERENCES realisations(id) ON DELETE CASCADE,
+  k              INTEGER NOT NULL,
+  t              REAL NOT NULL,
+  n              INTEGER NOT NULL,
+  layout         TEXT NOT NULL,
+  data           BLOB NOT NULL,
+  PRIMARY KEY (realisation_id, k)
+) STRICT;
+
+-- Ensemble-level results per parameter point (diffusion fits, intervals, …), recomputable from the rows above.
+CREATE TABLE IF NOT EXISTS ensemble_results (
+  study_id    INTEGER NOT NULL REFERENCES studies(id) ON DELETE CASCADE,
+  point_hash  TEXT NOT NULL REFERENCES points(point_hash),
+  analysis    TEXT NOT NULL,
+  name        TEXT NOT NULL,
+  value       REAL,
+  lower       REAL,
+  upper       REAL,
+  detail_json TEXT NOT NULL DEFAULT '{}',
+  computed_at TEXT NOT NULL,
+  PRIMARY KEY (study_id, point_hash, analysis, name)
+) STRICT;
+
+CREATE INDEX IF NOT EXISTS realisations_by_point ON realisations(point_hash, status);
+`;
