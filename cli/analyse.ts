@@ -9,10 +9,15 @@
  * lines.forEach((l) => console.log(l));
  * ```
  */
-import { chi2FromDecayStudy } from "../study/_analyse_decay.ts";
-import { analyseStudy, AnalysisInputError, type AnalysisSummary, type Estimate } from "../study/analyse.ts";
-import type { EvaporationAnalysis } from "../study/_analyse_evaporation.ts";
-import type { EvaporationEstimate } from "../reports/analysis/evaporation.ts";
+import {
+  analyseStudy,
+  AnalysisInputError,
+  type AnalysisSummary,
+  chi2FromDecayStudy,
+  type Estimate,
+  type EvaporationAnalysis,
+} from "../analysis/mod.ts";
+import type { EvaporationEstimate } from "../analysis/estimators/mod.ts";
 import { StoreReadError } from "../store/reads.ts";
 import { writeReport } from "../reports/mod.ts";
 import { formatNumber } from "../reports/html.ts";

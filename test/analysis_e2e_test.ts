@@ -9,8 +9,8 @@
 import { assert, assertClose, assertEquals } from "./_assert.ts";
 import { ballisticDb, walkersDb } from "./_analysis_fixture.ts";
 import { loadNormalizedForTest, REPO, runForTest } from "./_study.ts";
-import { analyseStudy } from "../study/analyse.ts";
-import { chi2FromDecayStudy } from "../study/_analyse_decay.ts";
+import { analyseStudy } from "../analysis/mod.ts";
+import { chi2FromDecayStudy } from "../analysis/mod.ts";
 import { openStoreReadOnly, readStudy } from "../store/reads.ts";
 import { type EnsembleResult, readEnsembleResults } from "../store/ensemble.ts";
 import { writeReport } from "../reports/mod.ts";

@@ -7,7 +7,7 @@
 import { assert, assertEquals } from "./_assert.ts";
 import { ballisticDb, walkersDb } from "./_analysis_fixture.ts";
 import { dumpDom, findChromium } from "./_chromium.ts";
-import { analyseStudy } from "../study/analyse.ts";
+import { analyseStudy } from "../analysis/mod.ts";
 import { writeComparePage } from "../reports/compare.ts";
 import { writeReport } from "../reports/mod.ts";
 import { formatNumber } from "../reports/html.ts";

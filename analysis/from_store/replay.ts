@@ -7,12 +7,12 @@
  * replay records, per frame, the main-cluster RMS radius and the number of main-labelled objects exactly as
  * the `cluster` observable defines them (the classifier's R_rms; objects labelled main).
  */
-import type { EngineCapabilities, Frame, RunControls } from "../engines/contract.ts";
-import type { ClassificationConfig } from "../engines/observables/contract.ts";
-import { createClassifier, Label, msdObservable } from "../engines/observables/mod.ts";
-import type { MsdEnsembleInput } from "../reports/analysis/msd_fit.ts";
+import type { EngineCapabilities, Frame, RunControls } from "../../engines/contract.ts";
+import type { ClassificationConfig } from "../../engines/observables/contract.ts";
+import { createClassifier, Label, msdObservable } from "../../engines/observables/mod.ts";
+import type { MsdEnsembleInput } from "../estimators/msd_fit.ts";
 import type { DatabaseSync } from "node:sqlite";
-import { frameArrays, iterateFrames } from "../store/frames.ts";
+import { frameArrays, iterateFrames } from "../../store/frames.ts";
 
 export interface ReplayContext {
   readonly capabilities: EngineCapabilities;

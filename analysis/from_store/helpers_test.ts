@@ -1,8 +1,8 @@
 /** Unit tests of the analysis helpers: common profile bins, velocity at probes, varied thresholds. */
-import { assert, assertClose, assertEquals, assertThrows } from "../test/_assert.ts";
-import { commonProfiles } from "./_analyse_profiles.ts";
-import { domainOf, velocityFieldFor } from "./_analyse_engines.ts";
-import { variedThreshold } from "./analyse.ts";
+import { assert, assertClose, assertEquals, assertThrows } from "../../test/_assert.ts";
+import { commonProfiles } from "./profiles.ts";
+import { domainOf, velocityFieldFor } from "./engines.ts";
+import { variedThreshold } from "../analyse.ts";
 
 /** Bin-average of ρ(r) = e^{−r²} over annuli (d = 2) of width w: exact, ∫ e^{−r²} 2πr dr = π(e^{−a²} − e^{−b²}). */
 function gaussBins2d(w: number, bins: number): Float64Array {

@@ -7,16 +7,16 @@
  *
  * References: W.F. Vinen, Proc. R. Soc. A 242, 493 (1957), doi:10.1098/rspa.1957.0191 [47].
  */
-import { findEngine } from "../engines/registry.ts";
+import { findEngine } from "../../engines/registry.ts";
 import {
   openStoreReadOnly,
   readAlignedSeries,
   readRealisations,
   readStudy,
   readStudyPoints,
-} from "../store/reads.ts";
-import { fitVinenDecay } from "../reports/analysis/mod.ts";
-import { AnalysisInputError } from "./analyse.ts";
+} from "../../store/reads.ts";
+import { fitVinenDecay } from "../estimators/mod.ts";
+import { AnalysisInputError } from "../errors.ts";
 
 export interface Chi2Estimate {
   readonly chi2: number;

@@ -51,14 +51,11 @@ import type { Dimension, EngineCapabilities, RunControls } from "../engines/cont
 import type { ClassificationConfig } from "../engines/observables/contract.ts";
 import { checkClassificationConfig } from "../engines/observables/mod.ts";
 import { findEngine } from "../engines/registry.ts";
-import { type DiffusionFit, fitDiffusion, type MsdEnsembleInput } from "../reports/analysis/msd_fit.ts";
-import type { EstimatorCI } from "../reports/analysis/msd_fit.ts";
-import { type EvaporationAnalysis, evaporationRows } from "./_analyse_evaporation.ts";
-import { fitVinenDiffusion, type ProfileEnsemble, vinenChi2Sensitivity } from "../reports/analysis/vinen.ts";
-import {
-  longitudinalFromTransverse,
-  VelocityCorrelationAccumulator,
-} from "../reports/analysis/correlations.ts";
+import { type DiffusionFit, fitDiffusion, type MsdEnsembleInput } from "./estimators/msd_fit.ts";
+import type { EstimatorCI } from "./estimators/msd_fit.ts";
+import { type EvaporationAnalysis, evaporationRows } from "./to_store/evaporation.ts";
+import { fitVinenDiffusion, type ProfileEnsemble, vinenChi2Sensitivity } from "./estimators/vinen.ts";
+import { longitudinalFromTransverse, VelocityCorrelationAccumulator } from "./estimators/correlations.ts";
 import { StudyStore } from "../store/db.ts";
 import { type EnsembleResultInput, replaceEnsembleResults } from "../store/ensemble.ts";
 import { iterateFrames } from "../store/frames.ts";
@@ -73,9 +70,10 @@ import {
   readStudyPoints,
   type StudyRecord,
 } from "../store/reads.ts";
-import { domainOf, velocityFieldFor } from "./_analyse_engines.ts";
-import { commonProfiles } from "./_analyse_profiles.ts";
-import { replayMsdEnsembles } from "./_analyse_replay.ts";
+import { domainOf, velocityFieldFor } from "./from_store/engines.ts";
+import { commonProfiles } from "./from_store/profiles.ts";
+import { replayMsdEnsembles } from "./from_store/replay.ts";
+import { AnalysisInputError } from "./errors.ts";
 
 /** Analysis names as stored in `ensemble_results.analysis`. */
 export const ANALYSES = [
@@ -156,14 +154,6 @@ export interface AnalysisSummary {
   readonly dimension: Dimension;
   readonly points: readonly PointAnalysis[];
   readonly rowsWritten: number;
-}
-
-/** A problem with the request (bad option values): the CLI shows it as a one-line message. */
-export class AnalysisInputError extends Error {
-  constructor(message: string) {
-    super(message);
-    this.name = "AnalysisInputError";
-  }
 }
 
 function checkOptions(o: AnalyseOptions): void {
