@@ -47,13 +47,9 @@
  * if (fit.status === "ok") console.log(fit.D, fit.ci?.percentile);
  * ```
  */
-import {
-  bcaInterval,
-  type Interval,
-  percentileInterval,
-  resampleIndices,
-  standardDeviation,
-} from "./bootstrap.ts";
+import { type EstimatorCI, estimatorCi, resampleIndices } from "./bootstrap.ts";
+
+export type { EstimatorCI } from "./bootstrap.ts";
 import { streamFromSeed } from "./seed.ts";
 import {
   chooseWindow,
@@ -99,15 +95,6 @@ export interface DiffusionFitOptions {
   readonly rules?: Partial<WindowRules>;
   /** Compute BCa intervals (default true). */
   readonly bca?: boolean;
-}
-
-/** Confidence intervals for one estimator from the bootstrap. */
-export interface EstimatorCI {
-  readonly percentile: Interval | null;
-  readonly bca: Interval | null;
-  readonly bcaNote: string | null;
-  /** Bootstrap standard error (sd of the defined replicates). */
-  readonly standardError: number | null;
 }
 
 export interface DiffusionFit {
@@ -418,21 +405,6 @@ export function fitDiffusion(input: MsdEnsembleInput, options: DiffusionFitOptio
     ci,
     radius: ok && wantRadius ? { D: pointR, intercept: pointBR, ci: radiusCi } : null,
     bootstrap: { replicates: B, seed: options.seed, level, noRegimeFraction: noRegime / B, values: repD },
-  };
-}
-
-function estimatorCi(
-  reps: Float64Array,
-  estimate: number,
-  jack: Float64Array | null,
-  level: number,
-): EstimatorCI {
-  const bca = jack ? bcaInterval(reps, estimate, jack, level) : { interval: null, note: "not requested" };
-  return {
-    percentile: percentileInterval(reps, level),
-    bca: bca.interval,
-    bcaNote: bca.note,
-    standardError: standardDeviation(reps),
   };
 }
 

@@ -28,6 +28,7 @@
  */
 import type { RandomStream } from "../../engines/random.ts";
 import { streamFromSeed } from "./seed.ts";
+import type { RealisationTracks, TrackEnsemble } from "./tracks.ts";
 
 /** Positions of `walkers` walkers at each sample time, frame-major (index k·walkers + w). */
 export interface Tracks {
@@ -259,18 +260,146 @@ export function walkerEnsemble(
   const rmsRadius: Float64Array[] = [];
   let t: Float64Array = new Float64Array(0);
   for (let i = 0; i < options.realisations; i++) {
-    const rng = streamFromSeed(`${options.seed}/${i}`);
-    const tracks = model.kind === "brownian"
-      ? brownianTracks(rng, model)
-      : model.kind === "ornstein-uhlenbeck"
-      ? ornsteinUhlenbeckTracks(rng, model)
-      : ballisticTracks(rng, model);
+    const tracks = modelTracks(streamFromSeed(`${options.seed}/${i}`), model);
     const s = trackSeries(tracks, { removeDrift: options.removeDrift });
     t = s.t;
     msd.push(s.msd);
     rmsRadius.push(s.rmsRadius);
   }
   return { t, msd, rmsRadius };
+}
+
+/** One realisation of a walker model. */
+export function modelTracks(rng: RandomStream, model: WalkerModel): Tracks {
+  return model.kind === "brownian"
+    ? brownianTracks(rng, model)
+    : model.kind === "ornstein-uhlenbeck"
+    ? ornsteinUhlenbeckTracks(rng, model)
+    : ballisticTracks(rng, model);
+}
+
+/** Walker tracks as the loss-aware estimators take them: every walker in the main cluster, its own unit. */
+export function asRealisationTracks(tr: Tracks): RealisationTracks {
+  return {
+    objects: tr.walkers,
+    x: tr.x,
+    y: tr.y,
+    z: tr.z,
+    main: new Uint8Array(tr.x.length).fill(1),
+    group: null,
+  };
+}
+
+/**
+ * `realisations` independent realisations of a walker model as a `TrackEnsemble` (realisation i from the
+ * stream `seed/i`, as `walkerEnsemble`).
+ *
+ * @example
+ * ```ts
+ * const times = Float64Array.from({ length: 101 }, (_, k) => 0.1 * k);
+ * const ens = walkerTrackEnsemble({ kind: "brownian", dimension: 2, walkers: 10, D: 0.2, times }, {
+ *   realisations: 40,
+ *   seed: "demo",
+ * });
+ * ```
+ */
+export function walkerTrackEnsemble(
+  model: WalkerModel,
+  options: { realisations: number; seed: string },
+): TrackEnsemble {
+  if (!Number.isInteger(options.realisations) || options.realisations < 1) {
+    throw new RangeError(`realisations must be an integer ≥ 1, got ${options.realisations}`);
+  }
+  const realisations = Array.from(
+    { length: options.realisations },
+    (_, i) => asRealisationTracks(modelTracks(streamFromSeed(`${options.seed}/${i}`), model)),
+  );
+  return { dimension: model.dimension, t: Float64Array.from(model.times), realisations };
+}
+
+/** Half diffusers, half ballistic movers that leave the tracked set: data built to fool survivor averages. */
+export interface CensoredMixtureOptions {
+  readonly dimension: 2 | 3;
+  /** Frame times, strictly increasing from 0. */
+  readonly times: ArrayLike<number>;
+  /** Brownian walkers with diffusion coefficient D (never removed). */
+  readonly diffusers: number;
+  readonly D: number;
+  /** Ballistic movers (constant velocity, uniform direction). */
+  readonly ballistic: number;
+  /**
+   * How ballistic movers leave the set (absent from every later frame):
+   * - `rate`: exponential lifetimes with the given rate, independent of where they are (speed per component
+   *   normal with standard deviation `speedSpread`);
+   * - `front`: when their displacement reaches the diffusive front c√t with c² = 3·2dD; speeds uniform on
+   *   (0, `maxSpeed`), so the survivors' mean square displacement E[v²t² | v < c/√t] = c²t/3 = 2dDt equals the
+   *   diffusers' and the survivor average is exactly 2dDt although no survivor moves diffusively.
+   */
+  readonly removal:
+    | { readonly kind: "rate"; readonly rate: number; readonly speedSpread: number }
+    | { readonly kind: "front"; readonly maxSpeed: number };
+  /** Standard deviation per component of the Gaussian starting cloud (default 0). */
+  readonly initialSpread?: number;
+}
+
+/**
+ * One realisation of `CensoredMixtureOptions` (diffusers first, then ballistic movers; all labelled main while
+ * present). Brownian motion: A. Einstein, Ann. Phys. 17, 549 (1905); the front construction is derived here.
+ */
+export function censoredMixtureTracks(rng: RandomStream, o: CensoredMixtureOptions): RealisationTracks {
+  positive(o.D, "D");
+  const d = o.dimension;
+  const b = brownianTracks(rng, {
+    dimension: d,
+    walkers: Math.max(1, o.diffusers),
+    D: o.D,
+    times: o.times,
+    initialSpread: o.initialSpread,
+  });
+  const nb = o.diffusers, ns = o.ballistic, M = nb + ns, K = o.times.length;
+  const x = new Float64Array(K * M), y = new Float64Array(K * M);
+  const z = d === 3 ? new Float64Array(K * M) : null;
+  const main = new Uint8Array(K * M);
+  for (let k = 0; k < K; k++) {
+    for (let j = 0; j < nb; j++) {
+      x[k * M + j] = b.x[k * b.walkers + j];
+      y[k * M + j] = b.y[k * b.walkers + j];
+      if (z) z[k * M + j] = b.z![k * b.walkers + j];
+      main[k * M + j] = 1;
+    }
+  }
+  const spread = o.initialSpread ?? 0;
+  const c2 = 3 * 2 * d * o.D;
+  for (let j = 0; j < ns; j++) {
+    const r0 = [spread * rng.normal(), spread * rng.normal(), d === 3 ? spread * rng.normal() : 0];
+    let v: number[];
+    let end: number;
+    if (o.removal.kind === "rate") {
+      const s = o.removal.speedSpread;
+      v = [s * rng.normal(), s * rng.normal(), d === 3 ? s * rng.normal() : 0];
+      end = -Math.log(1 - rng.uniform()) / o.removal.rate;
+    } else {
+      const speed = o.removal.maxSpeed * rng.uniform();
+      const n = [rng.normal(), rng.normal(), d === 3 ? rng.normal() : 0];
+      const norm = Math.hypot(n[0], n[1], n[2]);
+      v = n.map((c) => (speed * c) / norm);
+      end = speed > 0 ? c2 / (speed * speed) : Number.POSITIVE_INFINITY;
+    }
+    for (let k = 0; k < K; k++) {
+      const q = k * M + nb + j;
+      const tk = o.times[k];
+      if (tk < end) {
+        x[q] = r0[0] + v[0] * tk;
+        y[q] = r0[1] + v[1] * tk;
+        if (z) z[q] = r0[2] + v[2] * tk;
+        main[q] = 1;
+      } else {
+        x[q] = y[q] = Number.NaN;
+        if (z) z[q] = Number.NaN;
+      }
+    }
+  }
+  return { objects: M, x, y, z, main, group: null };
 }
 
 function checkWalkerOptions(o: WalkerOptions): void {

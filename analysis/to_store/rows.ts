@@ -7,7 +7,9 @@ import type { Dimension, EngineCapabilities } from "../../engines/contract.ts";
 import type { ClassificationConfig } from "../../engines/observables/contract.ts";
 import type { EnsembleResultInput } from "../../store/ensemble.ts";
 import type { PointRecord, StudyRecord } from "../../store/reads.ts";
-import type { EstimatorCI } from "../estimators/msd_fit.ts";
+import type { EstimatorCI } from "../estimators/bootstrap.ts";
+
+export { pickInterval } from "../estimators/bootstrap.ts";
 import type { AnalyseOptions } from "../options.ts";
 
 export type AnalysisStatus = "ok" | "no-diffusive-regime" | "not-available" | "error";
@@ -43,16 +45,6 @@ export type Push = (analysis: string, name: string, e: Partial<EnsembleResultInp
 
 export function missing(status: AnalysisStatus, reason: string): Estimate {
   return { status, reason, value: null, lower: null, upper: null };
-}
-
-export function pickInterval(ci: EstimatorCI | null): {
-  lower: number | null;
-  upper: number | null;
-  method: "bca" | "percentile" | null;
-} {
-  if (ci?.bca) return { lower: ci.bca.lower, upper: ci.bca.upper, method: "bca" };
-  if (ci?.percentile) return { lower: ci.percentile.lower, upper: ci.percentile.upper, method: "percentile" };
-  return { lower: null, upper: null, method: null };
 }
 
 export function ciDetail(ci: EstimatorCI | null): Record<string, unknown> {
