@@ -5,10 +5,12 @@
  *
  * ```
  *  study database ──read──▶ per parameter point, done realisations (index < planned)
- *     series msd, msd_count, cluster_rms_radius, main_count ──▶ fitDiffusion ──▶ "msd-fit", "rms-fit"
- *     stored frames ──replay (classifier + msd, thresholds ×½ and ×2)──▶ fitDiffusion ──▶ "sensitivity"
- *     profile.<k> + profile_bin_width ──common bins──▶ fitVinenDiffusion (χ₂ given) ──▶ "vinen"
+ *     stored frames ──tracks (stored labels; replayed labels, thresholds ×½ and ×2)──▶ diffusionEvidence
+ *         ──▶ "diffusion" (answer, three estimators, rule evidence), "sensitivity"
+ *     profile.<k> + profile_bin_width ──common bins──▶ Vinen-equation fit (loss term fitted) ──▶ "vinen"
  *     stored frames + engine velocity field at probes ──▶ VelocityCorrelationAccumulator ──▶ "correlations"
+ *     evaporated_count, object_count / line_length ──▶ evaporationSummary ──▶ "evaporation"
+ *  every point's answer and its bootstrap replicates ──▶ differences, trend ──▶ "question"
  *  ──▶ ensemble_results (all rows of the study revision replaced in one transaction)
  * ```
  *
@@ -16,22 +18,19 @@
  * - Realisations: those `done` with index below the study's planned count (as the report counts them).
  * - Dimension: the engine's declared dimension; for engines not in this build, from the stored frame layout
  *   (a `z` column means 3D).
- * - Times: lags since each realisation's first frame (the MSD origin t₀); `timeOrigin` records t₀.
- * - MSD fit (`fitDiffusion`, methods §5.1): ensemble MSD weighted by `msd_count` (number at risk), window
- *   rules of the methods notes; t₂ also stops when the cluster reaches a quarter of the domain (its diameter
- *   2R_rms reaches a quarter of the disk diameter or box side; unbounded domains have no such cut).
- *   Interval: bootstrap over realisations, B = `replicates` (default 2000), BCa where defined, else
- *   percentile; both are kept in the detail. Seed string `<seed>/<point hash>/msd`, `<seed>` defaulting to the
- *   study hash, so a rerun reproduces every interval bit for bit.
- * - RMS-radius estimate D_R = (1/2d) dR²_rms/dt over the same window and resamples.
- * - Sensitivity, Vinen fit, velocity correlations, evaporation: see `to_store/sensitivity.ts`, `to_store/vinen.ts`,
- *   `to_store/correlations.ts`, `to_store/evaporation.ts`.
+ * - Times: lags since each realisation's first frame (the time origin t₀); `timeOrigin` records t₀.
+ * - Diffusion (`to_store/diffusion.ts`, `estimators/diffusion.ts`, methods §5.1 and §5.3): bootstrap over
+ *   realisations, B = `replicates` (default 2000), BCa where defined, else percentile. Seed strings
+ *   `<seed>/<point hash>/<analysis>`, `<seed>` defaulting to the study hash, so a rerun reproduces every
+ *   interval bit for bit.
+ * - Sensitivity, Vinen fit, velocity correlations, evaporation, the question: see `to_store/sensitivity.ts`,
+ *   `to_store/vinen.ts`, `to_store/correlations.ts`, `to_store/evaporation.ts`, `to_store/question.ts`.
  *
  * @example
  * ```ts
  * import { analyseStudy } from "./analyse.ts";
- * const summary = await analyseStudy("runs/film-patch.sqlite", { replicates: 2000, chi2: 0.3 });
- * for (const p of summary.points) console.log(p.label, p.msd.status, p.msd.D, p.msd.lower, p.msd.upper);
+ * const summary = await analyseStudy("runs/film-patch.sqlite", { replicates: 2000 });
+ * for (const p of summary.points) console.log(p.label, p.diffusion.status, p.diffusion.value, p.diffusion.reason);
  * ```
  */
 import type { Dimension } from "../engines/contract.ts";
@@ -50,10 +49,13 @@ import { layoutDimension, readClassification } from "./from_store/series.ts";
 import { type AnalyseOptions, checkOptions } from "./options.ts";
 import { correlationRows, type CorrelationsAnalysis } from "./to_store/correlations.ts";
 import { type EvaporationAnalysis, evaporationRows } from "./to_store/evaporation.ts";
-import { type MsdAnalysis, msdRows } from "./to_store/msd.ts";
+import { type DiffusionAnalysis, diffusionRows } from "./to_store/diffusion.ts";
 import type { Estimate, PointContext } from "./to_store/rows.ts";
-import { type SensitivityAnalysis, sensitivityRows } from "./to_store/sensitivity.ts";
+import { type SensitivityAnalysis, sensitivityPlan, sensitivityRows } from "./to_store/sensitivity.ts";
+import { readStoredTracks, type StoredTracks } from "./from_store/tracks.ts";
+import { errorText } from "./_util.ts";
 import { vinenRows } from "./to_store/vinen.ts";
+import { questionRows } from "./to_store/question.ts";
 
 export type { AnalyseOptions } from "./options.ts";
 export type { AnalysisStatus, Estimate } from "./to_store/rows.ts";
@@ -61,12 +63,12 @@ export { variedThreshold } from "./to_store/sensitivity.ts";
 
 /** Analysis names as stored in `ensemble_results.analysis`. */
 export const ANALYSES = [
-  "msd-fit",
-  "rms-fit",
+  "diffusion",
   "sensitivity",
   "vinen",
   "correlations",
   "evaporation",
+  "question",
 ] as const;
 
 export interface PointAnalysis {
@@ -74,8 +76,7 @@ export interface PointAnalysis {
   readonly label: string;
   readonly pointHash: string;
   readonly realisations: number;
-  readonly msd: MsdAnalysis;
-  readonly radius: Estimate;
+  readonly diffusion: DiffusionAnalysis;
   readonly vinen: Estimate;
   readonly sensitivity: SensitivityAnalysis;
   readonly correlations: CorrelationsAnalysis;
@@ -89,6 +90,8 @@ export interface AnalysisSummary {
   readonly replicates: number;
   readonly dimension: Dimension;
   readonly points: readonly PointAnalysis[];
+  /** The study's question answered (differences, trend), one plain sentence each; empty for one point. */
+  readonly question: readonly string[];
   readonly rowsWritten: number;
 }
 
@@ -100,7 +103,7 @@ export interface AnalysisSummary {
  * @example
  * ```ts
  * const s = await analyseStudy("walkers.sqlite", { replicates: 500, seed: "talk-2026" });
- * console.log(s.points[0].msd); // { status: "ok", value: 0.24, lower: 0.2, upper: 0.27, … }
+ * console.log(s.points[0].diffusion); // { status: "ok", value: 0.24, lower: 0.2, upper: 0.27, … }
  * ```
  */
 export async function analyseStudy(dbPath: string, opts: AnalyseOptions = {}): Promise<AnalysisSummary> {
@@ -109,6 +112,7 @@ export async function analyseStudy(dbPath: string, opts: AnalyseOptions = {}): P
   const db = openStoreReadOnly(dbPath);
   const rows: EnsembleResultInput[] = [];
   const points: PointAnalysis[] = [];
+  let question: string[] = [];
   let study: StudyRecord;
   let dimension: Dimension = 2;
   const seedBase = opts.seed ?? "";
@@ -149,6 +153,11 @@ export async function analyseStudy(dbPath: string, opts: AnalyseOptions = {}): P
       };
       points.push(await analysePoint(ctx, rows));
     }
+    question = questionRows(
+      studyPoints.map((point, i) => ({ point, diffusion: points[i].diffusion })),
+      { level: opts.level ?? 0.95, estimator: "diffusion/D (fixed cohort)" },
+      rows,
+    );
   } finally {
     db.close();
   }
@@ -167,6 +176,7 @@ export async function analyseStudy(dbPath: string, opts: AnalyseOptions = {}): P
     replicates: B,
     dimension,
     points,
+    question,
     rowsWritten: written,
   };
 }
@@ -183,10 +193,51 @@ async function analysePoint(ctx: PointContext, rows: EnsembleResultInput[]): Pro
       upper: e.upper ?? null,
       detail: { realisations: ctx.ids.length, realisationIds: [...ctx.ids], ...e.detail },
     });
-  const { msd, radius, fit, ens } = msdRows(ctx, push);
-  const sensitivity = await sensitivityRows(ctx, fit, ens, push);
-  const vinen = vinenRows(ctx, fit, push);
-  const correlations = correlationRows(ctx, fit, push);
+  const plan = sensitivityPlan(ctx);
+  let tracks: StoredTracks | null = null;
+  let diffusion: DiffusionAnalysis;
+  try {
+    if (ctx.ids.length > 0) {
+      ctx.progress(
+        `  reading tracks from the stored frames${
+          "reason" in plan ? "" : " (and replaying classifications)"
+        }`,
+      );
+      tracks = readStoredTracks(ctx.db, ctx.ids, {
+        dimension: ctx.dimension,
+        replay: "reason" in plan ? undefined : { context: plan.context, configs: plan.valid },
+      });
+    }
+    diffusion = diffusionRows(ctx, tracks, push);
+  } catch (e) {
+    const reason = errorText(e);
+    push("diffusion", "D", { value: null, detail: { status: "error", reason, reasons: [reason] } });
+    diffusion = {
+      status: "error",
+      reason,
+      reasons: [reason],
+      value: null,
+      lower: null,
+      upper: null,
+      window: null,
+      tauC: null,
+      seed: "",
+      support: null,
+      loss: null,
+      estimators: [],
+      lossLimited: null,
+      warnings: [],
+      replicates: null,
+      jackknife: null,
+      prepared: null,
+      cut: null,
+    };
+  }
+  await Promise.resolve();
+  const sensitivity = sensitivityRows(ctx, plan, tracks, diffusion, push);
+  tracks = null;
+  const vinen = vinenRows(ctx, diffusion.window, push);
+  const correlations = correlationRows(ctx, diffusion.window, push);
   const evaporation = evaporationRows({
     db: ctx.db,
     ids: ctx.ids,
@@ -200,8 +251,7 @@ async function analysePoint(ctx: PointContext, rows: EnsembleResultInput[]): Pro
     label: point.label,
     pointHash: point.pointHash,
     realisations: ctx.ids.length,
-    msd,
-    radius,
+    diffusion: { ...diffusion, prepared: null },
     vinen,
     sensitivity,
     correlations,

@@ -17,6 +17,7 @@ import {
   type Estimate,
   type EvaporationAnalysis,
 } from "../analysis/mod.ts";
+import type { DiffusionAnalysis } from "../analysis/to_store/diffusion.ts";
 import type { EvaporationEstimate } from "../analysis/estimators/mod.ts";
 import { StoreReadError } from "../store/reads.ts";
 import { writeReport } from "../reports/mod.ts";
@@ -114,11 +115,82 @@ function estimateText(e: Estimate): string {
   }`;
 }
 
-/** "; bootstrap: 21 % of replicates without a window (left out)" when some replicates found no regime. */
-function noRegimeText(fraction: number | null): string {
-  return fraction !== null && fraction > 0
-    ? `; bootstrap: ${Math.round(fraction * 100)} % of replicates found no window (left out of the interval)`
-    : "";
+const ESTIMATOR_LABEL: Readonly<Record<string, string>> = {
+  origin: "survivor average from t₀",
+  cohort: "fixed cohort (the answer)",
+  lag: "lag increments D(τ)",
+  radius: "D_R (cohort spread)",
+};
+
+function ciText(lower: number | null, upper: number | null): string {
+  return lower !== null && upper !== null ? ` [${formatNumber(lower)}, ${formatNumber(upper)}]` : "";
+}
+
+/** The diffusion lines of one point: answer or "no diffusive regime", window, evidence, reasons, losses. */
+function diffusionLines(d: DiffusionAnalysis, pad: string): { head: string; lines: string[] } {
+  const lines: string[] = [];
+  let head: string;
+  if (d.status === "ok" && d.value !== null) {
+    head = `${formatNumber(d.value)}${ciText(d.lower, d.upper) || " (no interval)"}`;
+  } else if (d.status === "no-diffusive-regime") head = "no diffusive regime";
+  else head = `${d.status}${d.reason ? `: ${d.reason}` : ""}`;
+  if (d.window) {
+    lines.push(
+      `${pad}window [${formatNumber(d.window.t1)}, ${formatNumber(d.window.t2)}] (t₁ ≥ 3τ_c, τ_c = ${
+        d.tauC === null ? "—" : formatNumber(d.tauC)
+      }; t₂: ${d.window.end})${
+        d.support !== null
+          ? `; support: ${Math.round(d.support * 100)} % of bootstrap replicates find a window`
+          : ""
+      }`,
+    );
+  } else if (d.status === "no-diffusive-regime" && d.support !== null) {
+    lines.push(`${pad}support: ${Math.round(d.support * 100)} % of bootstrap replicates find a window`);
+  }
+  const ok = d.status === "ok";
+  if (d.estimators.length > 0) {
+    lines.push(
+      `${pad}evidence: exponent over the window (diffusion = 1, accepted [0.85, 1.15])${ok ? ", D/κ" : ""}`,
+    );
+    for (const e of d.estimators) {
+      const label = ESTIMATOR_LABEL[e.name].padEnd(27);
+      const ex = e.exponent
+        ? `${formatNumber(e.exponent.value)}${ciText(e.exponent.lower, e.exponent.upper)} over ${
+          e.name === "origin" ? "t =" : e.name === "cohort" ? "s = t − t₁ =" : "τ ="
+        } ${formatNumber(e.range!.from)}–${formatNumber(e.range!.to)}${e.pass ? "" : "  ✗"}`
+        : "";
+      const D = ok ? `${e.exponent ? "; " : ""}D/κ ${formatNumber(e.D)}${ciText(e.lower, e.upper)}` : "";
+      if (ex || D) lines.push(`${pad}  ${label} ${ex}${D}`);
+    }
+  }
+  if (!ok) { for (const r of d.reasons) lines.push(`${pad}why: ${r}`); }
+  if (d.loss) {
+    lines.push(
+      `${pad}losses: ${
+        formatNumber(100 * d.loss.inWindow)
+      } % of the objects in the main cluster at t₁ are gone ` +
+        `from it by t₂; the cohort keeps ${
+          formatNumber(100 * d.loss.cohortShare)
+        } % (${d.loss.cohortObjects} objects)`,
+    );
+  }
+  if (d.lossLimited) {
+    const e = d.lossLimited.estimator;
+    lines.push(
+      `${pad}loss-limited: the main cluster halves by t = ${
+        formatNumber(d.lossLimited.lossAt)
+      }; lag increments ` +
+        `over [${formatNumber(d.lossLimited.t1)}, ${formatNumber(d.lossLimited.tEnd)}] have exponent ${
+          formatNumber(e.exponent!.value)
+        }${ciText(e.exponent!.lower, e.exponent!.upper)}${
+          e.pass
+            ? `: D/κ ${formatNumber(e.D)}${ciText(e.lower, e.upper)} (short lags, objects at both ends)`
+            : " ✗"
+        }`,
+    );
+  }
+  for (const w of d.warnings) lines.push(`${pad}warning: ${w}`);
+  return { head, lines };
 }
 
 /** "value [lower, upper]" of an evaporation estimate, or "—". */
@@ -146,27 +218,25 @@ function evaporationText(e: EvaporationAnalysis): string | null {
   }${half}${lost}`;
 }
 
-/** The printed summary: per point D/κ (MSD) with its interval or the reason, D_R and the Vinen D. */
+/** The printed summary: the question's answer, then per point D/κ or "no diffusive regime" with the evidence. */
 export function formatSummary(s: AnalysisSummary, dbPath: string): string[] {
   const lines = [
     `study ${s.studyName} (revision #${s.studyId}), ${s.dimension}D; bootstrap B = ${s.replicates}, ` +
     `seed base ${s.seedBase.length > 24 ? `${s.seedBase.slice(0, 16)}…` : s.seedBase}`,
   ];
+  for (const q of s.question) lines.push(q);
   const w = Math.max(5, ...s.points.map((p) => p.label.length));
-  lines.push(`  ${"point".padEnd(w)}  ${"n".padStart(3)}  D/κ (MSD) [95% CI]`);
+  lines.push(
+    `  ${"point".padEnd(w)}  ${
+      "n".padStart(3)
+    }  D/κ [95% CI] (fixed cohort; only where the evidence shows diffusion)`,
+  );
   for (const p of s.points) {
-    lines.push(`  ${p.label.padEnd(w)}  ${String(p.realisations).padStart(3)}  ${estimateText(p.msd)}`);
-    const pad = " ".repeat(w + 7);
-    if (p.msd.window) {
-      lines.push(
-        `${pad}window [${formatNumber(p.msd.window.t1)}, ${formatNumber(p.msd.window.t2)}], τ_c = ${
-          p.msd.tauC === null ? "—" : formatNumber(p.msd.tauC)
-        }${noRegimeText(p.msd.noRegimeFraction)}`,
-      );
-    }
-    for (const w of p.msd.warnings) lines.push(`${pad}warning: ${w}`);
-    if (p.radius.value !== null) lines.push(`${pad}D_R/κ (R_rms): ${estimateText(p.radius)}`);
-    if (p.vinen.status !== "not-available") lines.push(`${pad}D/κ (Vinen): ${estimateText(p.vinen)}`);
+    const pad = " ".repeat(w + 9);
+    const d = diffusionLines(p.diffusion, pad);
+    lines.push(`  ${p.label.padEnd(w)}  ${String(p.realisations).padStart(3)}  ${d.head}`);
+    lines.push(...d.lines);
+    if (p.vinen.status !== "not-available") lines.push(`${pad}Vinen fit: ${estimateText(p.vinen)}`);
     const ev = evaporationText(p.evaporation);
     if (ev) lines.push(`${pad}${ev}`);
   }

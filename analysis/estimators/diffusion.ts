@@ -196,6 +196,8 @@ export interface DiffusionEvidence {
   } | null;
   /** Bootstrap replicates of the cohort D (window fixed), for differences between points. */
   readonly replicates: Float64Array | null;
+  /** Leave-one-out values of the cohort D (window fixed; null without BCa). */
+  readonly jackknife: Float64Array | null;
   readonly bootstrap: { readonly replicates: number; readonly seed: string; readonly level: number } | null;
   readonly rules: RegimeRules;
   readonly warnings: readonly string[];
@@ -623,7 +625,8 @@ export function diffusionEvidence(p: PreparedTracks, options: DiffusionOptions):
       loss: null,
       lossLimited,
       replicates: null,
-      warnings: supportWarning(support, rules, warnings),
+      jackknife: null,
+      warnings,
     };
   }
 
@@ -673,7 +676,8 @@ export function diffusionEvidence(p: PreparedTracks, options: DiffusionOptions):
     loss,
     lossLimited: null,
     replicates: B > 0 ? boot.replicateD[1] : null,
-    warnings: supportWarning(support, rules, warnings),
+    jackknife: boot.jackknifeD ? boot.jackknifeD[1] : null,
+    warnings: ok ? supportWarning(support, rules, warnings) : warnings,
   };
 }
 
@@ -699,7 +703,7 @@ function bootstrapSpecs(
   bca: boolean,
   level: number,
   band: readonly [number, number],
-): { results: EstimatorResult[]; replicateD: Float64Array[] } {
+): { results: EstimatorResult[]; replicateD: Float64Array[]; jackknifeD: Float64Array[] | null } {
   const B = draws.length;
   const R = all.length;
   const nG = specs.map((s) => Math.max(0, s.g2 - s.g1 + 1));
@@ -735,7 +739,7 @@ function bootstrapSpecs(
     const ev = judge(s, B > 0 ? repMean[q] : null, B > 0 ? repLocal[q] : null, B, level, band);
     return result(s, ci, ev);
   });
-  return { results: out, replicateD: repD };
+  return { results: out, replicateD: repD, jackknifeD: jack };
 }
 
 /** Share of replicates whose own window passes the window rule and the three mean exponents. */

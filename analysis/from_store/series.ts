@@ -8,65 +8,50 @@ import type { Dimension, RunControls } from "../../engines/contract.ts";
 import type { ClassificationConfig } from "../../engines/observables/contract.ts";
 import { iterateFrames } from "../../store/frames.ts";
 import { type AlignedSeries, readAlignedSeries } from "../../store/reads.ts";
-import type { MsdEnsembleInput } from "../estimators/msd_fit.ts";
 import { isRecord } from "../_util.ts";
 import { domainOf } from "./engines.ts";
 
-/** The MSD ensemble read from the stored series, and what the fit needs besides. */
-export interface StoredEnsemble {
-  readonly input: MsdEnsembleInput;
-  readonly timeOrigin: number;
+/** The latest allowed window end and the rule that set it. */
+export interface DomainCut {
+  /** Lag since the first frame at which the cluster reaches a quarter of the domain (null: no cut). */
   readonly tCut: number | null;
-  readonly tCutRule: string;
+  readonly rule: string;
 }
 
-/** The MSD ensemble of the stored series of `ids` (null when none recorded `msd`). */
-export function storedEnsemble(
+/**
+ * Quarter-domain cut of the fitting window (methods §5.1): the first lag at which the cluster's diameter
+ * 2⟨R_rms⟩ (stored series `cluster_rms_radius`, mean over realisations) reaches a quarter of the domain's
+ * linear size (disk diameter, box side); unbounded and unknown domains have no cut.
+ */
+export function domainCut(
   db: DatabaseSync,
   ids: readonly number[],
   where: { readonly engineId: string; readonly params: unknown },
-): StoredEnsemble | null {
-  if (ids.length === 0) return null;
-  const msd = readAlignedSeries(db, ids, "msd");
-  if (msd.k.length === 0) return null;
-  const timeOrigin = msd.t[0];
-  const t = Float64Array.from(msd.t, (x) => x - timeOrigin);
-  const counts = alignTo(readAlignedSeries(db, ids, "msd_count"), msd.k, 0);
-  const rms = alignTo(readAlignedSeries(db, ids, "cluster_rms_radius"), msd.k, Number.NaN);
-  const main = alignTo(readAlignedSeries(db, ids, "main_count"), msd.k, 0);
-  const input: MsdEnsembleInput = {
-    t,
-    msd: msd.values,
-    ...(counts ? { counts } : {}),
-    ...(rms ? { rmsRadius: rms } : {}),
-    ...(main ? { mainCount: main } : {}),
-  };
-  // Quarter-domain cut: the cluster's diameter 2R_rms reaches a quarter of the domain's linear size.
+): DomainCut {
   const domain = domainOf(where.engineId, where.params);
-  let tCut: number | null = null;
-  let tCutRule = domain.kind === "unknown"
-    ? "domain size unknown for this engine: no quarter-domain cut"
-    : domain.size === null
-    ? "unbounded domain: no quarter-domain cut"
-    : `t₂ ≤ first t with 2·⟨R_rms⟩ ≥ (domain size ${domain.size})/4`;
-  if (domain.size !== null && rms) {
-    const limit = domain.size / 8;
-    for (let k = 0; k < t.length; k++) {
-      let s = 0, n = 0;
-      for (const row of rms) {
-        if (Number.isFinite(row[k])) {
-          s += row[k];
-          n++;
-        }
-      }
-      if (n > 0 && s / n >= limit) {
-        tCut = t[k] > 0 ? t[k] : null;
-        tCutRule += tCut === null ? " (reached at t = 0: ignored)" : "";
-        break;
+  if (domain.kind === "unknown") {
+    return { tCut: null, rule: "domain size unknown for this engine: no quarter-domain cut" };
+  }
+  if (domain.size === null) return { tCut: null, rule: "unbounded domain: no quarter-domain cut" };
+  let rule = `t₂ ≤ first t with 2·⟨R_rms⟩ ≥ (domain size ${domain.size})/4`;
+  const rms = readAlignedSeries(db, ids, "cluster_rms_radius");
+  const limit = domain.size / 8;
+  for (let k = 0; k < rms.k.length; k++) {
+    let s = 0, n = 0;
+    for (const row of rms.values) {
+      if (Number.isFinite(row[k])) {
+        s += row[k];
+        n++;
       }
     }
+    if (n > 0 && s / n >= limit) {
+      const t = rms.t[k] - rms.t[0];
+      if (t > 0) return { tCut: t, rule };
+      rule += " (reached at t = 0: ignored)";
+      break;
+    }
   }
-  return { input, timeOrigin, tCut, tCutRule };
+  return { tCut: null, rule };
 }
 
 /** Rows of `a` re-indexed onto frame indices `k` (absent → fill); null when `a` has no data. */

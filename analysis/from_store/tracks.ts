@@ -32,6 +32,8 @@ export interface StoredTracks {
   readonly replayed: readonly (readonly Uint8Array[])[];
   /** Frame index of each common frame. */
   readonly frames: Int32Array;
+  /** Time of the first stored frame (the time origin t₀ of the lags), NaN without frames. */
+  readonly timeOrigin: number;
 }
 
 interface FrameRecord {
@@ -60,6 +62,7 @@ export function readStoredTracks(
   const configs = opts.replay?.configs ?? [];
   const perReal: FrameRecord[][] = [];
   const tByK = new Map<number, number>();
+  let timeOrigin = Number.NaN;
   for (const id of ids) {
     const classifiers = opts.replay
       ? configs.map((classification) => createClassifier({ ...opts.replay!.context, classification }))
@@ -68,6 +71,7 @@ export function readStoredTracks(
     let t0 = Number.NaN;
     for (const f of iterateFrames(db, id)) {
       if (Number.isNaN(t0)) t0 = f.t;
+      if (Number.isNaN(timeOrigin)) timeOrigin = f.t;
       if (!tByK.has(f.k)) tByK.set(f.k, f.t - t0);
       const a = frameArrays(f);
       const replayed = classifiers.map((c) => {
@@ -139,5 +143,6 @@ export function readStoredTracks(
     ensemble: { dimension: opts.dimension, t, realisations },
     replayed,
     frames: Int32Array.from(allK),
+    timeOrigin,
   };
 }

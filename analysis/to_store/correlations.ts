@@ -7,7 +7,6 @@
  * isotropy check compares f with the f implied by g through g = f + (r/(d−1)) f′ (integral form).
  */
 import { longitudinalFromTransverse, VelocityCorrelationAccumulator } from "../estimators/correlations.ts";
-import type { DiffusionFit } from "../estimators/msd_fit.ts";
 import { iterateFrames } from "../../store/frames.ts";
 import { readAlignedSeries } from "../../store/reads.ts";
 import { velocityFieldFor } from "../from_store/engines.ts";
@@ -27,7 +26,7 @@ const CORE_FRACTION = 0.1;
 
 export function correlationRows(
   ctx: PointContext,
-  fit: DiffusionFit | null,
+  window: { readonly t1: number; readonly t2: number } | null,
   push: Push,
 ): CorrelationsAnalysis {
   const none = (status: AnalysisStatus, reason: string) => {
@@ -46,8 +45,8 @@ export function correlationRows(
     const field = provider.field;
     const rmsA = readAlignedSeries(ctx.db, ctx.ids, "msd");
     const t0 = rmsA.t[0] ?? 0;
-    const t1 = fit?.window?.t1 ?? 0;
-    const t2 = fit?.window?.t2 ?? Number.POSITIVE_INFINITY;
+    const t1 = window?.t1 ?? 0;
+    const t2 = window?.t2 ?? Number.POSITIVE_INFINITY;
     let acc: VelocityCorrelationAccumulator | null = null;
     let rMax = Number.NaN;
     let snapshots = 0;

@@ -1,9 +1,8 @@
 /**
  * The `vinen` rows (methods §5.2): the radial profiles of the stored series, rebinned onto common bins, fitted
- * with ∂L/∂t = D∇²L − χ₂(κ/2π)L² (χ₂ given), fit window = the MSD window (else the whole run), at most 25
+ * with ∂L/∂t = D∇²L − χ₂(κ/2π)L² (χ₂ given), fit window = the diffusion window (else the whole run), at most 25
  * times; the sensitivity of D to χ₂ at `chi2Interval` (default [χ₂/2, 2χ₂]).
  */
-import type { DiffusionFit } from "../estimators/msd_fit.ts";
 import { fitVinenDiffusion, type ProfileEnsemble, vinenChi2Sensitivity } from "../estimators/vinen.ts";
 import { readAlignedSeries, readScalars } from "../../store/reads.ts";
 import { commonProfiles } from "../from_store/profiles.ts";
@@ -13,7 +12,11 @@ import { type AnalysisStatus, type Estimate, missing, type PointContext, type Pu
 
 const VINEN_MAX_TIMES = 25;
 
-export function vinenRows(ctx: PointContext, fit: DiffusionFit | null, push: Push): Estimate {
+export function vinenRows(
+  ctx: PointContext,
+  window: { readonly t1: number; readonly t2: number } | null,
+  push: Push,
+): Estimate {
   const chi2 = ctx.opts.chi2;
   const seed = `${ctx.base}/${ctx.point.pointHash}/vinen`;
   const none = (status: AnalysisStatus, reason: string): Estimate => {
@@ -48,8 +51,8 @@ export function vinenRows(ctx: PointContext, fit: DiffusionFit | null, push: Pus
     // Frames in the window (lags since the first frame of the run, as in the MSD fit).
     const msdT0 = readAlignedSeries(ctx.db, ctx.ids.slice(0, 1), "msd").t[0] ?? axis.t[0];
     const lags = Array.from(axis.t, (x) => x - msdT0);
-    const t1 = fit?.window?.t1 ?? lags[0];
-    const t2 = fit?.window?.t2 ?? lags[lags.length - 1];
+    const t1 = window?.t1 ?? lags[0];
+    const t2 = window?.t2 ?? lags[lags.length - 1];
     let sel: number[] = [];
     for (let j = 0; j < lags.length; j++) if (lags[j] >= t1 - 1e-12 && lags[j] <= t2 + 1e-12) sel.push(j);
     if (sel.length > VINEN_MAX_TIMES) {
