@@ -50,11 +50,11 @@ import { type AnalyseOptions, checkOptions } from "./options.ts";
 import { correlationRows, type CorrelationsAnalysis } from "./to_store/correlations.ts";
 import { type EvaporationAnalysis, evaporationRows } from "./to_store/evaporation.ts";
 import { type DiffusionAnalysis, diffusionRows } from "./to_store/diffusion.ts";
-import type { Estimate, PointContext } from "./to_store/rows.ts";
+import type { PointContext } from "./to_store/rows.ts";
 import { type SensitivityAnalysis, sensitivityPlan, sensitivityRows } from "./to_store/sensitivity.ts";
 import { readStoredTracks, type StoredTracks } from "./from_store/tracks.ts";
 import { errorText } from "./_util.ts";
-import { vinenRows } from "./to_store/vinen.ts";
+import { chi2SourceText, type VinenAnalysis, vinenRows } from "./to_store/vinen.ts";
 import { questionRows } from "./to_store/question.ts";
 
 export type { AnalyseOptions } from "./options.ts";
@@ -77,7 +77,7 @@ export interface PointAnalysis {
   readonly pointHash: string;
   readonly realisations: number;
   readonly diffusion: DiffusionAnalysis;
-  readonly vinen: Estimate;
+  readonly vinen: VinenAnalysis;
   readonly sensitivity: SensitivityAnalysis;
   readonly correlations: CorrelationsAnalysis;
   readonly evaporation: EvaporationAnalysis;
@@ -92,6 +92,8 @@ export interface AnalysisSummary {
   readonly points: readonly PointAnalysis[];
   /** The study's question answered (differences, trend), one plain sentence each; empty for one point. */
   readonly question: readonly string[];
+  /** Where the Vinen fit's χ₂ came from, one line. */
+  readonly chi2Source: string;
   readonly rowsWritten: number;
 }
 
@@ -177,6 +179,7 @@ export async function analyseStudy(dbPath: string, opts: AnalyseOptions = {}): P
     dimension,
     points,
     question,
+    chi2Source: chi2SourceText(opts.vinenLoss ?? { mode: "free" }, opts.chi2Source),
     rowsWritten: written,
   };
 }

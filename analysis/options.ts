@@ -1,5 +1,23 @@
 /** The options of `analyseStudy` and their checks (bad values are refused with one-line messages). */
 import { AnalysisInputError } from "./errors.ts";
+import type { VinenLoss } from "./estimators/vinen_fit.ts";
+
+/** Where the χ₂ of the Vinen fit came from (stored with the `vinen` rows and shown in the report). */
+export type Chi2Source =
+  | { readonly kind: "given"; readonly note: string }
+  | {
+    readonly kind: "decay-study";
+    /** Path of the decay study's database, as given. */
+    readonly path: string;
+    readonly studyName: string;
+    readonly studyHash: string;
+    readonly chi2: number;
+    readonly interval: readonly [number, number] | null;
+    readonly realisations: number;
+    /** Start of the late-time part of 1/L(t) that was fitted. */
+    readonly fromTime: number;
+    readonly series: string;
+  };
 
 export interface AnalyseOptions {
   /** Study revision; default the latest. */
@@ -10,10 +28,13 @@ export interface AnalyseOptions {
   readonly replicates?: number;
   /** Interval level (default 0.95). */
   readonly level?: number;
-  /** χ₂ of the Vinen equation (from a homogeneous decay study); without it the Vinen fit is not available. */
-  readonly chi2?: number;
-  /** χ₂ range for the sensitivity of the Vinen D (default [χ₂/2, 2χ₂]). */
-  readonly chi2Interval?: readonly [number, number];
+  /**
+   * The loss term of the Vinen fit: fitted freely (default), with a decay study's χ₂ as a Gaussian prior, or
+   * fixed at a given χ₂ (a hypothesis the fit can reject).
+   */
+  readonly vinenLoss?: VinenLoss;
+  /** Where a prior or fixed χ₂ came from (recorded in the rows). */
+  readonly chi2Source?: Chi2Source;
   /** Bootstrap replicates of the Vinen fit (default 200: each replicate is a full PDE fit). */
   readonly vinenReplicates?: number;
   /** Threshold-sensitivity table by replaying stored frames (default true). */
@@ -41,14 +62,12 @@ export function checkOptions(o: AnalyseOptions): void {
   if (o.level !== undefined && !(o.level > 0 && o.level < 1)) {
     throw new AnalysisInputError(`level must be in (0, 1), got ${o.level}`);
   }
-  if (o.chi2 !== undefined && !(o.chi2 >= 0 && Number.isFinite(o.chi2))) {
-    throw new AnalysisInputError(`chi2 must be a finite number ≥ 0, got ${o.chi2}`);
+  const loss = o.vinenLoss;
+  if (loss && loss.mode !== "free" && !(loss.chi2 >= 0 && Number.isFinite(loss.chi2))) {
+    throw new AnalysisInputError(`chi2 must be a finite number ≥ 0, got ${loss.chi2}`);
   }
-  if (o.chi2Interval !== undefined) {
-    const [lo, hi] = o.chi2Interval;
-    if (!(lo >= 0 && hi > lo && Number.isFinite(hi))) {
-      throw new AnalysisInputError(`the χ₂ range must satisfy 0 ≤ low < high, got [${lo}, ${hi}]`);
-    }
+  if (loss?.mode === "prior" && !(loss.sigma > 0 && Number.isFinite(loss.sigma))) {
+    throw new AnalysisInputError(`the χ₂ prior's standard deviation must be positive, got ${loss.sigma}`);
   }
   if (o.seed !== undefined && o.seed.length === 0) throw new AnalysisInputError("seed must not be empty");
 }

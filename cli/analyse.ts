@@ -14,9 +14,11 @@ import {
   AnalysisInputError,
   type AnalysisSummary,
   chi2FromDecayStudy,
-  type Estimate,
   type EvaporationAnalysis,
 } from "../analysis/mod.ts";
+import type { Chi2Source } from "../analysis/options.ts";
+import type { VinenLoss } from "../analysis/estimators/vinen_fit.ts";
+import type { VinenAnalysis } from "../analysis/to_store/vinen.ts";
 import type { DiffusionAnalysis } from "../analysis/to_store/diffusion.ts";
 import type { EvaporationEstimate } from "../analysis/estimators/mod.ts";
 import { StoreReadError } from "../store/reads.ts";
@@ -31,7 +33,6 @@ export interface AnalyseCommandOptions {
   readonly chi2?: string;
   /** Database of a homogeneous decay study to estimate χ₂ from (instead of `chi2`). */
   readonly chi2From?: string;
-  readonly chi2Range?: string;
   readonly vinenReplicates?: number;
   readonly sensitivity?: boolean;
   readonly correlations?: boolean;
@@ -47,15 +48,6 @@ function parseChi2(v: string | undefined): number | undefined {
     throw new UserError(`--chi2 must be a number ≥ 0, got '${v}'`, "χ₂ comes from a homogeneous decay study");
   }
   return x;
-}
-
-function parseRange(v: string | undefined): [number, number] | undefined {
-  if (v === undefined) return undefined;
-  const parts = v.split(",").map((s) => Number(s.trim()));
-  if (parts.length !== 2 || !parts.every(Number.isFinite) || !(parts[0] >= 0 && parts[1] > parts[0])) {
-    throw new UserError(`--chi2-range must be 'low,high' with 0 ≤ low < high, got '${v}'`);
-  }
-  return [parts[0], parts[1]];
 }
 
 /** Library errors the user can act on, as UserErrors; everything else passes through. */
@@ -74,13 +66,18 @@ export async function analyseCommand(dbPath: string, o: AnalyseCommandOptions): 
   if (o.chi2 !== undefined && o.chi2From !== undefined) {
     throw new UserError("give either --chi2 or --chi2-from, not both");
   }
-  let chi2 = parseChi2(o.chi2);
-  let chi2Interval = parseRange(o.chi2Range);
+  const chi2 = parseChi2(o.chi2);
+  let vinenLoss: VinenLoss = chi2 === undefined ? { mode: "free" } : { mode: "fixed", chi2 };
+  let chi2Source: Chi2Source | undefined = chi2 === undefined
+    ? undefined
+    : { kind: "given", note: "given with --chi2" };
   if (o.chi2From !== undefined) {
     try {
       const est = chi2FromDecayStudy(o.chi2From, { seed: o.seed });
-      chi2 = est.chi2;
-      chi2Interval ??= est.interval ? [est.interval[0], est.interval[1]] : undefined;
+      // The decay study's 95 % interval as a Gaussian prior: σ = (upper − lower)/(2 · 1.96).
+      const sigma = est.interval ? (est.interval[1] - est.interval[0]) / (2 * 1.959964) : 0.1 * est.chi2;
+      vinenLoss = { mode: "prior", chi2: est.chi2, sigma };
+      chi2Source = est.provenance;
       head.push(est.source);
     } catch (e) {
       throw userFacing(e, o.chi2From);
@@ -91,8 +88,8 @@ export async function analyseCommand(dbPath: string, o: AnalyseCommandOptions): 
       studyId: o.study,
       seed: o.seed,
       replicates: o.replicates,
-      chi2,
-      chi2Interval,
+      vinenLoss,
+      chi2Source,
       vinenReplicates: o.vinenReplicates,
       sensitivity: o.sensitivity,
       correlations: o.correlations,
@@ -102,17 +99,6 @@ export async function analyseCommand(dbPath: string, o: AnalyseCommandOptions): 
     throw userFacing(e, dbPath);
   }
   return [...head, ...formatSummary(summary, dbPath)];
-}
-
-function estimateText(e: Estimate): string {
-  if (e.status === "no-diffusive-regime") return `no diffusive regime: ${e.reason ?? ""}`;
-  if (e.value === null) return `${e.status}${e.reason ? `: ${e.reason}` : ""}`;
-  const ci = e.lower !== null && e.upper !== null
-    ? ` [${formatNumber(e.lower)}, ${formatNumber(e.upper)}]`
-    : " (no interval)";
-  return `${formatNumber(e.value)}${ci}${
-    e.status === "error" && e.reason ? ` (unreliable: ${e.reason})` : ""
-  }`;
 }
 
 const ESTIMATOR_LABEL: Readonly<Record<string, string>> = {
@@ -193,6 +179,21 @@ function diffusionLines(d: DiffusionAnalysis, pad: string): { head: string; line
   return { head, lines };
 }
 
+/** The Vinen-fit lines of one point: D and χ₂ with intervals and the goodness of fit, or why there is no D. */
+function vinenLines(v: VinenAnalysis, pad: string): string[] {
+  if (v.status === "not-available") return [`${pad}Vinen fit: not available: ${v.reason}`];
+  if (v.status === "error" && v.reducedChi2 === null) return [`${pad}Vinen fit: failed: ${v.reason}`];
+  const fit = `reduced χ² = ${v.reducedChi2 === null ? "—" : formatNumber(v.reducedChi2)}, χ₂ ${
+    v.mode === "fixed" ? "fixed at" : v.mode === "prior" ? "(decay prior)" : "(free)"
+  } ${v.chi2 === null ? "—" : formatNumber(v.chi2)}${
+    v.mode === "fixed" ? "" : ciText(v.chi2Lower, v.chi2Upper)
+  }`;
+  const head = v.status === "ok"
+    ? `${pad}Vinen fit: D/κ ${formatNumber(v.value!)}${ciText(v.lower, v.upper)}; ${fit}`
+    : `${pad}Vinen fit: rejected, no D: ${v.reason}; ${fit}`;
+  return [head, ...v.notes.map((n) => `${pad}  ${n}`)];
+}
+
 /** "value [lower, upper]" of an evaporation estimate, or "—". */
 function evText(e: EvaporationEstimate | null, scale = 1): string {
   if (e === null || e.value === null) return "—";
@@ -236,12 +237,11 @@ export function formatSummary(s: AnalysisSummary, dbPath: string): string[] {
     const d = diffusionLines(p.diffusion, pad);
     lines.push(`  ${p.label.padEnd(w)}  ${String(p.realisations).padStart(3)}  ${d.head}`);
     lines.push(...d.lines);
-    if (p.vinen.status !== "not-available") lines.push(`${pad}Vinen fit: ${estimateText(p.vinen)}`);
+    lines.push(...vinenLines(p.vinen, pad));
     const ev = evaporationText(p.evaporation);
     if (ev) lines.push(`${pad}${ev}`);
   }
-  const vinenMissing = s.points.find((p) => p.vinen.status === "not-available");
-  if (vinenMissing?.vinen.reason) lines.push(`Vinen fit: ${vinenMissing.vinen.reason}`);
+  if (s.chi2Source) lines.push(`Vinen fit: ${s.chi2Source}`);
   lines.push(`${s.rowsWritten} rows stored in ensemble_results of ${dbPath}`);
   lines.push(`next: spindrift report ${dbPath}`);
   return lines;

@@ -304,12 +304,15 @@ Typical session:
         .argParser(replicateCount("--replicates")),
     )
     .option("--seed <text>", "base of the bootstrap seeds (default: the study hash, so reruns agree)")
-    .option("--chi2 <x>", "χ₂ of the Vinen equation, from a homogeneous decay study (enables the Vinen fit)")
     .option(
       "--chi2-from <database>",
-      "estimate χ₂ from a homogeneous decay study (periodic box; 1/L linear in t) and use it with its interval",
+      "estimate χ₂ from a homogeneous decay study (periodic box; 1/L linear in t) and use it, with its " +
+        "interval, as a prior of the Vinen fit's loss term (default: χ₂ fitted freely with D)",
     )
-    .option("--chi2-range <low,high>", "χ₂ range for the sensitivity of the Vinen D (default χ₂/2,2χ₂)")
+    .option(
+      "--chi2 <x>",
+      "fix χ₂ of the Vinen equation at x (a hypothesis: the fit is rejected if it does not fit)",
+    )
     .addOption(
       new Option("--vinen-replicates <n>", "bootstrap replicates of the Vinen fit (default 200)")
         .argParser(replicateCount("--vinen-replicates")),

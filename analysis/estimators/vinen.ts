@@ -1,7 +1,7 @@
 /**
  * Radially symmetric Vinen-type equation with diffusion, ∂L/∂t = D ∇²L − χ₂(κ/2π)L², in polar (d = 2) or
- * spherical (d = 3) symmetry: a solver, a fit of D to measured radial profiles, a fit of χ₂ to a homogeneous
- * decay series, and the sensitivity of D to χ₂.
+ * spherical (d = 3) symmetry: a solver and a fit of χ₂ to a homogeneous decay series (the fit of D and the loss
+ * term to measured radial profiles is in `vinen_fit.ts`).
  *
  * Method (spindrift methods notes §5.2):
  * - Finite volume on M cell-centred shells of width Δr (centres r_k = (k + ½)Δr, faces r_{k+½} = (k + 1)Δr).
@@ -13,12 +13,6 @@
  *   per step size; all arrays are preallocated (no allocation per step).
  * - Reaction by its exact solution over a half step, L ← L/(1 + χ₂(κ/2π)L·Δt/2) (positivity-preserving),
  *   combined with diffusion by Strang splitting: half reaction, full diffusion, half reaction (second order).
- * - Fit of D: initial condition = ensemble-mean profile at t₁ (interpolated between bin centres onto the
- *   solver grid, geometrically where positive, then scaled bin by bin so that its bin averages equal the
- *   data); the model's bin averages at t₂…t_J are compared with the ensemble means, SSE weighted by 1/σ² with
- *   σ² = s²/N from the realisation scatter (bins with zero scatter are left out and counted); D minimises the
- *   SSE by Brent's method in ln D; interval by bootstrap over realisations (each replicate recomputes means,
- *   scatter, initial condition, fit).
  * - χ₂ from a homogeneous decay series: 1/⟨L⟩(t) = 1/L₀ + χ₂κt/(2π) fitted by least squares on the late part,
  *   χ₂ = 2π·slope/κ, with a bootstrap interval over realisations.
  *
@@ -26,9 +20,8 @@
  * Proc. Camb. Phil. Soc. 43, 50 (1947), doi:10.1017/S0305004100023197; G. Strang, SIAM J. Numer. Anal. 5, 506
  * (1968), doi:10.1137/0705041; L.H. Thomas, Elliptic problems in linear difference equations over a network
  * (Watson Sci. Comput. Lab., Columbia Univ., 1949); R.J. LeVeque, Finite Volume Methods for Hyperbolic
- * Problems (CUP 2002), doi:10.1017/CBO9780511791253; R.P. Brent, Algorithms for Minimization without
- * Derivatives (1973); B. Efron, R.J. Tibshirani, An Introduction to the Bootstrap (1993),
- * doi:10.1201/9780429246593.
+ * Problems (CUP 2002), doi:10.1017/CBO9780511791253; B. Efron, R.J. Tibshirani, An Introduction to the
+ * Bootstrap (1993), doi:10.1201/9780429246593.
  *
  * @example
  * ```ts
@@ -46,7 +39,6 @@ import {
   resampleIndices,
   standardDeviation,
 } from "./bootstrap.ts";
-import { brentMinimize } from "./brent.ts";
 import { streamFromSeed } from "./seed.ts";
 
 export interface VinenGrid {
@@ -248,339 +240,6 @@ export interface ProfileEnsemble {
   readonly profiles: readonly ArrayLike<number>[];
 }
 
-export interface VinenFitOptions {
-  /** χ₂ (fixed, from a separate decay run). */
-  readonly chi2: number;
-  /** κ (default 1). */
-  readonly kappa?: number;
-  /** Solver cells per data bin (default 4, so Δr = h/4 ≤ R_rms/40 for bins of R_rms/10). */
-  readonly refine?: number;
-  /** r_max = ⌈domainFactor·K⌉ bins (default 4: L = 0 at ≥ 4× the largest fitted radius). */
-  readonly domainFactor?: number;
-  /**
-   * Solver time step. Default min(0.05 R²_rms(t₁)/D₀, 2Δr²/D₀, (t_J − t₁)/50), with D₀ a rough estimate from
-   * the growth of R²_rms(t); the mesh-ratio cap D₀Δt/Δr² ≤ 2 keeps Crank–Nicolson accurate in the profile
-   * tails, where 1/σ² weights are largest.
-   */
-  readonly dt?: number;
-  /** Search interval for D (default [D₀/100, 100·D₀]). */
-  readonly bracket?: readonly [number, number];
-  /** Relative tolerance on D (default 1e-6). */
-  readonly tolerance?: number;
-  /** Bootstrap replicates (default 200; 0 = none). */
-  readonly replicates?: number;
-  /** Bootstrap seed (required when replicates > 0). */
-  readonly seed?: string;
-  /** Interval level (default 0.95). */
-  readonly level?: number;
-  /** Compute a BCa interval (needs one refit per realisation; default false). */
-  readonly bca?: boolean;
-}
-
-export interface VinenFit {
-  readonly D: number;
-  /** Weighted SSE at the optimum and the number of (bin, time) terms in it. */
-  readonly sse: number;
-  readonly terms: number;
-  /** (bin, time) pairs left out because their realisation scatter is zero. */
-  readonly excluded: number;
-  /** True when the optimum lies within 1e-3 (relative, in ln D) of the search bracket's edge. */
-  readonly atBound: boolean;
-  readonly evaluations: number;
-  /** Standardised residuals (model − mean)/σ at index (j − 1)·K + k for j ≥ 1; NaN where excluded. */
-  readonly residuals: Float64Array;
-  readonly grid: { readonly cells: number; readonly dr: number; readonly rMax: number; readonly dt: number };
-  readonly chi2: number;
-  readonly ci: {
-    readonly percentile: Interval | null;
-    readonly bca: Interval | null;
-    readonly bcaNote: string | null;
-    readonly standardError: number | null;
-  } | null;
-  readonly bootstrap: { readonly replicates: number; readonly seed: string; readonly failed: number } | null;
-}
-
-/** Fits D of the Vinen-type equation to ensemble radial profiles (see the module comment). */
-export function fitVinenDiffusion(data: ProfileEnsemble, options: VinenFitOptions): VinenFit {
-  const prob = new VinenFitProblem(data, options);
-  const all = new Int32Array(data.profiles.length);
-  for (let i = 0; i < all.length; i++) all[i] = i;
-  prob.moments(all);
-  const bracket = options.bracket ?? [prob.D0 / 100, prob.D0 * 100];
-  if (!(bracket[0] > 0 && bracket[1] > bracket[0])) {
-    throw new RangeError(`bracket must satisfy 0 < lo < hi, got [${bracket}]`);
-  }
-  const best = prob.minimise(bracket[0], bracket[1]);
-  const residuals = prob.residuals(best.D);
-  const R = data.profiles.length;
-  const B = options.replicates ?? 200;
-  const level = options.level ?? 0.95;
-  let ci: VinenFit["ci"] = null;
-  let boot: VinenFit["bootstrap"] = null;
-  if (B > 0) {
-    if (!Number.isInteger(B) || B < 2) {
-      throw new RangeError(`replicates must be 0 or an integer ≥ 2, got ${B}`);
-    }
-    if (!options.seed) throw new RangeError("a bootstrap seed is required when replicates > 0");
-    if (R < 2) throw new RangeError("the bootstrap needs at least 2 realisations");
-    const rng = streamFromSeed(options.seed);
-    const idx = new Int32Array(R);
-    const reps = new Float64Array(B);
-    let failed = 0;
-    const refit = (ix: Int32Array): number => {
-      prob.moments(ix);
-      const r = prob.minimise(best.D / 4, best.D * 4);
-      const s = r.atBound ? prob.minimise(bracket[0], bracket[1]) : r;
-      return s.atBound ? Number.NaN : s.D;
-    };
-    for (let b = 0; b < B; b++) {
-      reps[b] = refit(resampleIndices(rng, idx));
-      if (Number.isNaN(reps[b])) failed++;
-    }
-    let bca: Interval | null = null;
-    let bcaNote: string | null = "not requested";
-    if (options.bca) {
-      const r = bcaInterval(reps, best.D, jackknife(R, refit), level);
-      bca = r.interval;
-      bcaNote = r.note;
-    }
-    ci = {
-      percentile: percentileInterval(reps, level),
-      bca,
-      bcaNote,
-      standardError: standardDeviation(reps),
-    };
-    boot = { replicates: B, seed: options.seed, failed };
-    prob.moments(all);
-  }
-  return {
-    D: best.D,
-    sse: best.sse,
-    terms: prob.terms,
-    excluded: prob.excluded,
-    atBound: best.atBound,
-    evaluations: best.evaluations,
-    residuals,
-    grid: { cells: prob.solver.cells, dr: prob.solver.dr, rMax: prob.solver.rMax, dt: prob.dt },
-    chi2: options.chi2,
-    ci,
-    bootstrap: boot,
-  };
-}
-
-/** The fit objective with all work arrays preallocated; `moments` selects the realisations. */
-class VinenFitProblem {
-  readonly solver: VinenSolver;
-  readonly K: number;
-  readonly J: number;
-  readonly refine: number;
-  readonly t: Float64Array;
-  readonly mean: Float64Array;
-  readonly weight: Float64Array;
-  readonly initial: Float64Array;
-  readonly work: Float64Array;
-  readonly chi2: number;
-  readonly kappa: number;
-  readonly relTol: number;
-  dt = 0;
-  D0 = 0;
-  terms = 0;
-  excluded = 0;
-  #dtFixed: number | undefined;
-
-  constructor(readonly data: ProfileEnsemble, options: VinenFitOptions) {
-    const { dimension: d, binWidth: h, bins: K, t, profiles } = data;
-    if (d !== 2 && d !== 3) throw new RangeError(`dimension must be 2 or 3, got ${d}`);
-    if (!(h > 0 && Number.isFinite(h))) throw new RangeError(`binWidth must be positive, got ${h}`);
-    if (!Number.isInteger(K) || K < 2) throw new RangeError(`bins must be an integer ≥ 2, got ${K}`);
-    const J = t.length;
-    if (J < 2) throw new RangeError(`need the initial time and at least one later time, got ${J} times`);
-    for (let j = 1; j < J; j++) {
-      if (!(t[j] > t[j - 1])) throw new RangeError(`times must be strictly increasing (index ${j}: ${t[j]})`);
-    }
-    if (profiles.length < 1) throw new RangeError("need at least one realisation");
-    for (let i = 0; i < profiles.length; i++) {
-      const p = profiles[i];
-      if (p.length !== J * K) {
-        throw new RangeError(`profiles[${i}] has ${p.length} values, expected times × bins = ${J * K}`);
-      }
-      for (let q = 0; q < p.length; q++) {
-        if (!(p[q] >= 0 && Number.isFinite(p[q]))) {
-          throw new RangeError(`profiles[${i}][${q}] must be finite and ≥ 0, got ${p[q]}`);
-        }
-      }
-    }
-    if (!(options.chi2 >= 0 && Number.isFinite(options.chi2))) {
-      throw new RangeError(`chi2 must be finite and ≥ 0, got ${options.chi2}`);
-    }
-    const refine = options.refine ?? 4;
-    if (!Number.isInteger(refine) || refine < 1) {
-      throw new RangeError(`refine must be an integer ≥ 1, got ${refine}`);
-    }
-    const factor = options.domainFactor ?? 4;
-    if (!(factor >= 1)) throw new RangeError(`domainFactor must be ≥ 1, got ${factor}`);
-    if (options.dt !== undefined && !(options.dt > 0)) {
-      throw new RangeError(`dt must be > 0, got ${options.dt}`);
-    }
-    const tol = options.tolerance ?? 1e-6;
-    if (!(tol > 0 && tol < 0.1)) throw new RangeError(`tolerance must be in (0, 0.1), got ${tol}`);
-    this.relTol = tol;
-    const binsTotal = Math.ceil(factor * K);
-    this.solver = new VinenSolver({ dimension: d, rMax: binsTotal * h, cells: binsTotal * refine });
-    this.K = K;
-    this.J = J;
-    this.refine = refine;
-    this.t = Float64Array.from(t);
-    this.mean = new Float64Array(J * K);
-    this.weight = new Float64Array(J * K);
-    this.initial = new Float64Array(this.solver.cells);
-    this.work = new Float64Array(this.solver.cells);
-    this.chi2 = options.chi2;
-    this.kappa = options.kappa ?? 1;
-    this.#dtFixed = options.dt;
-  }
-
-  /** Ensemble means, weights 1/σ² = N/s² and the initial condition for realisations `idx`. */
-  moments(idx: Int32Array): void {
-    const { K, J, mean, weight } = this;
-    const n = idx.length;
-    const P = this.data.profiles;
-    let excluded = 0;
-    for (let q = 0; q < J * K; q++) {
-      let m = 0;
-      for (let s = 0; s < n; s++) m += P[idx[s]][q];
-      m /= n;
-      let ss = 0;
-      for (let s = 0; s < n; s++) {
-        const e = P[idx[s]][q] - m;
-        ss += e * e;
-      }
-      const varMean = n > 1 ? ss / (n - 1) / n : 0;
-      mean[q] = m;
-      weight[q] = varMean > 0 ? 1 / varMean : 0;
-      if (q >= K && !(varMean > 0)) excluded++;
-    }
-    this.excluded = excluded;
-    this.terms = (J - 1) * K - excluded;
-    this.#initialCondition();
-    // Rough D₀ from the growth of R²_rms of the mean profiles (bin-centre quadrature), for defaults only.
-    const r2First = this.#meanSquareRadius(0);
-    const r2Last = this.#meanSquareRadius(J - 1);
-    const span = this.t[J - 1] - this.t[0];
-    const d = this.data.dimension;
-    const growth = (r2Last - r2First) / (2 * d * span);
-    const h = this.data.binWidth;
-    this.D0 = growth > 0 ? growth : (h * h) / span;
-    if (this.dt === 0) {
-      const dr = this.solver.dr;
-      this.dt = this.#dtFixed ??
-        Math.min((0.05 * Math.max(r2First, h * h)) / this.D0, (2 * dr * dr) / this.D0, span / 50);
-    }
-  }
-
-  #meanSquareRadius(j: number): number {
-    const { K, mean } = this;
-    const h = this.data.binWidth;
-    const d = this.data.dimension;
-    let num = 0;
-    let den = 0;
-    for (let k = 0; k < K; k++) {
-      const rc = (k + 0.5) * h;
-      const w = mean[j * K + k] * Math.pow(rc, d - 1);
-      num += w * rc * rc;
-      den += w;
-    }
-    return den > 0 ? num / den : 0;
-  }
-
-  /**
-   * Initial condition from the t₁ bin means: interpolation between bin centres, geometric where both
-   * neighbours are positive (exact for exponential tails, so relative errors stay small where 1/σ² weights
-   * are large), linear otherwise; flat inside the first half bin; beyond the last centre a geometric
-   * continuation of the last two bins when they decrease, else a linear ramp to 0 over one bin; then scaled
-   * bin by bin so that its bin averages equal the data.
-   */
-  #initialCondition(): void {
-    const { K, mean, initial, refine, solver } = this;
-    const h = this.data.binWidth;
-    const M = solver.cells;
-    const last = mean[K - 1];
-    const prev = mean[K - 2];
-    const decay = last > 0 && prev > last ? last / prev : 0;
-    for (let c = 0; c < M; c++) {
-      const x = solver.r[c] / h - 0.5; // position in units of bin centres
-      let v: number;
-      if (x <= 0) v = mean[0];
-      else if (x >= K - 1) {
-        const s = x - (K - 1);
-        v = decay > 0 ? last * Math.pow(decay, s) : Math.max(0, last * (1 - s));
-      } else {
-        const k = Math.floor(x);
-        const f = x - k;
-        const v0 = mean[k];
-        const v1 = mean[k + 1];
-        v = v0 > 0 && v1 > 0 ? v0 * Math.pow(v1 / v0, f) : v0 + f * (v1 - v0);
-      }
-      initial[c] = v;
-    }
-    for (let k = 0; k < K; k++) {
-      let num = 0;
-      let den = 0;
-      for (let c = k * refine; c < (k + 1) * refine; c++) {
-        num += initial[c] * solver.volume[c];
-        den += solver.volume[c];
-      }
-      const avg = num / den;
-      const s = avg > 0 ? mean[k] / avg : 0;
-      for (let c = k * refine; c < (k + 1) * refine; c++) initial[c] *= s;
-    }
-  }
-
-  /** Weighted SSE of the model with diffusion coefficient D (one PDE solve, no allocation). */
-  sse(D: number, residuals: Float64Array | null = null): number {
-    const { K, J, refine, solver, work, mean, weight } = this;
-    work.set(this.initial);
-    const params = { D, chi2: this.chi2, kappa: this.kappa };
-    let sse = 0;
-    for (let j = 1; j < J; j++) {
-      solver.advance(work, this.t[j] - this.t[j - 1], params, this.dt);
-      for (let k = 0; k < K; k++) {
-        let num = 0;
-        let den = 0;
-        for (let c = k * refine; c < (k + 1) * refine; c++) {
-          num += work[c] * solver.volume[c];
-          den += solver.volume[c];
-        }
-        const q = j * K + k;
-        const e = num / den - mean[q];
-        const w = weight[q];
-        if (residuals) residuals[(j - 1) * K + k] = w > 0 ? e * Math.sqrt(w) : Number.NaN;
-        if (w > 0) sse += w * e * e;
-      }
-    }
-    return sse;
-  }
-
-  minimise(lo: number, hi: number): { D: number; sse: number; atBound: boolean; evaluations: number } {
-    const a = Math.log(lo);
-    const b = Math.log(hi);
-    const r = brentMinimize((x) => this.sse(Math.exp(x)), a, b, { tolerance: this.relTol });
-    const edge = 1e-3 * (b - a);
-    return {
-      D: Math.exp(r.x),
-      sse: r.fx,
-      atBound: r.x - a < edge || b - r.x < edge,
-      evaluations: r.evaluations,
-    };
-  }
-
-  residuals(D: number): Float64Array {
-    const out = new Float64Array((this.J - 1) * this.K);
-    this.sse(D, out);
-    return out;
-  }
-}
-
 /** Homogeneous decay series: ⟨L⟩(t) per realisation on common times. */
 export interface DecaySeries {
   readonly t: ArrayLike<number>;
@@ -700,26 +359,6 @@ export function fitVinenDecay(
     ci,
     bootstrap: boot,
   };
-}
-
-/**
- * Sensitivity of the fitted D to χ₂: refits at χ₂ = lower, central and upper (e.g. the decay fit's interval)
- * and reports the finite-difference slope ∂D/∂χ₂. Point fits only (no bootstrap).
- */
-export function vinenChi2Sensitivity(
-  data: ProfileEnsemble,
-  options: Omit<VinenFitOptions, "chi2" | "replicates"> & {
-    chi2: number;
-    chi2Interval: readonly [number, number];
-  },
-): { chi2: readonly [number, number, number]; D: readonly [number, number, number]; dDdChi2: number } {
-  const [lo, hi] = options.chi2Interval;
-  if (!(lo >= 0 && hi > lo)) {
-    throw new RangeError(`chi2Interval must satisfy 0 ≤ lo < hi, got [${lo}, ${hi}]`);
-  }
-  const at = (chi2: number) => fitVinenDiffusion(data, { ...options, chi2, replicates: 0 }).D;
-  const D = [at(lo), at(options.chi2), at(hi)] as const;
-  return { chi2: [lo, options.chi2, hi], D, dDdChi2: (D[2] - D[0]) / (hi - lo) };
 }
 
 function checkParams(p: VinenParameters): void {

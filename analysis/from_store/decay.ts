@@ -17,6 +17,7 @@ import {
 } from "../../store/reads.ts";
 import { fitVinenDecay } from "../estimators/mod.ts";
 import { AnalysisInputError } from "../errors.ts";
+import type { Chi2Source } from "../options.ts";
 
 export interface Chi2Estimate {
   readonly chi2: number;
@@ -26,6 +27,8 @@ export interface Chi2Estimate {
   readonly realisations: number;
   /** One line saying where the value comes from. */
   readonly source: string;
+  /** The same as data, for the stored record (database path as given, study name and hash, series). */
+  readonly provenance: Chi2Source & { readonly kind: "decay-study" };
 }
 
 function isRecord(v: unknown): v is Record<string, unknown> {
@@ -76,9 +79,21 @@ export function chi2FromDecayStudy(
       fromTime: opts.fromTime,
     });
     const ci = fit.ci?.bca ?? fit.ci?.percentile ?? null;
+    const interval = ci ? [ci.lower, ci.upper] as const : null;
     return {
+      provenance: {
+        kind: "decay-study",
+        path: dbPath,
+        studyName: study.name,
+        studyHash: study.studyHash,
+        chi2: fit.chi2,
+        interval,
+        realisations: ids.length,
+        fromTime: fit.window.t1,
+        series: seriesName,
+      },
       chi2: fit.chi2,
-      interval: ci ? [ci.lower, ci.upper] : null,
+      interval,
       fromTime: fit.window.t1,
       realisations: ids.length,
       source:

@@ -7,8 +7,15 @@
  * cancels), and the common density is that content over μ((b+1)h) − μ(bh). Content is conserved.
  * Common width h = mean of the w_i; common bins K = ⌊min_i(K_i w_i)/h⌋ so every realisation covers them.
  *
+ * `readProfileEnsemble` reads the stored `profile.<k>` series of a point (scalars `profile_bin_width`,
+ * `profile_bins`) at up to `maxTimes` frames of a time window and rebins them.
+ *
  * References: methods notes §5.2 (bins ≈ R_rms(0)/10, densities per annulus area / shell volume).
  */
+import type { DatabaseSync } from "node:sqlite";
+import { readAlignedSeries, readScalars } from "../../store/reads.ts";
+import type { ProfileEnsemble } from "../estimators/vinen.ts";
+import { alignTo } from "./series.ts";
 
 /** One realisation's stored profile: density of bin k at frame j is `values[k][j]`. */
 export interface RealisationProfile {
@@ -69,4 +76,75 @@ export function commonProfiles(
     return out;
   });
   return { binWidth: h, bins: K, profiles };
+}
+
+/**
+ * The radial profiles of realisations `ids` on common bins at up to `maxTimes` frames (evenly spread) of the
+ * window [t1, t2] of lags since the first frame (the whole run without a window), or the reason there are none.
+ */
+export function readProfileEnsemble(
+  db: DatabaseSync,
+  ids: readonly number[],
+  opts: {
+    readonly dimension: 2 | 3;
+    readonly window: { readonly t1: number; readonly t2: number } | null;
+    readonly maxTimes: number;
+  },
+): { readonly data: ProfileEnsemble; readonly used: number } | { readonly reason: string } {
+  if (ids.length === 0) return { reason: "no done realisation at this point" };
+  const scalars = readScalars(db, ids);
+  const widths = ids.map((id) => scalars.get(id)?.profile_bin_width ?? Number.NaN);
+  const binsOf = ids.map((id) => scalars.get(id)?.profile_bins ?? Number.NaN);
+  if (!widths.every((w) => w > 0) || !binsOf.every((b) => b >= 2)) {
+    return {
+      reason:
+        "radial profiles were not recorded by every done realisation (add cluster to observables.record)",
+    };
+  }
+  const maxBins = Math.max(...binsOf);
+  const series = Array.from({ length: maxBins }, (_, k) => readAlignedSeries(db, ids, `profile.${k}`));
+  const axis = series[0];
+  if (axis.k.length < 2) return { reason: "fewer than 2 frames carry a radial profile" };
+  const cols = series.map((s) => alignTo(s, axis.k, Number.NaN)!);
+  const lags = Array.from(axis.t, (x) => x - axis.t[0]);
+  const t1 = opts.window?.t1 ?? lags[0];
+  const t2 = opts.window?.t2 ?? lags[lags.length - 1];
+  let sel: number[] = [];
+  for (let j = 0; j < lags.length; j++) if (lags[j] >= t1 - 1e-12 && lags[j] <= t2 + 1e-12) sel.push(j);
+  if (sel.length > opts.maxTimes) {
+    const m = sel.length;
+    sel = Array.from(
+      { length: opts.maxTimes },
+      (_, q) => sel[Math.round((q * (m - 1)) / (opts.maxTimes - 1))],
+    );
+  }
+  if (sel.length < 2) return { reason: `fewer than 2 profile frames in [${t1}, ${t2}]` };
+  // Realisations with a complete profile at every selected frame.
+  const usable: number[] = [];
+  ids.forEach((_, i) => {
+    let ok = true;
+    for (let k = 0; k < binsOf[i] && ok; k++) {
+      for (const j of sel) if (!Number.isFinite(cols[k][i][j])) ok = false;
+    }
+    if (ok) usable.push(i);
+  });
+  if (usable.length === 0) return { reason: "no realisation has complete profiles in the window" };
+  const common = commonProfiles(
+    opts.dimension,
+    usable.map((i) => ({
+      binWidth: widths[i],
+      values: Array.from({ length: binsOf[i] }, (_, k) => cols[k][i]),
+    })),
+    sel,
+  );
+  return {
+    data: {
+      dimension: opts.dimension,
+      binWidth: common.binWidth,
+      bins: common.bins,
+      t: sel.map((j) => lags[j]),
+      profiles: common.profiles,
+    },
+    used: usable.length,
+  };
 }

@@ -12,7 +12,7 @@ import type { EstimatorCI } from "../estimators/bootstrap.ts";
 export { pickInterval } from "../estimators/bootstrap.ts";
 import type { AnalyseOptions } from "../options.ts";
 
-export type AnalysisStatus = "ok" | "no-diffusive-regime" | "not-available" | "error";
+export type AnalysisStatus = "ok" | "no-diffusive-regime" | "rejected" | "not-available" | "error";
 
 /** An estimate with its interval as shown to the user. */
 export interface Estimate {

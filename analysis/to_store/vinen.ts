@@ -1,170 +1,203 @@
 /**
- * The `vinen` rows (methods §5.2): the radial profiles of the stored series, rebinned onto common bins, fitted
- * with ∂L/∂t = D∇²L − χ₂(κ/2π)L² (χ₂ given), fit window = the diffusion window (else the whole run), at most 25
- * times; the sensitivity of D to χ₂ at `chi2Interval` (default [χ₂/2, 2χ₂]).
+ * The `vinen` rows (methods §5.2): the radial profiles of the stored series, rebinned onto common bins over the
+ * diffusion window (else the whole run, at most 25 times), fitted with ∂L/∂t = D∇²L − χ₂(κ/2π)L²: D and χ₂
+ * together (χ₂ free, or with a decay study's χ₂ as a prior), or D alone at a given χ₂ (`estimators/vinen_fit.ts`).
+ * A fit with reduced χ² > 2 is rejected and stores no D as an answer; the model's loss is checked against the
+ * observed loss; where χ₂ came from is stored with the rows.
  */
-import { fitVinenDiffusion, type ProfileEnsemble, vinenChi2Sensitivity } from "../estimators/vinen.ts";
-import { readAlignedSeries, readScalars } from "../../store/reads.ts";
-import { commonProfiles } from "../from_store/profiles.ts";
-import { alignTo } from "../from_store/series.ts";
+import { pickInterval } from "../estimators/bootstrap.ts";
+import type { ProfileEnsemble } from "../estimators/vinen.ts";
+import { fitVinen, type VinenFit, type VinenLoss } from "../estimators/vinen_fit.ts";
+import { readProfileEnsemble } from "../from_store/profiles.ts";
+import type { Chi2Source } from "../options.ts";
 import { errorText, finiteOrNull } from "../_util.ts";
-import { type AnalysisStatus, type Estimate, missing, type PointContext, type Push } from "./rows.ts";
+import {
+  type AnalysisStatus,
+  ciDetail,
+  type Estimate,
+  missing,
+  type PointContext,
+  type Push,
+} from "./rows.ts";
 
 const VINEN_MAX_TIMES = 25;
+
+/** What `analyse` reports about the Vinen fit of one point. */
+export interface VinenAnalysis extends Estimate {
+  readonly chi2: number | null;
+  readonly chi2Lower: number | null;
+  readonly chi2Upper: number | null;
+  readonly reducedChi2: number | null;
+  readonly mode: VinenLoss["mode"];
+  readonly notes: readonly string[];
+}
+
+/** One line saying where χ₂ came from. */
+export function chi2SourceText(loss: VinenLoss, source: Chi2Source | undefined): string {
+  if (loss.mode === "free") {
+    return "χ₂ fitted freely from the spreading profiles together with D (the two are strongly correlated); " +
+      "calibrate it with a homogeneous decay study: spindrift analyse DB --chi2-from DECAY.sqlite";
+  }
+  if (source?.kind === "decay-study") {
+    const ci = source.interval
+      ? ` [${source.interval[0].toPrecision(3)}, ${source.interval[1].toPrecision(3)}]`
+      : "";
+    return `χ₂ = ${
+      source.chi2.toPrecision(4)
+    }${ci} from the decay study ${source.studyName} (${source.path}, ` +
+      `study hash ${source.studyHash.slice(0, 12)}…, ${source.realisations} realisations, 1/L linear for ` +
+      `t ≥ ${source.fromTime.toPrecision(3)})${loss.mode === "prior" ? ", used as a prior" : ""}`;
+  }
+  return `χ₂ = ${loss.chi2} given with --chi2 (fixed: the fit tests it)`;
+}
 
 export function vinenRows(
   ctx: PointContext,
   window: { readonly t1: number; readonly t2: number } | null,
   push: Push,
-): Estimate {
-  const chi2 = ctx.opts.chi2;
+): VinenAnalysis {
+  const loss: VinenLoss = ctx.opts.vinenLoss ?? { mode: "free" };
+  const source = ctx.opts.chi2Source ?? null;
   const seed = `${ctx.base}/${ctx.point.pointHash}/vinen`;
-  const none = (status: AnalysisStatus, reason: string): Estimate => {
-    push("vinen", "D", { value: null, detail: { status, reason, chi2: chi2 ?? null } });
-    return missing(status, reason);
-  };
-  if (chi2 === undefined) {
-    return none(
-      "not-available",
-      "no χ₂ given: fit 1/L = 1/L₀ + χ₂κt/2π on a homogeneous decay study and pass --chi2 X",
-    );
-  }
-  if (ctx.ids.length === 0) return none("not-available", "no done realisation at this point");
-  try {
-    const scalars = readScalars(ctx.db, ctx.ids);
-    const widths = ctx.ids.map((id) => scalars.get(id)?.profile_bin_width ?? Number.NaN);
-    const binsOf = ctx.ids.map((id) => scalars.get(id)?.profile_bins ?? Number.NaN);
-    if (!widths.every((w) => w > 0) || !binsOf.every((b) => b >= 2)) {
-      return none(
-        "not-available",
-        "radial profiles were not recorded by every done realisation (add cluster to observables.record)",
-      );
-    }
-    const maxBins = Math.max(...binsOf);
-    const series = Array.from(
-      { length: maxBins },
-      (_, k) => readAlignedSeries(ctx.db, ctx.ids, `profile.${k}`),
-    );
-    const axis = series[0];
-    if (axis.k.length < 2) return none("not-available", "fewer than 2 frames carry a radial profile");
-    const cols = series.map((s) => alignTo(s, axis.k, Number.NaN)!);
-    // Frames in the window (lags since the first frame of the run, as in the MSD fit).
-    const msdT0 = readAlignedSeries(ctx.db, ctx.ids.slice(0, 1), "msd").t[0] ?? axis.t[0];
-    const lags = Array.from(axis.t, (x) => x - msdT0);
-    const t1 = window?.t1 ?? lags[0];
-    const t2 = window?.t2 ?? lags[lags.length - 1];
-    let sel: number[] = [];
-    for (let j = 0; j < lags.length; j++) if (lags[j] >= t1 - 1e-12 && lags[j] <= t2 + 1e-12) sel.push(j);
-    if (sel.length > VINEN_MAX_TIMES) {
-      const m = sel.length;
-      sel = Array.from(
-        { length: VINEN_MAX_TIMES },
-        (_, q) => sel[Math.round((q * (m - 1)) / (VINEN_MAX_TIMES - 1))],
-      );
-    }
-    if (sel.length < 2) return none("not-available", `fewer than 2 profile frames in [${t1}, ${t2}]`);
-    // Realisations with a complete profile at every selected frame.
-    const usable: number[] = [];
-    ctx.ids.forEach((_, i) => {
-      let ok = true;
-      for (let k = 0; k < binsOf[i] && ok; k++) {
-        for (const j of sel) if (!Number.isFinite(cols[k][i][j])) ok = false;
-      }
-      if (ok) usable.push(i);
+  const sourceText = chi2SourceText(loss, ctx.opts.chi2Source);
+  const none = (status: AnalysisStatus, reason: string): VinenAnalysis => {
+    push("vinen", "D", {
+      value: null,
+      detail: { status, reason, mode: loss.mode, chi2Source: source, sourceText },
     });
-    if (usable.length === 0) {
-      return none("not-available", "no realisation has complete profiles in the window");
-    }
-    const common = commonProfiles(
-      ctx.dimension,
-      usable.map((i) => ({
-        binWidth: widths[i],
-        values: Array.from({ length: binsOf[i] }, (_, k) => cols[k][i]),
-      })),
-      sel,
-    );
-    const data: ProfileEnsemble = {
-      dimension: ctx.dimension,
-      binWidth: common.binWidth,
-      bins: common.bins,
-      t: sel.map((j) => lags[j]),
-      profiles: common.profiles,
+    return {
+      ...missing(status, reason),
+      chi2: null,
+      chi2Lower: null,
+      chi2Upper: null,
+      reducedChi2: null,
+      mode: loss.mode,
+      notes: [],
     };
-    const VB = usable.length >= 2 ? (ctx.opts.vinenReplicates ?? 200) : 0;
-    ctx.progress(`  Vinen fit (χ₂ = ${chi2}) with ${VB} bootstrap replicates`);
-    const vf = fitVinenDiffusion(data, { chi2, replicates: VB, seed, level: ctx.level });
-    const ci = vf.ci?.percentile ?? null;
-    const interval = ctx.opts.chi2Interval ?? (chi2 > 0 ? [chi2 / 2, 2 * chi2] as const : [0, 0.3] as const);
-    const sens = vinenChi2Sensitivity(data, { chi2, chi2Interval: interval });
-    const detail = {
-      status: vf.atBound ? "error" : "ok",
-      reason: vf.atBound ? "the optimum lies at the edge of the search bracket" : null,
-      chi2,
-      chi2Interval: interval,
-      chi2IntervalRule: ctx.opts.chi2Interval
-        ? "given"
-        : chi2 > 0
-        ? "[χ₂/2, 2χ₂]"
-        : "[0, 0.3] (χ₂ = 0 given)",
+  };
+  try {
+    const read = readProfileEnsemble(ctx.db, ctx.ids, {
+      dimension: ctx.dimension,
+      window,
+      maxTimes: VINEN_MAX_TIMES,
+    });
+    if ("reason" in read) return none("not-available", read.reason);
+    const data = read.data;
+    const VB = read.used >= 2 ? (ctx.opts.vinenReplicates ?? 200) : 0;
+    ctx.progress(`  Vinen fit (χ₂ ${loss.mode}) with ${VB} bootstrap replicates`);
+    const vf = fitVinen(data, { loss, replicates: VB, seed, level: ctx.level });
+    const ok = vf.status === "ok";
+    const dci = pickInterval(vf.ci.D);
+    const cci = pickInterval(vf.ci.chi2);
+    const status: AnalysisStatus = vf.status === "failed" ? "error" : vf.status;
+    const common = {
+      status,
+      reason: vf.reasons[0] ?? null,
+      reasons: vf.reasons,
+      warnings: vf.warnings,
+      mode: loss.mode,
+      prior: loss.mode === "prior" ? { chi2: loss.chi2, sigma: loss.sigma } : null,
+      chi2Source: source,
+      sourceText,
       seed,
       replicates: VB,
-      failedReplicates: vf.bootstrap?.failed ?? 0,
       level: ctx.level,
-      interval: "percentile",
-      standardError: vf.ci?.standardError ?? null,
-      sse: vf.sse,
-      terms: vf.terms,
-      excluded: vf.excluded,
-      grid: vf.grid,
-      window: { t1: data.t[0], t2: data.t[data.t.length - 1], times: data.t.length },
-      realisationsUsed: usable.length,
-      binWidth: common.binWidth,
-      bins: common.bins,
-      profiles: profileChartData(data, vf.residuals),
-      sensitivity: { chi2: sens.chi2, D: sens.D, dDdChi2: sens.dDdChi2 },
     };
-    push("vinen", "D", { value: vf.D, lower: ci?.lower ?? null, upper: ci?.upper ?? null, detail });
-    push("vinen", "chi2", { value: chi2, detail: { source: "given (--chi2)", interval } });
-    push("vinen", "D_chi2_low", { value: sens.D[0], detail: { chi2: sens.chi2[0] } });
-    push("vinen", "D_chi2_high", { value: sens.D[2], detail: { chi2: sens.chi2[2] } });
-    push("vinen", "dD_dchi2", { value: sens.dDdChi2, detail: { chi2Interval: interval } });
+    push("vinen", "D", {
+      value: ok ? vf.D : null,
+      lower: ok ? dci.lower : null,
+      upper: ok ? dci.upper : null,
+      detail: {
+        ...common,
+        fitted: { D: finiteOrNull(vf.D), lower: dci.lower, upper: dci.upper, interval: dci.method },
+        interval: dci.method,
+        ...ciDetail(vf.ci.D),
+        failedReplicates: vf.bootstrap?.failed ?? 0,
+        reducedChi2: finiteOrNull(vf.reducedChi2),
+        pValue: finiteOrNull(vf.pValue),
+        pearson: finiteOrNull(vf.pearson),
+        deviance: finiteOrNull(vf.deviance),
+        terms: vf.terms,
+        parameters: vf.parameters,
+        dispersion: vf.dispersion,
+        correlationDChi2: vf.correlation,
+        lossCheck: vf.lossCheck,
+        priorPull: vf.priorPull,
+        convergence: vf.convergence,
+        grid: vf.grid,
+        window: {
+          t1: data.t[0],
+          t2: data.t[data.t.length - 1],
+          times: data.t.length,
+          fromDiffusionWindow: !!window,
+        },
+        realisationsUsed: read.used,
+        binWidth: data.binWidth,
+        bins: data.bins,
+        profiles: profileChartData(data, vf),
+        totals: vf.totals,
+        rule:
+          "reduced χ² = Pearson X²/(terms − fitted parameters) with quasi-Poisson weights; rejected above 2",
+      },
+    });
+    push("vinen", "chi2", {
+      value: finiteOrNull(vf.chi2),
+      lower: loss.mode === "fixed" ? null : cci.lower,
+      upper: loss.mode === "fixed" ? null : cci.upper,
+      detail: { ...common, interval: cci.method, ...ciDetail(vf.ci.chi2), priorPull: vf.priorPull },
+    });
+    push("vinen", "reduced_chi2", {
+      value: finiteOrNull(vf.reducedChi2),
+      detail: {
+        ...common,
+        terms: vf.terms,
+        parameters: vf.parameters,
+        pValue: finiteOrNull(vf.pValue),
+        rejectAbove: 2,
+      },
+    });
+    push("vinen", "loss_observed", {
+      value: finiteOrNull(vf.lossCheck.observed),
+      lower: vf.lossCheck.observedInterval?.lower ?? null,
+      upper: vf.lossCheck.observedInterval?.upper ?? null,
+      detail: {
+        ...common,
+        definition: "fraction of the content of the fitted bins gone between the first and last fitted time",
+      },
+    });
+    push("vinen", "loss_model", {
+      value: finiteOrNull(vf.lossCheck.model),
+      detail: { ...common, consistent: vf.lossCheck.consistent },
+    });
     return {
-      status: vf.atBound ? "error" : "ok",
-      reason: detail.reason,
-      value: vf.D,
-      lower: ci?.lower ?? null,
-      upper: ci?.upper ?? null,
+      status,
+      reason: vf.reasons[0] ?? null,
+      value: ok ? vf.D : null,
+      lower: ok ? dci.lower : null,
+      upper: ok ? dci.upper : null,
+      chi2: finiteOrNull(vf.chi2),
+      chi2Lower: cci.lower,
+      chi2Upper: cci.upper,
+      reducedChi2: finiteOrNull(vf.reducedChi2),
+      mode: loss.mode,
+      notes: [...vf.reasons.slice(ok ? 0 : 1), ...vf.warnings],
     };
   } catch (e) {
     return none("error", errorText(e));
   }
 }
 
-/** Ensemble-mean profiles and the fitted model at up to 4 times (model = mean + residual·σ). */
-function profileChartData(data: ProfileEnsemble, residuals: Float64Array): Record<string, unknown> {
-  const K = data.bins, J = data.t.length, n = data.profiles.length;
+/** Ensemble-mean profiles and the fitted model at up to 4 times. */
+function profileChartData(data: ProfileEnsemble, vf: VinenFit): Record<string, unknown> {
+  const K = data.bins, J = data.t.length;
   const picks = J <= 4
     ? Array.from({ length: J }, (_, j) => j)
     : [0, Math.round((J - 1) / 3), Math.round((2 * (J - 1)) / 3), J - 1];
   const r = Array.from({ length: K }, (_, k) => (k + 0.5) * data.binWidth);
-  const curves = [...new Set(picks)].map((j) => {
-    const mean: (number | null)[] = [];
-    const model: (number | null)[] = [];
-    for (let k = 0; k < K; k++) {
-      let s = 0;
-      for (const p of data.profiles) s += p[j * K + k];
-      const m = s / n;
-      let ss = 0;
-      for (const p of data.profiles) ss += (p[j * K + k] - m) ** 2;
-      const sigma = n > 1 ? Math.sqrt(ss / (n - 1) / n) : Number.NaN;
-      mean.push(finiteOrNull(m));
-      if (j === 0) model.push(finiteOrNull(m));
-      else {
-        const res = residuals[(j - 1) * K + k];
-        model.push(Number.isFinite(res) && Number.isFinite(sigma) ? m + res * sigma : null);
-      }
-    }
-    return { t: data.t[j], mean, model };
-  });
+  const curves = [...new Set(picks)].map((j) => ({
+    t: data.t[j],
+    mean: Array.from({ length: K }, (_, k) => finiteOrNull(vf.mean[j * K + k])),
+    model: Array.from({ length: K }, (_, k) => finiteOrNull(vf.model[j * K + k])),
+  }));
   return { r, curves };
 }
