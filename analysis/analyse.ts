@@ -39,12 +39,16 @@ import { StudyStore } from "../store/db.ts";
 import { type EnsembleResultInput, replaceEnsembleResults } from "../store/ensemble.ts";
 import {
   openStoreReadOnly,
+  type PointRecord,
   readRealisations,
   readStudy,
   readStudyPoints,
   type StudyRecord,
 } from "../store/reads.ts";
+import type { DatabaseSync } from "node:sqlite";
+import type { ClassificationConfig } from "../engines/observables/contract.ts";
 import { isRecord } from "./_util.ts";
+import { AnalysisInputError } from "./errors.ts";
 import { layoutDimension, readClassification } from "./from_store/series.ts";
 import { type AnalyseOptions, checkOptions } from "./options.ts";
 import { correlationRows, type CorrelationsAnalysis } from "./to_store/correlations.ts";
@@ -111,58 +115,36 @@ export interface AnalysisSummary {
 export async function analyseStudy(dbPath: string, opts: AnalyseOptions = {}): Promise<AnalysisSummary> {
   checkOptions(opts);
   const progress = opts.onProgress ?? (() => {});
-  const db = openStoreReadOnly(dbPath);
   const rows: EnsembleResultInput[] = [];
-  const points: PointAnalysis[] = [];
+  let points: PointAnalysis[] = [];
   let question: string[] = [];
-  let study: StudyRecord;
-  let dimension: Dimension = 2;
   const seedBase = opts.seed ?? "";
-  const B = opts.replicates ?? 2000;
+  const db = openStoreReadOnly(dbPath);
+  let setup: StudySetup;
   try {
-    study = readStudy(db, { studyId: opts.studyId });
-    const normalized = isRecord(study.normalized) ? study.normalized : {};
-    const planned = typeof normalized.realisations === "number" ? normalized.realisations : null;
-    const classification = readClassification(normalized);
-    const engine = findEngine(study.engineId);
-    const studyPoints = readStudyPoints(db, study.id);
-    const allDone = studyPoints.map((p) =>
-      readRealisations(db, p.pointHash).filter((r) =>
-        r.status === "done" && (planned === null || r.index < planned)
-      )
-    );
-    dimension = engine?.capabilities.dimension ?? layoutDimension(db, allDone.flat().map((r) => r.id));
-    const base = opts.seed ?? study.studyHash;
-    for (let pi = 0; pi < studyPoints.length; pi++) {
-      const point = studyPoints[pi];
-      const done = allDone[pi];
-      const ids = done.map((r) => r.id);
-      progress(`point ${pi + 1}/${studyPoints.length} (${point.label}): ${ids.length} done realisations`);
-      const ctx: PointContext = {
-        db,
-        study,
-        point,
-        ids,
-        dimension,
-        base,
-        B,
-        level: opts.level ?? 0.95,
-        capabilities: engine?.capabilities ?? null,
-        coreRadius: engine?.scales?.(point.params as never)?.coreRadius,
-        classification,
-        opts,
-        progress,
-      };
-      points.push(await analysePoint(ctx, rows));
+    setup = studySetup(db, opts);
+    const n = setup.points.length;
+    const workers = Math.max(1, Math.min(opts.workers ?? (navigator.hardwareConcurrency || 1), n));
+    if (workers > 1) {
+      points = await analyseInWorkers(dbPath, opts, n, workers, progress, rows);
+    } else {
+      for (let pi = 0; pi < n; pi++) {
+        const r = await analysePointAt(db, setup, pi, opts, progress);
+        rows.push(...r.rows);
+        points.push(r.point);
+      }
     }
     question = questionRows(
-      studyPoints.map((point, i) => ({ point, diffusion: points[i].diffusion })),
+      setup.points.map((point, i) => ({ point, diffusion: points[i].diffusion })),
       { level: opts.level ?? 0.95, estimator: "diffusion/D (fixed cohort)" },
       rows,
     );
   } finally {
     db.close();
   }
+  const study = setup.study;
+  const dimension = setup.dimension;
+  const B = setup.B;
   progress("writing results");
   const store = StudyStore.open(dbPath);
   let written: number;
@@ -182,6 +164,137 @@ export async function analyseStudy(dbPath: string, opts: AnalyseOptions = {}): P
     chi2Source: chi2SourceText(opts.vinenLoss ?? { mode: "free" }, opts.chi2Source),
     rowsWritten: written,
   };
+}
+
+/** What every point's analysis needs of the study revision. */
+export interface StudySetup {
+  readonly study: StudyRecord;
+  readonly points: readonly PointRecord[];
+  /** Done realisation ids per point (index below the planned count). */
+  readonly ids: readonly (readonly number[])[];
+  readonly dimension: Dimension;
+  readonly base: string;
+  readonly B: number;
+  readonly classification: ClassificationConfig | null;
+  readonly engineId: string;
+}
+
+/** Reads the study revision, its points and their done realisations. */
+export function studySetup(db: DatabaseSync, opts: AnalyseOptions): StudySetup {
+  const study = readStudy(db, { studyId: opts.studyId });
+  const normalized = isRecord(study.normalized) ? study.normalized : {};
+  const planned = typeof normalized.realisations === "number" ? normalized.realisations : null;
+  const engine = findEngine(study.engineId);
+  const points = readStudyPoints(db, study.id);
+  const ids = points.map((p) =>
+    readRealisations(db, p.pointHash).filter((r) =>
+      r.status === "done" && (planned === null || r.index < planned)
+    )
+      .map((r) => r.id)
+  );
+  return {
+    study,
+    points,
+    ids,
+    dimension: engine?.capabilities.dimension ?? layoutDimension(db, ids.flat()),
+    base: opts.seed ?? study.studyHash,
+    B: opts.replicates ?? 2000,
+    classification: readClassification(normalized),
+    engineId: study.engineId,
+  };
+}
+
+/** Analyses point `pi` of the setup; returns its rows and summary. */
+export async function analysePointAt(
+  db: DatabaseSync,
+  setup: StudySetup,
+  pi: number,
+  opts: AnalyseOptions,
+  progress: (m: string) => void,
+): Promise<{ rows: EnsembleResultInput[]; point: PointAnalysis }> {
+  const point = setup.points[pi];
+  const ids = setup.ids[pi];
+  const engine = findEngine(setup.engineId);
+  progress(`point ${pi + 1}/${setup.points.length} (${point.label}): ${ids.length} done realisations`);
+  const ctx: PointContext = {
+    db,
+    study: setup.study,
+    point,
+    ids,
+    dimension: setup.dimension,
+    base: setup.base,
+    B: setup.B,
+    level: opts.level ?? 0.95,
+    capabilities: engine?.capabilities ?? null,
+    coreRadius: engine?.scales?.(point.params as never)?.coreRadius,
+    classification: setup.classification,
+    opts,
+    progress: (m) => progress(`[${point.label}] ${m.trim()}`),
+  };
+  const rows: EnsembleResultInput[] = [];
+  return { rows, point: await analysePoint(ctx, rows) };
+}
+
+/** Messages of `worker.ts`. */
+export type AnalysisWorkerMessage =
+  | { readonly type: "progress"; readonly message: string }
+  | {
+    readonly type: "done";
+    readonly index: number;
+    readonly rows: EnsembleResultInput[];
+    readonly point: PointAnalysis;
+  }
+  | { readonly type: "error"; readonly message: string; readonly inputError: boolean };
+
+/** Points analysed by `workers` module workers (each opens the database read-only); results in point order. */
+function analyseInWorkers(
+  dbPath: string,
+  opts: AnalyseOptions,
+  n: number,
+  workers: number,
+  progress: (m: string) => void,
+  rows: EnsembleResultInput[],
+): Promise<PointAnalysis[]> {
+  const { onProgress: _drop, ...plain } = opts;
+  const results: { rows: EnsembleResultInput[]; point: PointAnalysis }[] = new Array(n);
+  return new Promise((resolve, reject) => {
+    let next = 0, done = 0, failed = false;
+    const pool: Worker[] = [];
+    const finish = (error?: Error) => {
+      for (const w of pool) w.terminate();
+      if (error) return reject(error);
+      for (const r of results) rows.push(...r.rows);
+      resolve(results.map((r) => r.point));
+    };
+    const give = (w: Worker) => {
+      if (next >= n) return;
+      w.postMessage({ dbPath, opts: plain, index: next++ });
+    };
+    for (let q = 0; q < workers; q++) {
+      const w = new Worker(new URL("./worker.ts", import.meta.url).href, { type: "module" });
+      pool.push(w);
+      w.onmessage = (e: MessageEvent<AnalysisWorkerMessage>) => {
+        const m = e.data;
+        if (failed) return;
+        if (m.type === "progress") progress(m.message);
+        else if (m.type === "error") {
+          failed = true;
+          finish(m.inputError ? new AnalysisInputError(m.message) : new Error(m.message));
+        } else {
+          results[m.index] = { rows: m.rows, point: m.point };
+          if (++done === n) finish();
+          else give(w);
+        }
+      };
+      w.onerror = (e) => {
+        e.preventDefault();
+        if (failed) return;
+        failed = true;
+        finish(new Error(`analysis worker failed: ${e.message}`));
+      };
+      give(w);
+    }
+  });
 }
 
 async function analysePoint(ctx: PointContext, rows: EnsembleResultInput[]): Promise<PointAnalysis> {

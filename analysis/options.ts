@@ -43,6 +43,8 @@ export interface AnalyseOptions {
   readonly sensitivityReplicates?: number;
   /** Velocity correlations where the engine provides a velocity field (default true). */
   readonly correlations?: boolean;
+  /** Points analysed in parallel (module workers; default: the number of cores, at most the points). */
+  readonly workers?: number;
   /** Progress messages (one line each). */
   readonly onProgress?: (message: string) => void;
 }
@@ -59,6 +61,7 @@ export function checkOptions(o: AnalyseOptions): void {
   intAtLeast("replicates", o.replicates, 2, true);
   intAtLeast("vinenReplicates", o.vinenReplicates, 2, true);
   intAtLeast("sensitivityReplicates", o.sensitivityReplicates, 2, true);
+  intAtLeast("workers", o.workers, 1);
   if (o.level !== undefined && !(o.level > 0 && o.level < 1)) {
     throw new AnalysisInputError(`level must be in (0, 1), got ${o.level}`);
   }

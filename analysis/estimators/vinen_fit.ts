@@ -305,8 +305,11 @@ class Problem {
     return x2;
   }
 
-  /** Levenberg–Marquardt from `start` (1 or 2 parameters). */
-  minimise(start: readonly number[]): Solution {
+  /**
+   * Levenberg–Marquardt from `start` (1 or 2 parameters); stops when a step changes the cost by less than
+   * `tol` (relative) or the parameters by less than `tol`·max(1, |u|).
+   */
+  minimise(start: readonly number[], tol = 1e-10): Solution {
     const p = this.nParams;
     const n = this.count;
     let u = start.slice(0, p);
@@ -340,13 +343,15 @@ class Problem {
         if (p === 2) v[1] = Math.max(0, v[1]);
         const c = this.residuals(v);
         if (c < cost) {
-          const small = delta.every((dlt, a) => Math.abs(dlt) < 1e-8 * Math.max(1, Math.abs(u[a])));
+          const small = delta.every((dlt, a) =>
+            Math.abs(dlt) < Math.max(1e-8, tol) * Math.max(1, Math.abs(u[a]))
+          );
           const rel = (cost - c) / Math.max(cost, 1e-300);
           u = v;
           cost = c;
           lambda = Math.max(1e-9, lambda / 5);
           improved = true;
-          if (small || rel < 1e-10) converged = true;
+          if (small || rel < tol) converged = true;
           break;
         }
         lambda *= 10;
@@ -594,7 +599,8 @@ export function fitVinen(data: ProfileEnsemble, options: VinenFitOptions): Vinen
       const tot = prob.totals();
       const lossObs = 1 - tot.observed[J - 1] / tot.observed[0];
       if (prob.terms < prob.nParams + 1) return [Number.NaN, Number.NaN, lossObs];
-      const s = prob.minimise(best.u);
+      // Replicates start at the optimum and stop at 1e-6 (relative), far below their spread.
+      const s = prob.minimise(best.u, 1e-6);
       const d = Math.exp(s.u[0]);
       if (!(d > 1e-4 * prob.D0 && d < 1e4 * prob.D0)) return [Number.NaN, Number.NaN, lossObs];
       return [d, prob.chi2Of(s.u), lossObs];
