@@ -587,16 +587,15 @@ export function diffusionEvidence(p: PreparedTracks, options: DiffusionOptions):
       draws.push(Int32Array.from(resampleIndices(rng, new Int32Array(R)), (q) => all[q]));
     }
   }
-  const support = B > 0 ? measureSupport(p, draws, tCut, rules, mainOf) : null;
   const base = {
     dimension: d,
     realisations: R,
     originCurve,
     bootstrap: B > 0 ? { replicates: B, seed: options.seed, level } : null,
     rules,
-    support,
   };
   if (choice.outcome !== WindowOutcome.Ok) {
+    const support = B > 0 ? measureSupport(p, draws, tCut, rules, mainOf, null) : null;
     const reasons = [`no fitting window: ${windowReason(choice, origin0.slope, t, rules)}`];
     let lossLimited: DiffusionEvidence["lossLimited"] = null;
     const lossStopped = choice.end === "main-cluster loss" && choice.i1 >= 0 &&
@@ -615,6 +614,7 @@ export function diffusionEvidence(p: PreparedTracks, options: DiffusionOptions):
     }
     return {
       ...base,
+      support,
       status: "no-diffusive-regime",
       reasons,
       tauC: Number.isFinite(choice.tauC) ? choice.tauC : null,
@@ -639,6 +639,14 @@ export function diffusionEvidence(p: PreparedTracks, options: DiffusionOptions):
   const results = boot.results;
   const [origin, cohort, spread] = results;
   const lag = specs.lag ? results[3] : null;
+  // The window's support: replicates whose own window is the full sample's reuse the exponents just computed.
+  const known = specs.lag
+    ? {
+      key: `${i1}/${i2}/${tauC}`,
+      means: [boot.replicateMean[0], boot.replicateMean[1], boot.replicateMean[3]],
+    }
+    : null;
+  const support = B > 0 ? measureSupport(p, draws, tCut, rules, mainOf, known) : null;
   const reasons: string[] = [];
   for (const [spec, r] of [[specs.origin, origin], [specs.cohort, cohort]] as const) {
     if (!spec.usable()) reasons.push(`too few samples to judge ${NAMES[spec.name]}`);
@@ -666,6 +674,7 @@ export function diffusionEvidence(p: PreparedTracks, options: DiffusionOptions):
   const pick = pickInterval(cohort.ci);
   return {
     ...base,
+    support,
     status: ok ? "ok" : "no-diffusive-regime",
     reasons,
     tauC,
@@ -703,7 +712,12 @@ function bootstrapSpecs(
   bca: boolean,
   level: number,
   band: readonly [number, number],
-): { results: EstimatorResult[]; replicateD: Float64Array[]; jackknifeD: Float64Array[] | null } {
+): {
+  results: EstimatorResult[];
+  replicateD: Float64Array[];
+  replicateMean: Float64Array[];
+  jackknifeD: Float64Array[] | null;
+} {
   const B = draws.length;
   const R = all.length;
   const nG = specs.map((s) => Math.max(0, s.g2 - s.g1 + 1));
@@ -739,7 +753,7 @@ function bootstrapSpecs(
     const ev = judge(s, B > 0 ? repMean[q] : null, B > 0 ? repLocal[q] : null, B, level, band);
     return result(s, ci, ev);
   });
-  return { results: out, replicateD: repD, jackknifeD: jack };
+  return { results: out, replicateD: repD, replicateMean: repMean, jackknifeD: jack };
 }
 
 /** Share of replicates whose own window passes the window rule and the three mean exponents. */
@@ -749,6 +763,7 @@ function measureSupport(
   tCut: number,
   rules: RegimeRules,
   mainOf: (idx: Int32Array) => Float64Array,
+  known: { readonly key: string; readonly means: readonly Float64Array[] } | null,
 ): { fraction: number; replicates: number } {
   const t = p.t, K = p.K;
   const origin = new Spec(
@@ -766,12 +781,17 @@ function measureSupport(
   const [lo, hi] = rules.alphaBand;
   const inBand = (v: number) => v >= lo && v <= hi;
   let good = 0;
-  for (const idx of draws) {
+  for (let b = 0; b < draws.length; b++) {
+    const idx = draws[b];
     origin.curve.eval(idx, origin.y, origin.w);
     if (!origin.slope.compute(origin.y)) continue;
     chooseWindow(origin.slope, mainOf(idx), tCut, rules, choice);
     if (choice.outcome !== WindowOutcome.Ok) continue;
     const key = `${choice.i1}/${choice.i2}/${choice.tauC}`;
+    if (known !== null && key === known.key) {
+      if (known.means.every((m) => inBand(m[b]))) good++;
+      continue;
+    }
     let specs = cache.get(key);
     if (!specs) {
       specs = windowSpecs(p, choice.i1, choice.i2, choice.tauC, rules);
