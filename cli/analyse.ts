@@ -37,6 +37,8 @@ export interface AnalyseCommandOptions {
   readonly sensitivity?: boolean;
   readonly correlations?: boolean;
   readonly study?: number;
+  /** Points analysed in parallel (default: number of cores). */
+  readonly workers?: number;
   /** Progress lines on standard error (default false). */
   readonly verbose?: boolean;
 }
@@ -91,6 +93,7 @@ export async function analyseCommand(dbPath: string, o: AnalyseCommandOptions): 
       vinenLoss,
       chi2Source,
       vinenReplicates: o.vinenReplicates,
+      workers: o.workers,
       sensitivity: o.sensitivity,
       correlations: o.correlations,
       onProgress: o.verbose ? (m) => console.error(m) : undefined,
@@ -190,7 +193,11 @@ function vinenLines(v: VinenAnalysis, pad: string): string[] {
   }`;
   const head = v.status === "ok"
     ? `${pad}Vinen fit: D/κ ${formatNumber(v.value!)}${ciText(v.lower, v.upper)}; ${fit}`
-    : `${pad}Vinen fit: rejected, no D: ${v.reason}; ${fit}`;
+    : `${pad}Vinen fit: rejected, no D: ${v.reason}; χ₂ ${
+      v.mode === "fixed" ? "fixed at" : v.mode === "prior" ? "(decay prior)" : "(free)"
+    } ${v.chi2 === null ? "—" : formatNumber(v.chi2)}${
+      v.mode === "fixed" ? "" : ciText(v.chi2Lower, v.chi2Upper)
+    }`;
   return [head, ...v.notes.map((n) => `${pad}  ${n}`)];
 }
 

@@ -295,12 +295,14 @@ Typical session:
 
   program.command("analyse")
     .description(
-      "estimate ν′ = D/κ (mean-square displacement, RMS radius, Vinen-equation fit) and the evaporation and " +
-        "losses with bootstrap intervals from a study database, and store the results in it",
+      "estimate ν′ = D/κ with bootstrap intervals where the evidence shows a diffusive regime (survivor " +
+        "average, fixed cohort and lag increments must agree; otherwise 'no diffusive regime' with the " +
+        "reasons), compare the parameter points, fit the Vinen equation with its loss term, measure " +
+        "evaporation and losses, and store everything in the database",
     )
     .argument("<database>", "study database written by 'spindrift run'")
     .addOption(
-      new Option("-B, --replicates <n>", "bootstrap replicates of the MSD fit (default 2000)")
+      new Option("-B, --replicates <n>", "bootstrap replicates of the diffusion estimators (default 2000)")
         .argParser(replicateCount("--replicates")),
     )
     .option("--seed <text>", "base of the bootstrap seeds (default: the study hash, so reruns agree)")
@@ -316,6 +318,10 @@ Typical session:
     .addOption(
       new Option("--vinen-replicates <n>", "bootstrap replicates of the Vinen fit (default 200)")
         .argParser(replicateCount("--vinen-replicates")),
+    )
+    .addOption(
+      new Option("-w, --workers <n>", "parameter points analysed in parallel (default: number of cores)")
+        .argParser(positiveInt("--workers")),
     )
     .option("--no-sensitivity", "skip the classification-threshold sensitivity table")
     .option("--no-correlations", "skip the velocity correlations")
