@@ -53,7 +53,7 @@ import { layoutDimension, readClassification } from "./from_store/series.ts";
 import { type AnalyseOptions, checkOptions } from "./options.ts";
 import { correlationRows, type CorrelationsAnalysis } from "./to_store/correlations.ts";
 import { type EvaporationAnalysis, evaporationRows } from "./to_store/evaporation.ts";
-import { type DiffusionAnalysis, diffusionRows } from "./to_store/diffusion.ts";
+import { type DiffusionAnalysis, diffusionRows, noDiffusion } from "./to_store/diffusion.ts";
 import type { PointContext } from "./to_store/rows.ts";
 import { type SensitivityAnalysis, sensitivityPlan, sensitivityRows } from "./to_store/sensitivity.ts";
 import { readStoredTracks, type StoredTracks } from "./from_store/tracks.ts";
@@ -328,26 +328,7 @@ async function analysePoint(ctx: PointContext, rows: EnsembleResultInput[]): Pro
   } catch (e) {
     const reason = errorText(e);
     push("diffusion", "D", { value: null, detail: { status: "error", reason, reasons: [reason] } });
-    diffusion = {
-      status: "error",
-      reason,
-      reasons: [reason],
-      value: null,
-      lower: null,
-      upper: null,
-      window: null,
-      tauC: null,
-      seed: "",
-      support: null,
-      loss: null,
-      estimators: [],
-      lossLimited: null,
-      warnings: [],
-      replicates: null,
-      jackknife: null,
-      prepared: null,
-      cut: null,
-    };
+    diffusion = noDiffusion("error", reason, "");
   }
   await Promise.resolve();
   const sensitivity = sensitivityRows(ctx, plan, tracks, diffusion, push);

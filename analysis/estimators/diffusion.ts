@@ -278,6 +278,12 @@ class Spec {
   }
 }
 
+/** The survivor average from t₀ over the whole run, judged over [from, to]. */
+function originSpec(p: PreparedTracks, from: number, to: number, rules: WindowRules): Spec {
+  const curve = new RatioCurve(p.origin.map((c) => c.A), p.origin.map((c) => c.W), p.K);
+  return new Spec("origin", "t", p.t, curve, from, to, p.dimension, rules);
+}
+
 /** Sums of the lag estimator over start frames s ∈ [i1, i2 − L] for the lags up to `qMax` (exclusive). */
 function lagCurve(p: PreparedTracks, i1: number, i2: number, qMax: number): RatioCurve {
   const L = p.lags.length;
@@ -315,16 +321,7 @@ function windowSpecs(
   rules: RegimeRules,
 ): { origin: Spec; cohort: Spec; lag: Spec | null; spread: Spec; lagProblem: string | null } {
   const t = p.t, d = p.dimension;
-  const origin = new Spec(
-    "origin",
-    "t",
-    t,
-    new RatioCurve(p.origin.map((c) => c.A), p.origin.map((c) => c.W), p.K),
-    t[i1],
-    t[i2],
-    d,
-    rules,
-  );
+  const origin = originSpec(p, t[i1], t[i2], rules);
   const sums = p.cohort(i1, i2);
   const cc = cohortCurves(sums);
   const s = Float64Array.from({ length: i2 - i1 + 1 }, (_, m) => t[i1 + m] - t[i1]);
@@ -553,16 +550,7 @@ export function diffusionEvidence(p: PreparedTracks, options: DiffusionOptions):
   if (B0 > 0 && R < 2) warnings.push("a single realisation cannot be bootstrapped: no interval");
 
   // Step 1 on the full sample: the survivor average from t₀ chooses the window.
-  const origin0 = new Spec(
-    "origin",
-    "t",
-    t,
-    new RatioCurve(p.origin.map((c) => c.A), p.origin.map((c) => c.W), K),
-    t[0],
-    t[K - 1],
-    d,
-    rules,
-  );
+  const origin0 = originSpec(p, t[0], t[p.K - 1], rules);
   const main = new Float64Array(K);
   const mainOf = (idx: Int32Array) => {
     main.fill(0);
@@ -765,17 +753,8 @@ function measureSupport(
   mainOf: (idx: Int32Array) => Float64Array,
   known: { readonly key: string; readonly means: readonly Float64Array[] } | null,
 ): { fraction: number; replicates: number } {
-  const t = p.t, K = p.K;
-  const origin = new Spec(
-    "origin",
-    "t",
-    t,
-    new RatioCurve(p.origin.map((c) => c.A), p.origin.map((c) => c.W), K),
-    t[0],
-    t[K - 1],
-    p.dimension,
-    rules,
-  );
+  const t = p.t;
+  const origin = originSpec(p, t[0], t[p.K - 1], rules);
   const cache = new Map<string, ReturnType<typeof windowSpecs>>();
   const choice = emptyWindowChoice();
   const [lo, hi] = rules.alphaBand;

@@ -40,6 +40,7 @@ import {
   standardDeviation,
 } from "./bootstrap.ts";
 import { streamFromSeed } from "./seed.ts";
+import { lineFit } from "./window.ts";
 
 export interface VinenGrid {
   readonly dimension: 2 | 3;
@@ -310,23 +311,7 @@ export function fitVinenDecay(
       for (let q = 0; q < idx.length; q++) s += series.L[idx[q]][k];
       inv[k] = idx.length / s;
     }
-    let st = 0;
-    let sy = 0;
-    const n = K - i1;
-    for (let k = i1; k < K; k++) {
-      st += t[k];
-      sy += inv[k];
-    }
-    const mt = st / n;
-    const my = sy / n;
-    let stt = 0;
-    let sty = 0;
-    for (let k = i1; k < K; k++) {
-      stt += (t[k] - mt) ** 2;
-      sty += (t[k] - mt) * (inv[k] - my);
-    }
-    const slope = sty / stt;
-    return { slope, intercept: my - slope * mt };
+    return lineFit(t, inv, i1, K - 1);
   };
   const toChi2 = (slope: number): number => (2 * Math.PI * slope) / kappa;
   const all = new Int32Array(R);

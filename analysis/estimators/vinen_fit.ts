@@ -455,15 +455,10 @@ function initialCondition(
     }
     initial[c] = v;
   }
+  const avg = new Float64Array(K);
+  binAverages(solver, refine, K, initial, avg, 0);
   for (let k = 0; k < K; k++) {
-    let num = 0;
-    let den = 0;
-    for (let c = k * refine; c < (k + 1) * refine; c++) {
-      num += initial[c] * solver.volume[c];
-      den += solver.volume[c];
-    }
-    const avg = num / den;
-    const s = avg > 0 ? mean[k] / avg : 0;
+    const s = avg[k] > 0 ? mean[k] / avg[k] : 0;
     for (let c = k * refine; c < (k + 1) * refine; c++) initial[c] *= s;
   }
 }

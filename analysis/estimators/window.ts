@@ -204,24 +204,15 @@ export function lineFit(
   i1: number,
   i2: number,
 ): { slope: number; intercept: number } {
-  const n = i2 - i1 + 1;
+  const slope = lineSlope(t, y, i1, i2);
   let st = 0;
   let sy = 0;
   for (let k = i1; k <= i2; k++) {
     st += t[k];
     sy += y[k];
   }
-  const mt = st / n;
-  const my = sy / n;
-  let stt = 0;
-  let sty = 0;
-  for (let k = i1; k <= i2; k++) {
-    const dt = t[k] - mt;
-    stt += dt * dt;
-    sty += dt * (y[k] - my);
-  }
-  const slope = sty / stt;
-  return { slope, intercept: my - slope * mt };
+  const n = i2 - i1 + 1;
+  return { slope, intercept: sy / n - slope * (st / n) };
 }
 
 /** Why no window was chosen (`Ok` when one was). */

@@ -106,6 +106,43 @@ function summary(name: EstimatorSummary["name"], e: EstimatorResult): EstimatorS
   };
 }
 
+/** The summary of a point whose diffusion analysis could not run. */
+export function noDiffusion(status: AnalysisStatus, reason: string, seed: string): DiffusionAnalysis {
+  return {
+    status,
+    reason,
+    reasons: [reason],
+    value: null,
+    lower: null,
+    upper: null,
+    window: null,
+    tauC: null,
+    seed,
+    support: null,
+    loss: null,
+    estimators: [],
+    lossLimited: null,
+    warnings: [],
+    replicates: null,
+    jackknife: null,
+    prepared: null,
+    cut: null,
+  };
+}
+
+/** The exponent evidence of an estimator as stored (window mean, interval, range, verdict). */
+function exponentDetail(e: EstimatorResult): Record<string, unknown> {
+  return {
+    value: finiteOrNull(e.exponent.value),
+    lower: e.exponent.interval?.lower ?? null,
+    upper: e.exponent.interval?.upper ?? null,
+    from: e.exponent.from,
+    to: e.exponent.to,
+    pass: e.exponent.pass,
+    reason: e.exponent.reason,
+  };
+}
+
 /** JSON detail of one estimator (curve thinned for the report). */
 function estimatorDetail(e: EstimatorResult, d: number): Record<string, unknown> {
   const ci = pickInterval(e.ci);
@@ -116,13 +153,7 @@ function estimatorDetail(e: EstimatorResult, d: number): Record<string, unknown>
     ...ciDetail(e.ci),
     fit: e.fit,
     exponent: {
-      value: finiteOrNull(e.exponent.value),
-      lower: e.exponent.interval?.lower ?? null,
-      upper: e.exponent.interval?.upper ?? null,
-      from: e.exponent.from,
-      to: e.exponent.to,
-      pass: e.exponent.pass,
-      reason: e.exponent.reason,
+      ...exponentDetail(e),
       local: {
         x: e.exponent.local.x,
         alpha: e.exponent.local.alpha.map(finiteOrNull),
@@ -145,26 +176,7 @@ export function diffusionRows(ctx: PointContext, tracks: StoredTracks | null, pu
   const seed = `${ctx.base}/${ctx.point.pointHash}/diffusion`;
   const none = (status: AnalysisStatus, reason: string): DiffusionAnalysis => {
     push("diffusion", "D", { value: null, detail: { status, reason, reasons: [reason], seed, rule: RULE } });
-    return {
-      status,
-      reason,
-      reasons: [reason],
-      value: null,
-      lower: null,
-      upper: null,
-      window: null,
-      tauC: null,
-      seed,
-      support: null,
-      loss: null,
-      estimators: [],
-      lossLimited: null,
-      warnings: [],
-      replicates: null,
-      jackknife: null,
-      prepared: null,
-      cut: null,
-    };
+    return noDiffusion(status, reason, seed);
   };
   if (ctx.ids.length === 0) return none("not-available", "no done realisation at this point");
   if (tracks === null || tracks.ensemble.t.length < 3) {
@@ -204,15 +216,7 @@ export function diffusionRows(ctx: PointContext, tracks: StoredTracks | null, pu
     const e = ev.estimators[name];
     if (!e) continue;
     est.push(summary(name, e));
-    evidence[name] = {
-      pass: e.exponent.pass,
-      exponent: finiteOrNull(e.exponent.value),
-      lower: e.exponent.interval?.lower ?? null,
-      upper: e.exponent.interval?.upper ?? null,
-      from: e.exponent.from,
-      to: e.exponent.to,
-      reason: e.exponent.reason,
-    };
+    evidence[name] = exponentDetail(e);
   }
   if (ev.radius) {
     const ci = pickInterval(ev.radius.ci);

@@ -86,24 +86,18 @@ export function questionRows(
         detectable: difference.detectable,
         verdict,
       };
-      out.push({
-        pointHash: p.point.pointHash,
-        analysis: "question",
-        name: "difference",
-        value: difference.value,
-        lower: difference.interval?.lower ?? null,
-        upper: difference.interval?.upper ?? null,
-        detail,
-      });
-      out.push({
-        pointHash: p.point.pointHash,
-        analysis: "question",
-        name: "ratio",
-        value: ratio.value,
-        lower: ratio.interval?.lower ?? null,
-        upper: ratio.interval?.upper ?? null,
-        detail: { ...detail, interval: ratio.method, detectable: ratio.detectable },
-      });
+      const row = (name: string, c: Comparison, extra: Record<string, unknown>) =>
+        out.push({
+          pointHash: p.point.pointHash,
+          analysis: "question",
+          name,
+          value: c.value,
+          lower: c.interval?.lower ?? null,
+          upper: c.interval?.upper ?? null,
+          detail: { ...detail, ...extra },
+        });
+      row("difference", difference, {});
+      row("ratio", ratio, { interval: ratio.method, detectable: ratio.detectable });
     }
     const axis = numericAxis(points.map((p) => p.point));
     if (axis !== null && new Set(answered.map((p) => p.point.varied[axis])).size >= 2) {

@@ -2,7 +2,7 @@ import { assert, assertEquals } from "../../test/_assert.ts";
 import type { EnsembleResultInput } from "../../store/ensemble.ts";
 import type { PointRecord } from "../../store/reads.ts";
 import { streamFromSeed } from "../estimators/seed.ts";
-import type { DiffusionAnalysis } from "./diffusion.ts";
+import { type DiffusionAnalysis, noDiffusion } from "./diffusion.ts";
 import { questionRows } from "./question.ts";
 
 function point(index: number, count: number): PointRecord {
@@ -21,25 +21,12 @@ function point(index: number, count: number): PointRecord {
 
 function answer(D: number | null, se: number, seed: string): DiffusionAnalysis {
   const rng = streamFromSeed(seed);
+  if (D === null) return noDiffusion("no-diffusive-regime", "lag exponent 1.4", seed);
   return {
-    status: D === null ? "no-diffusive-regime" : "ok",
-    reason: D === null ? "lag exponent 1.4" : null,
-    reasons: [],
+    ...noDiffusion("ok", "", seed),
+    reason: null,
     value: D,
-    lower: null,
-    upper: null,
-    window: null,
-    tauC: null,
-    seed,
-    support: null,
-    loss: null,
-    estimators: [],
-    lossLimited: null,
-    warnings: [],
-    replicates: D === null ? null : Float64Array.from({ length: 4000 }, () => D + se * rng.normal()),
-    jackknife: null,
-    prepared: null,
-    cut: null,
+    replicates: Float64Array.from({ length: 4000 }, () => D + se * rng.normal()),
   };
 }
 
