@@ -31,6 +31,8 @@ export interface AnalysisSection {
   readonly charts: readonly ChartSpec[];
   /** True when the database holds ensemble results for this study revision. */
   readonly present: boolean;
+  /** The answer in brief for the top of the page (escaped HTML; empty without stored results). */
+  readonly headline: string;
 }
 
 type Detail = Readonly<Record<string, unknown>>;
@@ -65,6 +67,7 @@ export function buildAnalysisSection(
     const cmd = `spindrift analyse ${opts.dbPath ?? "DATABASE"}`;
     return {
       present: false,
+      headline: "",
       charts: [],
       parts: [{
         html: `<p class="note" id="analysis-missing">No ensemble analysis is stored for this study yet, so ` +
@@ -110,7 +113,7 @@ export function buildAnalysisSection(
     { chart: vChart },
     { chart: cChart },
   ];
-  return { present: true, parts, charts };
+  return { present: true, parts, charts, headline: headline(ctx) };
 }
 
 interface Ctx {
@@ -185,6 +188,30 @@ function staleNote(ctx: Ctx): string {
     `<code>spindrift analyse</code> again.</p>`;
 }
 
+/** The answer in brief, for the top of the page: the question's verdict and each point's D or why none. */
+function headline(ctx: Ctx): string {
+  const verdict = ctx.points.map((p) => p.rows.get("question/verdict")).find((r) => r !== undefined);
+  const lines = arr(verdict?.detail.lines).filter((l): l is string => typeof l === "string");
+  const items = ctx.points.map((p) => {
+    const d = p.rows.get("diffusion/D");
+    if (!d) return "";
+    const text = d.value !== null
+      ? `ν′ = D/κ = ${formatNumber(d.value)}${
+        d.lower !== null && d.upper !== null ? ` [${formatNumber(d.lower)}, ${formatNumber(d.upper)}]` : ""
+      } (${pct(ctx.level)} interval)`
+      : `${
+        str(d.detail.status) === "no-diffusive-regime" ? "no diffusive regime" : str(d.detail.status) ?? "—"
+      }${str(d.detail.reason) ? `: ${str(d.detail.reason)}` : ""}`;
+    return `<li data-point="${escapeHtml(p.label)}"><strong>${escapeHtml(p.label)}</strong>: ${
+      escapeHtml(text)
+    }</li>`;
+  }).join("");
+  return `<div class="answer-box" id="answer-headline"><p><strong>Answer</strong> (from <code>spindrift ` +
+    `analyse</code>; the evidence is under <a href="#answers">Answers</a>)</p>${
+      lines.map((l) => `<p class="answer">${escapeHtml(l)}</p>`).join("")
+    }<ul>${items}</ul></div>`;
+}
+
 /** The study's question answered, first (stored `question/verdict` lines, differences and trend). */
 function questionBlock(ctx: Ctx): string {
   const verdict = ctx.points.map((p) => p.rows.get("question/verdict")).find((r) => r !== undefined);
@@ -222,7 +249,7 @@ function questionBlock(ctx: Ctx): string {
         : ""
     } per unit.</p>`
     : "";
-  return `<div id="question"><h3>The question answered</h3>${
+  return `<div id="question-answered"><h3>The question answered</h3>${
     lines.map((l) => `<p class="answer">${escapeHtml(l)}</p>`).join("")
   }${table}${trendText}</div>`;
 }

@@ -72,13 +72,16 @@ export async function writeReport(
     });
     charts = buildCharts(agg, { units }).map(compiled);
     let analysis: PagePart[] | undefined;
+    let headline: string | undefined;
     if (opts.analysis !== false) {
       const section = buildAnalysisSection(agg, readEnsembleResults(db, agg.study.id), { units, dbPath });
       analysis = section.parts.map((p) => ("chart" in p ? { rendered: compiled(p.chart) } : p));
+      headline = section.headline;
     }
     svgCharts = [...charts, ...(analysis ?? []).flatMap((p) => ("rendered" in p ? [p.rendered] : []))];
     page = renderReportHtml({
       analysis,
+      headline,
       agg,
       charts,
       vegaRuntime: await readVegaRuntime(),

@@ -148,6 +148,14 @@ Deno.test("report: the Answers section shows exactly the numbers stored in ensem
       assertEquals(m[2], formatNumber(v!), `${field} ${role}: shown text`);
     }
   }
+  // The answer in brief sits at the top of the page, under the question.
+  const head = /<div class="answer-box" id="answer-headline">[^]*?<\/div>/.exec(page)?.[0] ?? "";
+  const answer = find(rows, "diffusion", "D");
+  assert(head.includes(`D/κ = ${formatNumber(answer.value!)} [${formatNumber(answer.lower!)}`), head);
+  assert(
+    page.indexOf('id="answer-headline"') < page.indexOf('id="parameters"'),
+    "headline before the parameters",
+  );
   for (const name of ["tau_c", "window_start", "window_end", "support", "loss_in_window"]) {
     const v = find(rows, "diffusion", name).value!;
     assert(table.includes(`data-value="${v}">${formatNumber(v)}<`), `${name} = ${v} shown`);
