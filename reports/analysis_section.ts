@@ -33,6 +33,8 @@ export interface AnalysisSection {
   readonly present: boolean;
   /** The answer in brief for the top of the page (escaped HTML; empty without stored results). */
   readonly headline: string;
+  /** Lines for the page's provenance table: when the analysis ran, its seeds, where χ₂ came from. */
+  readonly provenance: readonly (readonly [string, string])[];
 }
 
 type Detail = Readonly<Record<string, unknown>>;
@@ -68,6 +70,7 @@ export function buildAnalysisSection(
     return {
       present: false,
       headline: "",
+      provenance: [],
       charts: [],
       parts: [{
         html: `<p class="note" id="analysis-missing">No ensemble analysis is stored for this study yet, so ` +
@@ -113,7 +116,7 @@ export function buildAnalysisSection(
     { chart: vChart },
     { chart: cChart },
   ];
-  return { present: true, parts, charts, headline: headline(ctx) };
+  return { present: true, parts, charts, headline: headline(ctx), provenance: provenance(ctx) };
 }
 
 interface Ctx {
@@ -186,6 +189,42 @@ function staleNote(ctx: Ctx): string {
     stale.map((p) => escapeHtml(p.label)).join(", ")
   }: it used a different number of done realisations than the database now holds. Run ` +
     `<code>spindrift analyse</code> again.</p>`;
+}
+
+/** Provenance of the stored analysis: when it ran, its seed base and bootstrap size, where χ₂ came from. */
+function provenance(ctx: Ctx): (readonly [string, string])[] {
+  const d = ctx.points.map((p) => p.rows.get("diffusion/D")).find((r) => r !== undefined);
+  const v = ctx.points.map((p) => p.rows.get("vinen/D")).find((r) => r !== undefined);
+  const out: [string, string][] = [];
+  if (d) {
+    out.push(["analysis computed", d.computedAt]);
+    const seed = str(d.detail.seed);
+    if (seed) {
+      out.push([
+        "analysis seeds",
+        `${seed.replace(/\/[^/]+\/diffusion$/, "")}/<point hash>/<analysis>, B = ${
+          num(d.detail.replicates) ?? "—"
+        }`,
+      ]);
+    }
+  }
+  const src = rec(v?.detail.chi2Source);
+  if (src && str(src.kind) === "decay-study") {
+    const ci = arr(src.interval);
+    out.push([
+      "χ₂ of the Vinen fit",
+      `${num(src.chi2)?.toPrecision(4) ?? "—"}${
+        typeof ci[0] === "number" && typeof ci[1] === "number"
+          ? ` [${ci[0].toPrecision(3)}, ${ci[1].toPrecision(3)}]`
+          : ""
+      } from decay study ${str(src.studyName) ?? "?"} (study hash ${str(src.studyHash) ?? "?"}), database ${
+        str(src.path) ?? "?"
+      }, ${num(src.realisations) ?? "?"} realisations, 1/L fitted for t ≥ ${num(src.fromTime) ?? "?"}`,
+    ]);
+  } else if (v) {
+    out.push(["χ₂ of the Vinen fit", str(v.detail.sourceText) ?? "—"]);
+  }
+  return out;
 }
 
 /** The answer in brief, for the top of the page: the question's verdict and each point's D or why none. */

@@ -47,6 +47,8 @@ export interface ReportPageInput {
   readonly analysis?: readonly PagePart[];
   /** The answer in brief (already escaped HTML), shown under the question; omitted → nothing. */
   readonly headline?: string;
+  /** Extra provenance lines of the analysis (e.g. where χ₂ came from), as [label, text]. */
+  readonly analysisProvenance?: readonly (readonly [string, string])[];
 }
 
 /** A block of the page: HTML that is already escaped, or a chart. */
@@ -321,7 +323,7 @@ function failuresTable(agg: StudyAggregate): string {
 
 function provenanceTable(input: ReportPageInput): string {
   const s = input.agg.study;
-  const rows: [string, string][] = [
+  const rows: (readonly [string, string])[] = [
     ["tool version", `spindrift ${s.toolVersion}`],
     ["Deno version", s.denoVersion],
     ["git commit", s.gitCommit ?? "(not recorded)"],
@@ -333,6 +335,7 @@ function provenanceTable(input: ReportPageInput): string {
     ["study file", s.sourcePath ?? "—"],
     ["database", input.dbPath],
     ["report generated", input.generatedAt],
+    ...(input.analysisProvenance ?? []),
   ];
   return `<table class="kv"><tbody>${
     rows.map(([k, v]) =>

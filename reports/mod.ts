@@ -73,15 +73,18 @@ export async function writeReport(
     charts = buildCharts(agg, { units }).map(compiled);
     let analysis: PagePart[] | undefined;
     let headline: string | undefined;
+    let analysisProvenance: readonly (readonly [string, string])[] | undefined;
     if (opts.analysis !== false) {
       const section = buildAnalysisSection(agg, readEnsembleResults(db, agg.study.id), { units, dbPath });
       analysis = section.parts.map((p) => ("chart" in p ? { rendered: compiled(p.chart) } : p));
       headline = section.headline;
+      analysisProvenance = section.provenance;
     }
     svgCharts = [...charts, ...(analysis ?? []).flatMap((p) => ("rendered" in p ? [p.rendered] : []))];
     page = renderReportHtml({
       analysis,
       headline,
+      analysisProvenance,
       agg,
       charts,
       vegaRuntime: await readVegaRuntime(),

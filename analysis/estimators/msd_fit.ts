@@ -1,7 +1,11 @@
 /**
- * Effective diffusion coefficient from an ensemble of mean-square-displacement series, with the
- * ballistic → diffusive crossover, an automatic fitting window, a bootstrap over realisations, a second
- * estimator from the cluster's RMS radius, and a threshold-sensitivity table.
+ * Effective diffusion coefficient from an ensemble of survivor-average mean-square-displacement series alone,
+ * with the ballistic → diffusive crossover, an automatic fitting window, a bootstrap over realisations, a
+ * second estimator from the cluster's RMS radius, and a threshold-sensitivity table.
+ *
+ * This is the estimator for MSD series without tracks (e.g. an imported MSD curve). It cannot see censoring:
+ * a survivor average can grow linearly while no object moves diffusively, which is why `spindrift analyse`
+ * decides with `diffusion.ts` (three estimators from the tracks, all of which must agree).
  *
  * Method (spindrift methods notes §5.1):
  * 1. Ensemble MSD(t_k): the mean over realisations of MSD_i(t_k). With per-realisation object counts n_ik the
