@@ -227,6 +227,7 @@ export async function analysePointAt(
     level: opts.level ?? 0.95,
     capabilities: engine?.capabilities ?? null,
     coreRadius: engine?.scales?.(point.params as never)?.coreRadius,
+    kappa: engine?.scales?.(point.params as never)?.circulation ?? 1,
     classification: setup.classification,
     opts,
     progress: (m) => progress(`[${point.label}] ${m.trim()}`),

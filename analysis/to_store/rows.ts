@@ -35,6 +35,8 @@ export interface PointContext {
   readonly level: number;
   readonly capabilities: EngineCapabilities | null;
   readonly coreRadius: number | undefined;
+  /** The circulation quantum κ in the study's units (1 in dimensionless units). */
+  readonly kappa: number;
   readonly classification: ClassificationConfig | null;
   readonly opts: AnalyseOptions;
   readonly progress: (m: string) => void;

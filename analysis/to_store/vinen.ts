@@ -85,7 +85,8 @@ export function vinenRows(
     const data = read.data;
     const VB = read.used >= 2 ? (ctx.opts.vinenReplicates ?? 200) : 0;
     ctx.progress(`  Vinen fit (χ₂ ${loss.mode}) with ${VB} bootstrap replicates`);
-    const vf = fitVinen(data, { loss, replicates: VB, seed, level: ctx.level });
+    // κ of the study's units enters the loss term χ₂(κ/2π)L² (physical units: κ of ⁴He in m²/s).
+    const vf = fitVinen(data, { loss, replicates: VB, seed, level: ctx.level, kappa: ctx.kappa });
     const ok = vf.status === "ok";
     const dci = pickInterval(vf.ci.D);
     const cci = pickInterval(vf.ci.chi2);
@@ -125,6 +126,7 @@ export function vinenRows(
         priorPull: vf.priorPull,
         convergence: vf.convergence,
         grid: vf.grid,
+        kappa: ctx.kappa,
         window: {
           t1: data.t[0],
           t2: data.t[data.t.length - 1],
