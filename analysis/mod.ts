@@ -22,8 +22,22 @@
  * import { analyseStudy } from "./mod.ts";
  * const summary = await analyseStudy("runs/film-patch.sqlite", { replicates: 2000 });
  * ```
+ *
+ * A pilot or an audit reruns the estimators on subsets of a point's realisations without rereading frames:
+ * ```ts
+ * import { readStoredTracks } from "./mod.ts";
+ * import { diffusionEvidence, prepareTracks } from "./estimators/mod.ts";
+ * const prepared = prepareTracks(readStoredTracks(db, ids, { dimension: 2 }).ensemble);
+ * const a = diffusionEvidence(prepared, { seed: "audit/a", realisations: evenIndices });
+ * const b = diffusionEvidence(prepared, { seed: "audit/b", realisations: oddIndices });
+ * ```
  */
 export * from "./analyse.ts";
 export { AnalysisInputError } from "./errors.ts";
 export { type Chi2Estimate, chi2FromDecayStudy } from "./from_store/decay.ts";
+export { readProfileEnsemble } from "./from_store/profiles.ts";
+export { readStoredTracks, type StoredTracks } from "./from_store/tracks.ts";
+export type { Chi2Source } from "./options.ts";
+export type { DiffusionAnalysis } from "./to_store/diffusion.ts";
+export type { VinenAnalysis } from "./to_store/vinen.ts";
 export type { EvaporationAnalysis } from "./to_store/evaporation.ts";
