@@ -10,12 +10,20 @@
  * if (errors.length > 0) Deno.exitCode = 1;
  * ```
  */
-import { chi2FromDecayStudy } from "../study/_analyse_decay.ts";
-import { analyseStudy, AnalysisInputError, type AnalysisSummary, type Estimate } from "../study/analyse.ts";
-import type { EvaporationAnalysis } from "../study/_analyse_evaporation.ts";
-import type { EvaporationEstimate } from "../reports/analysis/evaporation.ts";
+import {
+  analyseStudy,
+  AnalysisInputError,
+  type AnalysisSummary,
+  chi2FromDecayStudy,
+  type EvaporationAnalysis,
+} from "../analysis/mod.ts";
+import type { Chi2Source } from "../analysis/options.ts";
+import type { VinenLoss } from "../analysis/estimators/vinen_fit.ts";
+import type { VinenAnalysis } from "../analysis/to_store/vinen.ts";
+import type { DiffusionAnalysis } from "../analysis/to_store/diffusion.ts";
+import type { EvaporationEstimate } from "../analysis/estimators/mod.ts";
 import { openStoreReadOnly, readStudy, StoreReadError } from "../store/reads.ts";
-import { diffusionHeading, timeInKappaUnits, type UnitLabels } from "../engines/units.ts";
+import { diffusionHeading, diffusionUnit, timeInKappaUnits, type UnitLabels } from "../engines/units.ts";
 import { StudyStore } from "../store/db.ts";
 import { PartialResultsError } from "../store/ensemble.ts";
 import { writeReport } from "../reports/mod.ts";
@@ -29,11 +37,12 @@ export interface AnalyseCommandOptions {
   readonly chi2?: string;
   /** Database of a homogeneous decay study to estimate χ₂ from (instead of `chi2`). */
   readonly chi2From?: string;
-  readonly chi2Range?: string;
   readonly vinenReplicates?: number;
   readonly sensitivity?: boolean;
   readonly correlations?: boolean;
   readonly study?: number;
+  /** Points analysed in parallel (default: number of cores). */
+  readonly workers?: number;
   /** Progress lines on standard error (default false). */
   readonly verbose?: boolean;
 }
@@ -45,15 +54,6 @@ function parseChi2(v: string | undefined): number | undefined {
     throw new UserError(`--chi2 must be a number ≥ 0, got '${v}'`, "χ₂ comes from a homogeneous decay study");
   }
   return x;
-}
-
-function parseRange(v: string | undefined): [number, number] | undefined {
-  if (v === undefined) return undefined;
-  const parts = v.split(",").map((s) => Number(s.trim()));
-  if (parts.length !== 2 || !parts.every(Number.isFinite) || !(parts[0] >= 0 && parts[1] > parts[0])) {
-    throw new UserError(`--chi2-range must be 'low,high' with 0 ≤ low < high, got '${v}'`);
-  }
-  return [parts[0], parts[1]];
 }
 
 /** Library errors the user can act on, as UserErrors; everything else passes through. */
@@ -77,8 +77,7 @@ export function analysisErrors(s: AnalysisSummary): string[] {
   const out: string[] = [];
   for (const p of s.points) {
     const parts: [string, { status: string; reason: string | null; value?: number | null }][] = [
-      ["MSD fit", p.msd],
-      ["R_rms fit", p.radius],
+      ["diffusion", p.diffusion],
       ["Vinen fit", p.vinen],
       ["sensitivity", p.sensitivity],
       ["correlations", p.correlations],
@@ -106,13 +105,18 @@ export async function analyseCommand(
   if (o.chi2 !== undefined && o.chi2From !== undefined) {
     throw new UserError("give either --chi2 or --chi2-from, not both");
   }
-  let chi2 = parseChi2(o.chi2);
-  let chi2Interval = parseRange(o.chi2Range);
+  const chi2 = parseChi2(o.chi2);
+  let vinenLoss: VinenLoss = chi2 === undefined ? { mode: "free" } : { mode: "fixed", chi2 };
+  let chi2Source: Chi2Source | undefined = chi2 === undefined
+    ? undefined
+    : { kind: "given", note: "given with --chi2" };
   if (o.chi2From !== undefined) {
     try {
       const est = chi2FromDecayStudy(o.chi2From, { seed: o.seed });
-      chi2 = est.chi2;
-      chi2Interval ??= est.interval ? [est.interval[0], est.interval[1]] : undefined;
+      // The decay study's 95 % interval as a Gaussian prior: σ = (upper − lower)/(2 · 1.96).
+      const sigma = est.interval ? (est.interval[1] - est.interval[0]) / (2 * 1.959964) : 0.1 * est.chi2;
+      vinenLoss = { mode: "prior", chi2: est.chi2, sigma };
+      chi2Source = est.provenance;
       head.push(est.source);
     } catch (e) {
       throw userFacing(e, o.chi2From);
@@ -124,9 +128,10 @@ export async function analyseCommand(
       studyId: o.study,
       seed: o.seed,
       replicates: o.replicates,
-      chi2,
-      chi2Interval,
+      vinenLoss,
+      chi2Source,
       vinenReplicates: o.vinenReplicates,
+      workers: o.workers,
       sensitivity: o.sensitivity,
       correlations: o.correlations,
       onProgress: o.verbose ? (m) => console.error(m) : undefined,
@@ -156,22 +161,112 @@ function studyUnits(dbPath: string, studyId: number | undefined): UnitLabels | u
   }
 }
 
-function estimateText(e: Estimate): string {
-  if (e.status === "no-diffusive-regime") return `no diffusive regime: ${e.reason ?? ""}`;
-  if (e.value === null) return `${e.status}${e.reason ? `: ${e.reason}` : ""}`;
-  const ci = e.lower !== null && e.upper !== null
-    ? ` [${formatNumber(e.lower)}, ${formatNumber(e.upper)}]`
-    : " (no interval)";
-  return `${formatNumber(e.value)}${ci}${
-    e.status === "error" && e.reason ? ` (unreliable: ${e.reason})` : ""
-  }`;
+const ESTIMATOR_LABEL: Readonly<Record<string, string>> = {
+  origin: "survivor average from t₀",
+  cohort: "fixed cohort (the answer)",
+  lag: "lag increments D(τ)",
+  radius: "D_R (cohort spread)",
+};
+
+function ciText(lower: number | null, upper: number | null): string {
+  return lower !== null && upper !== null ? ` [${formatNumber(lower)}, ${formatNumber(upper)}]` : "";
 }
 
-/** "; bootstrap: 21 % of replicates without a window (left out)" when some replicates found no regime. */
-function noRegimeText(fraction: number | null): string {
-  return fraction !== null && fraction > 0
-    ? `; bootstrap: ${Math.round(fraction * 100)} % of replicates found no window (left out of the interval)`
-    : "";
+/** The diffusion lines of one point: answer or "no diffusive regime", window, evidence, reasons, losses. */
+function diffusionLines(
+  d: DiffusionAnalysis,
+  pad: string,
+  units: UnitLabels | undefined,
+): { head: string; lines: string[] } {
+  const dLabel = diffusionUnit(units).symbol === "D/κ" ? "D/κ" : "D";
+  const lines: string[] = [];
+  let head: string;
+  if (d.status === "ok" && d.value !== null) {
+    head = `${formatNumber(d.value)}${ciText(d.lower, d.upper) || " (no interval)"}`;
+  } else if (d.status === "no-diffusive-regime") head = "no diffusive regime";
+  else head = `${d.status}${d.reason ? `: ${d.reason}` : ""}`;
+  if (d.window) {
+    lines.push(
+      `${pad}window [${formatNumber(d.window.t1)}, ${formatNumber(d.window.t2)}] (t₁ ≥ 3τ_c, τ_c = ${
+        d.tauC === null ? "—" : formatNumber(d.tauC)
+      }; t₂: ${d.window.end})${
+        d.support !== null
+          ? `; support: ${Math.round(d.support * 100)} % of bootstrap replicates find a window`
+          : ""
+      }`,
+    );
+  } else if (d.status === "no-diffusive-regime" && d.support !== null) {
+    lines.push(`${pad}support: ${Math.round(d.support * 100)} % of bootstrap replicates find a window`);
+  }
+  const ok = d.status === "ok";
+  if (d.estimators.length > 0) {
+    lines.push(
+      `${pad}evidence: exponent over the window (diffusion = 1, accepted [0.85, 1.15])${
+        ok ? `, ${diffusionUnit(units).header}` : ""
+      }`,
+    );
+    for (const e of d.estimators) {
+      const label = ESTIMATOR_LABEL[e.name].padEnd(27);
+      const ex = e.exponent
+        ? `${formatNumber(e.exponent.value)}${ciText(e.exponent.lower, e.exponent.upper)} over ${
+          e.name === "origin" ? "t =" : e.name === "cohort" ? "s = t − t₁ =" : "τ ="
+        } ${formatNumber(e.range!.from)}–${formatNumber(e.range!.to)}${e.pass ? "" : "  ✗"}`
+        : "";
+      const D = ok
+        ? `${e.exponent ? "; " : ""}${dLabel} ${formatNumber(e.D)}${ciText(e.lower, e.upper)}`
+        : "";
+      if (ex || D) lines.push(`${pad}  ${label} ${ex}${D}`);
+    }
+  }
+  if (!ok) { for (const r of d.reasons) lines.push(`${pad}why: ${r}`); }
+  if (d.loss) {
+    lines.push(
+      `${pad}losses: ${
+        formatNumber(100 * d.loss.inWindow)
+      } % of the objects in the main cluster at t₁ are gone ` +
+        `from it by t₂; the cohort keeps ${
+          formatNumber(100 * d.loss.cohortShare)
+        } % (${d.loss.cohortObjects} objects)`,
+    );
+  }
+  if (d.lossLimited) {
+    const e = d.lossLimited.estimator;
+    lines.push(
+      `${pad}loss-limited: the main cluster halves by t = ${
+        formatNumber(d.lossLimited.lossAt)
+      }; lag increments ` +
+        `over [${formatNumber(d.lossLimited.t1)}, ${formatNumber(d.lossLimited.tEnd)}] have exponent ${
+          formatNumber(e.exponent!.value)
+        }${ciText(e.exponent!.lower, e.exponent!.upper)}${
+          e.pass
+            ? `: ${dLabel} ${formatNumber(e.D)}${ciText(e.lower, e.upper)} (short lags, objects at both ends)`
+            : " ✗"
+        }`,
+    );
+  }
+  for (const w of d.warnings) lines.push(`${pad}warning: ${w}`);
+  return { head, lines };
+}
+
+/** The Vinen-fit lines of one point: D and χ₂ with intervals and the goodness of fit, or why there is no D. */
+function vinenLines(v: VinenAnalysis, pad: string, units: UnitLabels | undefined): string[] {
+  if (v.status === "not-available") return [`${pad}Vinen fit: not available: ${v.reason}`];
+  if (v.status === "error" && v.reducedChi2 === null) return [`${pad}Vinen fit: failed: ${v.reason}`];
+  const fit = `reduced χ² = ${v.reducedChi2 === null ? "—" : formatNumber(v.reducedChi2)}, χ₂ ${
+    v.mode === "fixed" ? "fixed at" : v.mode === "prior" ? "(decay prior)" : "(free)"
+  } ${v.chi2 === null ? "—" : formatNumber(v.chi2)}${
+    v.mode === "fixed" ? "" : ciText(v.chi2Lower, v.chi2Upper)
+  }`;
+  const head = v.status === "ok"
+    ? `${pad}Vinen fit: ${diffusionHeading(units, "D", "Vinen")} ${formatNumber(v.value!)}${
+      ciText(v.lower, v.upper)
+    }; ${fit}`
+    : `${pad}Vinen fit: rejected, no D: ${v.reason}; χ₂ ${
+      v.mode === "fixed" ? "fixed at" : v.mode === "prior" ? "(decay prior)" : "(free)"
+    } ${v.chi2 === null ? "—" : formatNumber(v.chi2)}${
+      v.mode === "fixed" ? "" : ciText(v.chi2Lower, v.chi2Upper)
+    }`;
+  return [head, ...v.notes.map((n) => `${pad}  ${n}`)];
 }
 
 /** "value [lower, upper]" of an evaporation estimate, or "—". */
@@ -202,37 +297,31 @@ function evaporationText(e: EvaporationAnalysis, units?: UnitLabels): string | n
 }
 
 /**
- * The printed summary: per point D (MSD) with its interval or the reason, D_R and the Vinen D, labelled D/κ in κ
- * units and with their unit (m²/s) in physical units.
+ * The printed summary: the question's answer, then per point D or "no diffusive regime" with the evidence; D is
+ * labelled D/κ in κ units and with its unit (m²/s) in physical units.
  */
 export function formatSummary(s: AnalysisSummary, dbPath: string, units?: UnitLabels): string[] {
-  const label = (symbol: string, how: string) => diffusionHeading(units, symbol, how);
   const lines = [
     `study ${s.studyName} (revision #${s.studyId}), ${s.dimension}D; bootstrap B = ${s.replicates}, ` +
     `seed base ${s.seedBase.length > 24 ? `${s.seedBase.slice(0, 16)}…` : s.seedBase}`,
   ];
+  for (const q of s.question) lines.push(q);
   const w = Math.max(5, ...s.points.map((p) => p.label.length));
-  lines.push(`  ${"point".padEnd(w)}  ${"n".padStart(3)}  ${label("D", "MSD")} [95% CI]`);
+  lines.push(
+    `  ${"point".padEnd(w)}  ${"n".padStart(3)}  ${
+      diffusionUnit(units).header
+    } [95% CI] (fixed cohort; only where the evidence shows diffusion)`,
+  );
   for (const p of s.points) {
-    lines.push(`  ${p.label.padEnd(w)}  ${String(p.realisations).padStart(3)}  ${estimateText(p.msd)}`);
-    const pad = " ".repeat(w + 7);
-    if (p.msd.window) {
-      lines.push(
-        `${pad}window [${formatNumber(p.msd.window.t1)}, ${formatNumber(p.msd.window.t2)}], τ_c = ${
-          p.msd.tauC === null ? "—" : formatNumber(p.msd.tauC)
-        }${noRegimeText(p.msd.noRegimeFraction)}`,
-      );
-    }
-    for (const w of p.msd.warnings) lines.push(`${pad}warning: ${w}`);
-    if (p.radius.value !== null) lines.push(`${pad}${label("D_R", "R_rms")}: ${estimateText(p.radius)}`);
-    if (p.vinen.status !== "not-available") {
-      lines.push(`${pad}${label("D", "Vinen")}: ${estimateText(p.vinen)}`);
-    }
+    const pad = " ".repeat(w + 9);
+    const d = diffusionLines(p.diffusion, pad, units);
+    lines.push(`  ${p.label.padEnd(w)}  ${String(p.realisations).padStart(3)}  ${d.head}`);
+    lines.push(...d.lines);
+    lines.push(...vinenLines(p.vinen, pad, units));
     const ev = evaporationText(p.evaporation, units);
     if (ev) lines.push(`${pad}${ev}`);
   }
-  const vinenMissing = s.points.find((p) => p.vinen.status === "not-available");
-  if (vinenMissing?.vinen.reason) lines.push(`Vinen fit: ${vinenMissing.vinen.reason}`);
+  if (s.chi2Source) lines.push(`Vinen fit: ${s.chi2Source}`);
   lines.push(`${s.rowsWritten} rows stored in ensemble_results of ${dbPath}`);
   lines.push(`next: spindrift report ${dbPath}`);
   return lines;

@@ -422,24 +422,33 @@ Typical session:
 
   program.command("analyse")
     .description(
-      "estimate ν′ = D/κ (mean-square displacement, RMS radius, Vinen-equation fit) and the evaporation and " +
-        "losses with bootstrap intervals from a study database, and store the results in it",
+      "estimate ν′ = D/κ with bootstrap intervals where the evidence shows a diffusive regime (survivor " +
+        "average, fixed cohort and lag increments must agree; otherwise 'no diffusive regime' with the " +
+        "reasons), compare the parameter points, fit the Vinen equation with its loss term, measure " +
+        "evaporation and losses, and store everything in the database",
     )
     .argument("<database>", "study database written by 'spindrift run'")
     .addOption(
-      new Option("-B, --replicates <n>", "bootstrap replicates of the MSD fit (default 2000)")
+      new Option("-B, --replicates <n>", "bootstrap replicates of the diffusion estimators (default 2000)")
         .argParser(replicateCount("--replicates")),
     )
     .option("--seed <text>", "base of the bootstrap seeds (default: the study hash, so reruns agree)")
-    .option("--chi2 <x>", "χ₂ of the Vinen equation, from a homogeneous decay study (enables the Vinen fit)")
     .option(
       "--chi2-from <database>",
-      "estimate χ₂ from a homogeneous decay study (periodic box; 1/L linear in t) and use it with its interval",
+      "estimate χ₂ from a homogeneous decay study (periodic box; 1/L linear in t) and use it, with its " +
+        "interval, as a prior of the Vinen fit's loss term (default: χ₂ fitted freely with D)",
     )
-    .option("--chi2-range <low,high>", "χ₂ range for the sensitivity of the Vinen D (default χ₂/2,2χ₂)")
+    .option(
+      "--chi2 <x>",
+      "fix χ₂ of the Vinen equation at x (a hypothesis: the fit is rejected if it does not fit)",
+    )
     .addOption(
       new Option("--vinen-replicates <n>", "bootstrap replicates of the Vinen fit (default 200)")
         .argParser(replicateCount("--vinen-replicates")),
+    )
+    .addOption(
+      new Option("-w, --workers <n>", "parameter points analysed in parallel (default: number of cores)")
+        .argParser(positiveInt("--workers")),
     )
     .option("--no-sensitivity", "skip the classification-threshold sensitivity table")
     .option("--no-correlations", "skip the velocity correlations")

@@ -1,10 +1,11 @@
 /**
  * The report's "Answers" section, built from the stored ensemble results (`ensemble_results`, written by
- * `spindrift analyse`): D/κ with its interval per parameter point (table) and versus the swept parameter
- * (chart with error bars), the three estimates side by side (MSD, RMS radius, Vinen fit), the MSD on log–log
- * axes with ballistic (∝ t²) and diffusive (∝ t) guide lines and the fit window, the local slope α(t), the
- * threshold-sensitivity table, the Vinen fit against the measured profiles, the χ₂ sensitivity and the
- * velocity correlations.
+ * `spindrift analyse`): first the study's question answered (differences and trend of D between points), then
+ * per point the answer D/κ with its interval or "no diffusive regime" with the reasons, the three estimators'
+ * exponent evidence and values side by side, D versus the swept parameter, the MSD on log–log axes with guide
+ * lines and the window, the local slope α(t), the lag estimator's D(τ), the threshold-sensitivity table, the
+ * Vinen fit against the measured profiles with its goodness of fit and where χ₂ came from, and the velocity
+ * correlations.
  *
  * Every number shown comes from a stored row: table cells carry the stored value in `data-value` (full
  * precision) and show it with `formatNumber`, so a test can compare the page with the database.
@@ -20,7 +21,7 @@ import type { EnsembleResult } from "../store/ensemble.ts";
 import type { StudyAggregate } from "./aggregate.ts";
 import { escapeHtml, formatNumber } from "./html.ts";
 import { type ChartOptions, type ChartSpec, CONFIG, DECADE_LABELS, estimateLayers, SCHEMA } from "./specs.ts";
-import { diffusionHeading, diffusionUnit } from "../engines/units.ts";
+import { diffusionUnit } from "../engines/units.ts";
 
 /** A piece of the section: HTML (already escaped) or a chart. */
 export type AnalysisPart = { readonly html: string } | { readonly chart: ChartSpec };
@@ -31,6 +32,10 @@ export interface AnalysisSection {
   readonly charts: readonly ChartSpec[];
   /** True when the database holds ensemble results for this study revision. */
   readonly present: boolean;
+  /** The answer in brief for the top of the page (escaped HTML; empty without stored results). */
+  readonly headline: string;
+  /** Lines for the page's provenance table: when the analysis ran, its seeds, where χ₂ came from. */
+  readonly provenance: readonly (readonly [string, string])[];
 }
 
 type Detail = Readonly<Record<string, unknown>>;
@@ -45,8 +50,10 @@ interface PointRows {
 }
 
 const ESTIMATORS = [
-  { analysis: "msd-fit", name: "D", label: "MSD fit (D)" },
-  { analysis: "rms-fit", name: "D_R", label: "RMS-radius growth (D_R)" },
+  { analysis: "diffusion", name: "D", label: "answer (fixed cohort)" },
+  { analysis: "diffusion", name: "D_origin", label: "survivor average from t₀" },
+  { analysis: "diffusion", name: "D_lag", label: "lag increments" },
+  { analysis: "diffusion", name: "D_R", label: "cohort spread (D_R)" },
   { analysis: "vinen", name: "D", label: "Vinen-equation fit" },
 ] as const;
 
@@ -63,6 +70,8 @@ export function buildAnalysisSection(
     const cmd = `spindrift analyse ${opts.dbPath ?? "DATABASE"}`;
     return {
       present: false,
+      headline: "",
+      provenance: [],
       charts: [],
       parts: [{
         html: `<p class="note" id="analysis-missing">No ensemble analysis is stored for this study yet, so ` +
@@ -91,22 +100,24 @@ export function buildAnalysisSection(
     dVsParameterChart(ctx),
     msdFitChart(ctx),
     localSlopeChart(ctx),
+    lagChart(ctx),
     vinenChart(ctx),
     corrChart(ctx),
   ];
-  const [dChart, msdChart, slopeChart, vChart, cChart] = charts;
+  const [dChart, msdChart, slopeChart, tauChart, vChart, cChart] = charts;
   const parts: AnalysisPart[] = [
-    { html: staleNote(ctx) + intro(ctx) + diffusionTable(ctx) },
+    { html: staleNote(ctx) + questionBlock(ctx) + intro(ctx) + diffusionTable(ctx) + evidenceTable(ctx) },
     { chart: dChart },
     { chart: msdChart },
     { chart: slopeChart },
+    { chart: tauChart },
     { html: sensitivityTable(ctx) },
     { html: evaporationTable(ctx) },
+    { html: vinenTable(ctx) },
     { chart: vChart },
-    { html: chi2Table(ctx) },
     { chart: cChart },
   ];
-  return { present: true, parts, charts };
+  return { present: true, parts, charts, headline: headline(ctx), provenance: provenance(ctx) };
 }
 
 interface Ctx {
@@ -118,7 +129,7 @@ interface Ctx {
 
 function levelOf(points: readonly PointRows[]): number {
   for (const p of points) {
-    const l = p.rows.get("msd-fit/D")?.detail.level;
+    const l = p.rows.get("diffusion/D")?.detail.level;
     if (typeof l === "number") return l;
   }
   return 0.95;
@@ -171,7 +182,7 @@ function estimateCell(r: EnsembleResult | undefined, field: string): string {
 
 function staleNote(ctx: Ctx): string {
   const stale = ctx.points.filter((p) => {
-    const n = num(p.rows.get("msd-fit/D")?.detail.realisations);
+    const n = num(p.rows.get("diffusion/D")?.detail.realisations);
     return n !== null && n !== p.done;
   });
   if (stale.length === 0) return "";
@@ -181,23 +192,126 @@ function staleNote(ctx: Ctx): string {
     `<code>spindrift analyse</code> again.</p>`;
 }
 
+/** Provenance of the stored analysis: when it ran, its seed base and bootstrap size, where χ₂ came from. */
+function provenance(ctx: Ctx): (readonly [string, string])[] {
+  const d = ctx.points.map((p) => p.rows.get("diffusion/D")).find((r) => r !== undefined);
+  const v = ctx.points.map((p) => p.rows.get("vinen/D")).find((r) => r !== undefined);
+  const out: [string, string][] = [];
+  if (d) {
+    out.push(["analysis computed", d.computedAt]);
+    const seed = str(d.detail.seed);
+    if (seed) {
+      out.push([
+        "analysis seeds",
+        `${seed.replace(/\/[^/]+\/diffusion$/, "")}/<point hash>/<analysis>, B = ${
+          num(d.detail.replicates) ?? "—"
+        }`,
+      ]);
+    }
+  }
+  const src = rec(v?.detail.chi2Source);
+  if (src && str(src.kind) === "decay-study") {
+    const ci = arr(src.interval);
+    out.push([
+      "χ₂ of the Vinen fit",
+      `${num(src.chi2)?.toPrecision(4) ?? "—"}${
+        typeof ci[0] === "number" && typeof ci[1] === "number"
+          ? ` [${ci[0].toPrecision(3)}, ${ci[1].toPrecision(3)}]`
+          : ""
+      } from decay study ${str(src.studyName) ?? "?"} (study hash ${str(src.studyHash) ?? "?"}), database ${
+        str(src.path) ?? "?"
+      }, ${num(src.realisations) ?? "?"} realisations, 1/L fitted for t ≥ ${num(src.fromTime) ?? "?"}`,
+    ]);
+  } else if (v) {
+    out.push(["χ₂ of the Vinen fit", str(v.detail.sourceText) ?? "—"]);
+  }
+  return out;
+}
+
+/** The answer in brief, for the top of the page: the question's verdict and each point's D or why none. */
+function headline(ctx: Ctx): string {
+  const verdict = ctx.points.map((p) => p.rows.get("question/verdict")).find((r) => r !== undefined);
+  const lines = arr(verdict?.detail.lines).filter((l): l is string => typeof l === "string");
+  const items = ctx.points.map((p) => {
+    const d = p.rows.get("diffusion/D");
+    if (!d) return "";
+    const text = d.value !== null
+      ? `ν′ = D/κ = ${formatNumber(d.value)}${
+        d.lower !== null && d.upper !== null ? ` [${formatNumber(d.lower)}, ${formatNumber(d.upper)}]` : ""
+      } (${pct(ctx.level)} interval)`
+      : `${
+        str(d.detail.status) === "no-diffusive-regime" ? "no diffusive regime" : str(d.detail.status) ?? "—"
+      }${str(d.detail.reason) ? `: ${str(d.detail.reason)}` : ""}`;
+    return `<li data-point="${escapeHtml(p.label)}"><strong>${escapeHtml(p.label)}</strong>: ${
+      escapeHtml(text)
+    }</li>`;
+  }).join("");
+  return `<div class="answer-box" id="answer-headline"><p><strong>Answer</strong> (from <code>spindrift ` +
+    `analyse</code>; the evidence is under <a href="#answers">Answers</a>)</p>${
+      lines.map((l) => `<p class="answer">${escapeHtml(l)}</p>`).join("")
+    }<ul>${items}</ul></div>`;
+}
+
+/** The study's question answered, first (stored `question/verdict` lines, differences and trend). */
+function questionBlock(ctx: Ctx): string {
+  const verdict = ctx.points.map((p) => p.rows.get("question/verdict")).find((r) => r !== undefined);
+  if (!verdict) return "";
+  const lines = arr(verdict.detail.lines).filter((l): l is string => typeof l === "string");
+  const diffs = ctx.points.filter((p) => p.rows.has("question/difference"));
+  const trend = ctx.points.map((p) => p.rows.get("question/trend_slope")).find((r) => r !== undefined);
+  let table = "";
+  if (diffs.length > 0) {
+    const head = `<tr><th>point</th><th>D − D(base) [${
+      pct(ctx.level)
+    } CI]</th><th>D / D(base) [CI]</th></tr>`;
+    const body = diffs.map((p) =>
+      `<tr data-point="${escapeHtml(p.label)}"><td>${escapeHtml(p.label)}</td>` +
+      estimateCell(p.rows.get("question/difference"), "difference") +
+      estimateCell(p.rows.get("question/ratio"), "ratio") + `</tr>`
+    ).join("");
+    const base = str(rec(diffs[0].rows.get("question/difference")?.detail.base)?.label);
+    table =
+      `<p class="note">Base: ${
+        escapeHtml(base ?? "the first point")
+      }. Intervals: bootstrap of each point's ` +
+      `realisations separately (the points are independent), window fixed as for the point's own interval.</p>` +
+      `<div class="scroll"><table class="analysis" id="question-table"><thead>${head}</thead><tbody>${body}` +
+      `</tbody></table></div>`;
+  }
+  const trendText = trend
+    ? `<p class="note" id="question-trend">Trend: weighted least squares of D against ${
+      escapeHtml(str(trend.detail.parameter) ?? "the swept parameter")
+    } (weights 1/se²), slope <span data-role="value" data-value="${String(trend.value)}">${
+      escapeHtml(formatNumber(trend.value ?? Number.NaN))
+    }</span>${
+      trend.lower !== null && trend.upper !== null
+        ? ` [${formatNumber(trend.lower)}, ${formatNumber(trend.upper)}]`
+        : ""
+    } per unit.</p>`
+    : "";
+  return `<div id="question-answered"><h3>The question answered</h3>${
+    lines.map((l) => `<p class="answer">${escapeHtml(l)}</p>`).join("")
+  }${table}${trendText}</div>`;
+}
+
 function intro(ctx: Ctx): string {
-  const first = ctx.points.find((p) => p.rows.has("msd-fit/D"))?.rows.get("msd-fit/D");
+  const first = ctx.points.find((p) => p.rows.has("diffusion/D"))?.rows.get("diffusion/D");
   const d = first?.detail ?? {};
   const B = num(d.replicates);
   const computed = first?.computedAt ?? "";
   const units = ctx.opts.units;
-  return `<p class="note">Three estimates of the effective diffusion coefficient ν′ of the main cluster: ` +
-    `D from the mean-square displacement MSD = 2dDt + b over an automatically chosen ` +
-    `window (crossover τ_c = first t with local slope α &lt; 1.2; window from 3τ_c while α stays in ` +
-    `[0.85, 1.15], t₂/t₁ ≥ 5, main cluster ≥ 50 % of its size at t₁), ${
+  const rule = str(d.rule);
+  return `<p class="note">D/κ (ν′) of the main cluster from three estimators of the mean-square displacement, ` +
+    `each from pairwise relative displacements (the cluster's drift cancels; no (1 − 1/N) bias): the survivor ` +
+    `average from t₀, a fixed cohort (objects in the main cluster throughout the window, displacements from ` +
+    `t₁) and lag increments from many start times, D(τ) = MSD(τ)/(2dτ). The answer is the cohort's D, given ` +
+    `only when the evidence agrees: ${escapeHtml(rule ?? "")}. ${
       pct(ctx.level)
     } intervals by bootstrap over ` +
     `realisations${
       B !== null ? ` (B = ${B})` : ""
-    }, seeds recorded per point. D_R from the growth of R²_rms ` +
-    `over the same window; the Vinen-equation fit uses the radial profiles and a given χ₂. D is in ` +
-    `length²/time of the study's units${
+    } with the window fixed; the window's support (share of replicates that find one) is shown beside it. ` +
+    `D is in length²/time of the study's units${
       units ? ` (${escapeHtml(units.length)}²/(${escapeHtml(units.time)}))` : ""
     }, ${
       diffusionUnit(units).unit === null
@@ -206,40 +320,47 @@ function intro(ctx: Ctx): string {
     }. Computed ${escapeHtml(computed)}.</p>`;
 }
 
-/** Share of bootstrap replicates in which the window rule found no diffusive regime (left out of the CI). */
-function noRegimeNote(fraction: number | null): string {
-  return fraction !== null && fraction > 0
-    ? `<br><span class="no-regime">${Math.round(fraction * 100)} % of replicates without a window</span>`
-    : "";
-}
-
 /** The fit's advice (few realisations, a marginal regime), one line each. */
 function warningNotes(warnings: unknown): string {
   return arr(warnings).filter((w): w is string => typeof w === "string")
     .map((w) => `<br><span class="fit-warning">warning: ${escapeHtml(w)}</span>`).join("");
 }
 
+/** The answer cell: the value with its interval, or "no diffusive regime" with every reason. */
+function answerCell(r: EnsembleResult | undefined): string {
+  if (r === undefined || r.value !== null) return estimateCell(r, "diffusion-D");
+  const status = str(r.detail.status) ?? "not available";
+  const reasons = arr(r.detail.reasons).filter((x): x is string => typeof x === "string");
+  const text = status === "no-diffusive-regime" ? "no diffusive regime" : status;
+  return `<td class="status" data-field="diffusion-D" data-status="${
+    escapeHtml(status)
+  }"><span class="warn">${escapeHtml(text)}</span>${
+    reasons.map((x) => `<br><span class="note reason">${escapeHtml(x)}</span>`).join("")
+  }</td>`;
+}
+
 function diffusionTable(ctx: Ctx): string {
-  const head = `<tr><th>point</th><th class="num">n</th>` +
-    `<th>${escapeHtml(diffusionHeading(ctx.opts.units, "D", "MSD"))} [${pct(ctx.level)} CI]</th>` +
-    `<th>${escapeHtml(diffusionHeading(ctx.opts.units, "D_R", "R_rms"))} [CI]</th>` +
-    `<th>${escapeHtml(diffusionHeading(ctx.opts.units, "D", "Vinen"))} [CI]</th><th class="num">τ_c</th>` +
-    `<th class="num">window t₁</th><th class="num">window t₂</th><th>interval, seed</th></tr>`;
+  const head =
+    `<tr><th>point</th><th class="num">n</th><th>${
+      escapeHtml(diffusionUnit(ctx.opts.units).header)
+    }, the answer [${pct(ctx.level)} CI]</th>` +
+    `<th class="num">τ_c</th><th class="num">window t₁</th><th class="num">window t₂</th>` +
+    `<th class="num">support</th><th class="num">loss in window</th><th>interval, seed</th></tr>`;
   const body = ctx.points.map((p) => {
-    const d = p.rows.get("msd-fit/D");
+    const d = p.rows.get("diffusion/D");
     const det = d?.detail ?? {};
     const seed = str(det.seed);
     const method = str(det.interval);
     return `<tr data-point="${escapeHtml(p.label)}"><td>${escapeHtml(p.label)}</td>` +
-      `${numCell(num(det.realisations))}` +
-      estimateCell(d, "msd-D") + estimateCell(p.rows.get("rms-fit/D_R"), "rms-D") +
-      estimateCell(p.rows.get("vinen/D"), "vinen-D") +
-      numCell(p.rows.get("msd-fit/tau_c")?.value ?? null) +
-      numCell(p.rows.get("msd-fit/window_start")?.value ?? null) +
-      numCell(p.rows.get("msd-fit/window_end")?.value ?? null) +
+      `${numCell(num(det.realisations))}` + answerCell(d) +
+      numCell(p.rows.get("diffusion/tau_c")?.value ?? null) +
+      numCell(p.rows.get("diffusion/window_start")?.value ?? null) +
+      numCell(p.rows.get("diffusion/window_end")?.value ?? null) +
+      numCell(p.rows.get("diffusion/support")?.value ?? null) +
+      numCell(p.rows.get("diffusion/loss_in_window")?.value ?? null) +
       `<td class="note">${escapeHtml(method ?? "—")}${
         num(det.replicates) ? `, B = ${num(det.replicates)}` : ""
-      }${noRegimeNote(num(det.noRegimeFraction))}${warningNotes(det.warnings)}${
+      }${warningNotes(det.warnings)}${
         seed
           ? `<br><code class="seed" title="${escapeHtml(seed)}" data-seed="${escapeHtml(seed)}">${
             escapeHtml(seed.length > 20 ? `${seed.slice(0, 8)}…${seed.slice(-12)}` : seed)
@@ -249,6 +370,50 @@ function diffusionTable(ctx: Ctx): string {
   }).join("");
   return `<div class="scroll"><table class="analysis" id="diffusion-table"><thead>${head}</thead><tbody>${body}` +
     `</tbody></table></div>`;
+}
+
+const EVIDENCE = [
+  { name: "D_origin", label: "survivor average from t₀", x: "t" },
+  { name: "D_cohort", label: "fixed cohort", x: "s = t − t₁" },
+  { name: "D_lag", label: "lag increments", x: "τ" },
+] as const;
+
+/** Per point and estimator: the window-mean exponent with its interval, pass/fail, and the fitted D. */
+function evidenceTable(ctx: Ctx): string {
+  const head = `<tr><th>point</th><th>estimator</th><th>exponent over its range [${pct(ctx.level)} CI]</th>` +
+    `<th>range</th><th>verdict</th><th>D/κ [CI]</th></tr>`;
+  const body = ctx.points.flatMap((p) =>
+    EVIDENCE.map((e) => {
+      const r = p.rows.get(`diffusion/${e.name}`);
+      const ex = rec(r?.detail.exponent);
+      if (!r || !ex) return "";
+      const v = num(ex.value), lo = num(ex.lower), hi = num(ex.upper);
+      const pass = ex.pass === true;
+      const fitted = rec(r.detail.fitted);
+      const dCell = r.value !== null
+        ? estimateCell(r, `evidence-${e.name}`)
+        : `<td class="note">slope ${
+          formatNumber(num(fitted?.D) ?? Number.NaN)
+        } (not a diffusion coefficient)</td>`;
+      return `<tr data-point="${escapeHtml(p.label)}" data-estimator="${e.name}"><td>${
+        escapeHtml(p.label)
+      }</td>` +
+        `<td>${escapeHtml(e.label)}</td><td data-value="${v ?? ""}">${
+          v === null ? "—" : escapeHtml(formatNumber(v))
+        }${lo !== null && hi !== null ? ` [${formatNumber(lo)}, ${formatNumber(hi)}]` : ""}</td>` +
+        `<td>${escapeHtml(e.x)} = ${formatNumber(num(ex.from) ?? Number.NaN)}–${
+          formatNumber(num(ex.to) ?? Number.NaN)
+        }</td><td class="${pass ? "" : "warn"}">${
+          pass ? "consistent with diffusion" : escapeHtml(str(ex.reason) ?? "fails")
+        }</td>${dCell}</tr>`;
+    })
+  ).join("");
+  if (body === "") return "";
+  return `<h3>Evidence for a diffusive regime</h3><p class="note">Diffusion has exponent 1 for every estimator; ` +
+    `accepted [0.85, 1.15] for the window mean, and at each point of the log grid the bootstrap interval of the ` +
+    `local exponent must reach into that band. Where the regime is not declared, the fitted slopes are shown ` +
+    `for reference only.</p><div class="scroll"><table class="analysis" id="evidence-table"><thead>${head}` +
+    `</thead><tbody>${body}</tbody></table></div>`;
 }
 
 function sensitivityTable(ctx: Ctx): string {
@@ -320,25 +485,47 @@ function evaporationTable(ctx: Ctx): string {
     `</tbody></table></div>`;
 }
 
-function chi2Table(ctx: Ctx): string {
-  const withV = ctx.points.filter((p) => p.rows.get("vinen/D")?.value !== null && p.rows.has("vinen/D"));
-  if (withV.length === 0) return "";
-  const head =
-    `<tr><th>point</th><th class="num">χ₂</th><th class="num">χ₂ low</th><th class="num">D(χ₂ low)</th>` +
-    `<th class="num">D(χ₂)</th><th class="num">χ₂ high</th><th class="num">D(χ₂ high)</th><th class="num">∂D/∂χ₂</th></tr>`;
+function vinenTable(ctx: Ctx): string {
+  const withV = ctx.points.filter((p) => p.rows.has("vinen/chi2"));
+  const any = ctx.points.map((p) => p.rows.get("vinen/D")).find((r) => r !== undefined);
+  const source = str(any?.detail.sourceText);
+  const title = `<h3 id="vinen-title">Vinen-equation fit</h3>`;
+  const sourceNote = source ? `<p class="note" id="chi2-source">${escapeHtml(source)}.</p>` : "";
+  if (withV.length === 0) {
+    const reason = str(any?.detail.reason);
+    return title + sourceNote + (reason ? `<p class="note">No Vinen fit: ${escapeHtml(reason)}.</p>` : "");
+  }
+  const head = `<tr><th>point</th><th>D/κ [${pct(ctx.level)} CI]</th><th>χ₂ [CI]</th>` +
+    `<th class="num">reduced χ²</th><th class="num">terms</th><th>loss: observed [CI] / model</th><th>notes</th></tr>`;
   const body = withV.map((p) => {
-    const low = p.rows.get("vinen/D_chi2_low");
-    const high = p.rows.get("vinen/D_chi2_high");
+    const d = p.rows.get("vinen/D");
+    const lossObs = p.rows.get("vinen/loss_observed");
+    const lossModel = p.rows.get("vinen/loss_model");
+    const reasons = arr(d?.detail.reasons).concat(arr(d?.detail.warnings))
+      .filter((x): x is string => typeof x === "string");
     return `<tr data-point="${escapeHtml(p.label)}"><td>${escapeHtml(p.label)}</td>` +
-      numCell(p.rows.get("vinen/chi2")?.value ?? null) + numCell(num(low?.detail.chi2)) +
-      numCell(low?.value ?? null) + numCell(p.rows.get("vinen/D")?.value ?? null) +
-      numCell(num(high?.detail.chi2)) + numCell(high?.value ?? null) +
-      numCell(p.rows.get("vinen/dD_dchi2")?.value ?? null) + `</tr>`;
+      (d && d.value === null
+        ? `<td class="status" data-field="vinen-D" data-status="${escapeHtml(str(d.detail.status) ?? "")}">` +
+          `<span class="warn">${
+            escapeHtml(str(d.detail.status) === "rejected" ? "rejected: no D" : str(d.detail.status) ?? "—")
+          }` +
+          `</span></td>`
+        : estimateCell(d, "vinen-D")) +
+      estimateCell(p.rows.get("vinen/chi2"), "vinen-chi2") +
+      numCell(p.rows.get("vinen/reduced_chi2")?.value ?? null) + numCell(num(d?.detail.terms)) +
+      `<td>${lossObs?.value !== null && lossObs ? escapeHtml(formatNumber(lossObs.value!)) : "—"}${
+        lossObs && lossObs.lower !== null && lossObs.upper !== null
+          ? ` [${formatNumber(lossObs.lower)}, ${formatNumber(lossObs.upper)}]`
+          : ""
+      } / ${lossModel?.value !== null && lossModel ? escapeHtml(formatNumber(lossModel.value!)) : "—"}</td>` +
+      `<td class="note">${reasons.map((x) => escapeHtml(x)).join("<br>")}</td></tr>`;
   }).join("");
-  return `<h3>Sensitivity of the Vinen D to χ₂</h3><p class="note">D is refitted with χ₂ at the ends of the ` +
-    `given range (default [χ₂/2, 2χ₂]); D and χ₂ are strongly correlated, which is why χ₂ is fixed from a ` +
-    `separate homogeneous decay study.</p><div class="scroll"><table class="analysis" id="chi2-table"><thead>` +
-    `${head}</thead><tbody>${body}</tbody></table></div>`;
+  return title + sourceNote +
+    `<p class="note">∂L/∂t = D∇²L − χ₂(κ/2π)L² fitted to the radial profiles (D and χ₂ together; χ₂ fixed ` +
+    `only when given with --chi2), quasi-Poisson weights from the model; a fit with reduced χ² above 2 is ` +
+    `rejected and gives no D. The loss is the fraction of the profiles' content gone over the fitted times.</p>` +
+    `<div class="scroll"><table class="analysis" id="vinen-table"><thead>${head}</thead><tbody>${body}` +
+    `</tbody></table></div>`;
 }
 
 // --- charts --------------------------------------------------------------------------------------------------
@@ -444,10 +631,10 @@ function msdFitChart(ctx: Ctx): ChartSpec {
   const windows: Record<string, unknown>[] = [];
   const fits: Record<string, unknown>[] = [];
   for (const p of ctx.points) {
-    const r = p.rows.get("msd-fit/D");
-    const s = rec(r?.detail.series);
+    const r = p.rows.get("diffusion/D");
+    const s = rec(rec(r?.detail.origin)?.curve);
     if (!r || !s) continue;
-    const t = arr(s.t), m = arr(s.msd);
+    const t = arr(s.x), m = arr(s.msd);
     let tMin = Infinity, tMax = 0;
     t.forEach((tk, k) => {
       const v = m[k];
@@ -479,7 +666,9 @@ function msdFitChart(ctx: Ctx): ChartSpec {
     }
     const w = rec(r.detail.window);
     const t1 = num(w?.t1), t2 = num(w?.t2);
-    const D = r.value, bIntercept = num(r.detail.intercept), d = num(r.detail.dimension) ?? 2;
+    const o = p.rows.get("diffusion/D_origin");
+    const D = o?.value ?? null, bIntercept = num(rec(o?.detail.fitted)?.intercept);
+    const d = num(r.detail.dimension) ?? 2;
     if (t1 !== null && t2 !== null) {
       windows.push({ point: p.key, t1, t2 });
       if (D !== null && bIntercept !== null) {
@@ -490,9 +679,9 @@ function msdFitChart(ctx: Ctx): ChartSpec {
     }
   }
   const caption =
-    "Count-weighted ensemble MSD as used by the fit (log–log). Dashed: ∝ t² through the first " +
-    "value and ∝ t through the fitted line at the window's centre; shaded: the fit window [t₁, t₂]; thick " +
-    "line: the fit 2dDt + b.";
+    "Survivor-average MSD from t₀ (pairwise relative displacements, log–log). Dashed: ∝ t² through the first " +
+    "value and ∝ t at the window's centre; shaded: the window [t₁, t₂]; thick line: the fit 2dDt + b (only " +
+    "where the evidence shows a diffusive regime).";
   if (data.length === 0) {
     return { id, title, caption, spec: null, emptyReason: "No stored MSD fit with positive values." };
   }
@@ -537,12 +726,12 @@ function localSlopeChart(ctx: Ctx): ChartSpec {
   const windows: Record<string, unknown>[] = [];
   let band: [number, number] = [0.85, 1.15];
   for (const p of ctx.points) {
-    const r = p.rows.get("msd-fit/D");
-    const s = rec(r?.detail.slope);
+    const r = p.rows.get("diffusion/D");
+    const s = rec(rec(r?.detail.origin)?.slope);
     if (!r || !s) continue;
     const stored = arr(rec(r.detail.rules)?.alphaBand);
     if (typeof stored[0] === "number" && typeof stored[1] === "number") band = [stored[0], stored[1]];
-    const t = arr(s.t), a = arr(s.alpha);
+    const t = arr(s.x), a = arr(s.alpha);
     t.forEach((tk, k) => {
       if (typeof tk === "number" && tk > 0 && typeof a[k] === "number") {
         rows.push({ point: p.key, t: tk, alpha: a[k] });
@@ -552,8 +741,9 @@ function localSlopeChart(ctx: Ctx): ChartSpec {
     if (num(w?.t1) !== null && num(w?.t2) !== null) windows.push({ point: p.key, t1: w!.t1, t2: w!.t2 });
   }
   const caption =
-    "Smoothed local exponent on a log grid: 2 = ballistic, 1 = diffusive (grey lines). Band: the " +
-    `accepted range [${band[0]}, ${band[1]}] inside the window; shaded per point: the chosen window.`;
+    "Smoothed local exponent of the survivor-average MSD on a log grid: 2 = ballistic, 1 = diffusive (grey " +
+    `lines). Band: the accepted range [${band[0]}, ${band[1]}]; shaded per point: the window chosen from ` +
+    "this curve (the cohort and lag exponents are in the evidence table and the D(τ) chart).";
   if (rows.length === 0) return { id, title, caption, spec: null, emptyReason: "No stored local slope." };
   const x = { field: "t", type: "quantitative", title: timeTitle(ctx), scale: { type: "log", nice: false } };
   const layers: unknown[] = [
@@ -588,19 +778,80 @@ function localSlopeChart(ctx: Ctx): ChartSpec {
   return { id, title, caption, spec, emptyReason: null };
 }
 
+/** D(τ) = MSD(τ)/(2dτ) of the lag increments: flat for diffusion. */
+function lagChart(ctx: Ctx): ChartSpec {
+  const id = "lag-d";
+  const title = "Lag increments: D(τ) = ⟨|Δr(τ)|²⟩/(2dτ)";
+  const rows: Record<string, unknown>[] = [];
+  const ranges: Record<string, unknown>[] = [];
+  for (const p of ctx.points) {
+    const r = p.rows.get("diffusion/D_lag");
+    const dx = rec(r?.detail.Dx);
+    if (!r || !dx) continue;
+    const x = arr(dx.x), D = arr(dx.D);
+    x.forEach((tau, q) => {
+      if (typeof tau === "number" && tau > 0 && typeof D[q] === "number") {
+        rows.push({ point: p.key, tau, D: D[q] });
+      }
+    });
+    const ex = rec(r.detail.exponent);
+    if (num(ex?.from) !== null && num(ex?.to) !== null) {
+      ranges.push({ point: p.key, t1: ex!.from, t2: ex!.to });
+    }
+  }
+  const caption =
+    "For diffusion D(τ) is flat beyond the correlation time; growth with τ means displacements " +
+    "grow faster than the lag (superdiffusion), whatever a fit from t₀ says. Shaded: the lags judged " +
+    "(3τ_c to ½(t₂ − t₁)).";
+  if (rows.length === 0) {
+    return {
+      id,
+      title,
+      caption,
+      spec: null,
+      emptyReason: "No lag estimator is stored (no window, or unequal frames).",
+    };
+  }
+  const x = { field: "tau", type: "quantitative", title: "lag τ", scale: { type: "log", nice: false } };
+  const layers: unknown[] = ranges.length > 0
+    ? [{
+      data: { values: ranges },
+      mark: { type: "rect", opacity: 0.08 },
+      encoding: {
+        x: { field: "t1", type: "quantitative", scale: { type: "log", nice: false }, title: "lag τ" },
+        x2: { field: "t2" },
+        color: colour(ctx),
+      },
+    }]
+    : [];
+  layers.push({
+    data: { values: rows },
+    mark: { type: "line", strokeWidth: 2, point: { filled: true, size: 18 }, tooltip: true },
+    encoding: { x, y: { field: "D", type: "quantitative", title: "D(τ)" }, color: colour(ctx) },
+  });
+  const spec = {
+    $schema: SCHEMA,
+    width: ctx.width,
+    height: 260,
+    layer: layers,
+    config: CONFIG,
+  } as unknown as TopLevelSpec;
+  return { id, title, caption, spec, emptyReason: null };
+}
+
 function vinenChart(ctx: Ctx): ChartSpec {
   const id = "vinen-fit";
   const title = "Vinen-equation fit against the radial profiles";
   const rows: Record<string, unknown>[] = [];
-  let reason = "No Vinen fit is stored (it needs χ₂: spindrift analyse DB --chi2 X).";
+  let reason = "No Vinen fit is stored (run spindrift analyse).";
   for (const p of ctx.points) {
     const r = p.rows.get("vinen/D");
     if (!r) continue;
-    if (r.value === null) {
+    const prof = rec(r.detail.profiles);
+    if (!prof) {
       reason = `No Vinen fit: ${str(r.detail.reason) ?? "not available"}.`;
       continue;
     }
-    const prof = rec(r.detail.profiles);
     const rr = arr(prof?.r);
     for (const c of arr(prof?.curves)) {
       const cc = rec(c);
@@ -620,7 +871,7 @@ function vinenChart(ctx: Ctx): ChartSpec {
   }
   const caption = "Dots: ensemble-mean radial density (main cluster, common bins) at the first time (the " +
     "initial condition), a third, two thirds and the end of the fit window; lines: the fitted Vinen-equation " +
-    "model at the same times. One panel per parameter point.";
+    "model at the same times (also for rejected fits, to show where the model fails). One panel per point.";
   if (rows.length === 0) return { id, title, caption, spec: null, emptyReason: reason };
   const lu = ctx.opts.units?.length;
   const spec = {

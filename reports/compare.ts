@@ -178,8 +178,8 @@ function bandChart(
 }
 
 const ESTIMATES = [
-  { analysis: "msd-fit", name: "D", label: "MSD fit" },
-  { analysis: "rms-fit", name: "D_R", label: "R_rms growth" },
+  { analysis: "diffusion", name: "D", label: "answer (fixed cohort)" },
+  { analysis: "diffusion", name: "D_lag", label: "lag increments" },
   { analysis: "vinen", name: "D", label: "Vinen fit" },
 ] as const;
 

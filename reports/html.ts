@@ -50,6 +50,10 @@ export interface ReportPageInput {
    * link and optional style rules; e.g. the condensate images of field_snapshots_section.ts.
    */
   readonly sections?: readonly ExtraSection[];
+  /** The answer in brief (already escaped HTML), shown under the question; omitted → nothing. */
+  readonly headline?: string;
+  /** Extra provenance lines of the analysis (e.g. where χ₂ came from), as [label, text]. */
+  readonly analysisProvenance?: readonly (readonly [string, string])[];
 }
 
 /** A section built elsewhere in reports/ and inserted as is. */
@@ -131,7 +135,7 @@ export function renderReportHtml(input: ReportPageInput): string {
 <section id="question">
 <h2>Question</h2>
 <p class="description">${escapeHtml(s.description.trim()) || "<em>(the study gives no description)</em>"}</p>
-<div class="tiles">
+${input.headline ?? ""}<div class="tiles">
 ${tile(String(agg.points.length), agg.points.length === 1 ? "parameter point" : "parameter points")}
 ${tile(`${totals.done}${totals.planned !== null ? ` / ${totals.planned}` : ""}`, "realisations done")}
 ${tile(String(totals.failed), "failed", totals.failed > 0 ? "bad" : "")}
@@ -334,7 +338,7 @@ function failuresTable(agg: StudyAggregate): string {
 
 function provenanceTable(input: ReportPageInput): string {
   const s = input.agg.study;
-  const rows: [string, string][] = [
+  const rows: (readonly [string, string])[] = [
     ["tool version", `spindrift ${s.toolVersion}`],
     ["Deno version", s.denoVersion],
     ["git commit", s.gitCommit ?? "(not recorded)"],
@@ -346,6 +350,7 @@ function provenanceTable(input: ReportPageInput): string {
     ["study file", s.sourcePath ?? "—"],
     ["database", input.dbPath],
     ["report generated", input.generatedAt],
+    ...(input.analysisProvenance ?? []),
   ];
   return `<table class="kv"><tbody>${
     rows.map(([k, v]) =>
@@ -459,6 +464,7 @@ nav a { margin-right: 16px; color: var(--accent); text-decoration: none; font-si
 nav a:hover { text-decoration: underline; }
 .description { white-space: pre-wrap; font-size: 16px; background: var(--soft); border-left: 4px solid var(--accent);
   padding: 12px 16px; margin: 0; overflow-wrap: anywhere; }
+.answer-box { border: 1px solid #c9d6e8; background: #f7faff; padding: 8px 16px; margin: 12px 0; }
 .tiles { display: flex; flex-wrap: wrap; gap: 12px; margin-top: 16px; }
 .tile { border: 1px solid var(--line); border-radius: 8px; padding: 10px 16px; min-width: 130px; }
 .tile .v { display: block; font-size: 24px; font-weight: 650; }

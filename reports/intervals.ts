@@ -17,7 +17,7 @@
  * // ci.mean = 5, ci.sd ≈ 2.138, ci.lower ≈ 3.213, ci.upper ≈ 6.787 (95 %, t₀.₉₇₅,₇ = 2.3646)
  * ```
  */
-import { studentTQuantile } from "./analysis/_jstat.ts";
+import { studentTQuantile } from "../analysis/estimators/mod.ts";
 
 /** Running mean and variance, one value at a time (Welford 1962). */
 export class Welford {

@@ -1,5 +1,5 @@
 import assert from "node:assert/strict";
-import { studentTQuantile } from "./analysis/_jstat.ts";
+import { studentTQuantile } from "../analysis/estimators/mod.ts";
 import { intervalFromMoments, meanInterval, NO_INTERVAL_N0, NO_INTERVAL_N1, Welford } from "./intervals.ts";
 import { assertClose } from "./_testing.ts";
 

@@ -73,9 +73,13 @@ export async function writeReport(
     });
     charts = buildCharts(agg, { units }).map(compiled);
     let analysis: PagePart[] | undefined;
+    let headline: string | undefined;
+    let analysisProvenance: readonly (readonly [string, string])[] | undefined;
     if (opts.analysis !== false) {
       const section = buildAnalysisSection(agg, readEnsembleResults(db, agg.study.id), { units, dbPath });
       analysis = section.parts.map((p) => ("chart" in p ? { rendered: compiled(p.chart) } : p));
+      headline = section.headline;
+      analysisProvenance = section.provenance;
     }
     svgCharts = [...charts, ...(analysis ?? []).flatMap((p) => ("rendered" in p ? [p.rendered] : []))];
     const condensate = buildFieldSnapshotSection(db, agg.study.id, units?.length);
@@ -84,6 +88,8 @@ export async function writeReport(
         ? []
         : [{ id: "condensate", title: "Condensate", html: condensate, style: FIELD_SNAPSHOT_STYLE }],
       analysis,
+      headline,
+      analysisProvenance,
       agg,
       charts,
       vegaRuntime: await readVegaRuntime(),

@@ -7,7 +7,7 @@
 import { assert, assertEquals } from "./_assert.ts";
 import { ballisticDb, walkersDb } from "./_analysis_fixture.ts";
 import { dumpDom, findChromium } from "./_chromium.ts";
-import { analyseStudy } from "../study/analyse.ts";
+import { analyseStudy } from "../analysis/mod.ts";
 import { writeComparePage } from "../reports/compare.ts";
 import { writeReport } from "../reports/mod.ts";
 import { formatNumber } from "../reports/html.ts";
@@ -42,7 +42,12 @@ function assertDrawn(dom: string, consoleErrors: readonly string[], ids: readonl
 async function fixtures(dir: string): Promise<{ walkers: string; ballistic: string }> {
   const walkers = await walkersDb(dir);
   const ballistic = await ballisticDb(dir);
-  await analyseStudy(walkers, { replicates: 500, chi2: 0, vinenReplicates: 4, sensitivityReplicates: 0 });
+  await analyseStudy(walkers, {
+    replicates: 500,
+    vinenLoss: { mode: "fixed", chi2: 0 },
+    vinenReplicates: 4,
+    sensitivityReplicates: 0,
+  });
   await analyseStudy(ballistic, { replicates: 100, sensitivityReplicates: 0 });
   return { walkers, ballistic };
 }
@@ -64,6 +69,7 @@ Deno.test({
         "d-vs-parameter",
         "msd-fit",
         "local-slope",
+        "lag-d",
         "vinen-fit",
       ]);
 
@@ -80,7 +86,7 @@ Deno.test({
       const db = openStoreReadOnly(walkers);
       const rows = readEnsembleResults(db, readStudy(db).id);
       db.close();
-      const D = rows.find((r) => r.analysis === "msd-fit" && r.name === "D")!;
+      const D = rows.find((r) => r.analysis === "diffusion" && r.name === "D")!;
       const row = /<tr data-study="imported-walkers"[^]*?<\/tr>/.exec(cmp.dom)?.[0] ?? "";
       const lost = rows.find((r) => r.analysis === "evaporation" && r.name === "lost_fraction")!;
       for (const v of [D.value!, D.lower!, D.upper!, lost.value!]) {

@@ -98,7 +98,7 @@ Deno.test("ring velocity under LIA matches the solid-core speed (κ/4πR)[ln(8R/
 });
 
 Deno.test("ring velocity by the tree code equals the direct sum for a single ring", () => {
-  // Tree vs direct (methods §2.9; the tree's own accuracy test is in tree_test.ts).
+  // Tree vs direct (docs/methods.md §2.9; the tree's own accuracy test is in tree_test.ts).
   const d = ringVelocity(128, "biot-savart", 1e-4, "direct").mean;
   const t = ringVelocity(128, "biot-savart", 1e-4, "tree").mean;
   assertRelClose(t, d, 1e-4, "tree vs direct ring speed");

@@ -55,7 +55,7 @@ function circleErrors(N: number): { tangent: number; curvature: number } {
 }
 
 Deno.test("computeGeometry: tangent O(h³) and curvature O(h²) or better on irregular spacing", () => {
-  // Orders stated in methods §2.3 for chord-length 5-point stencils (tangent ∝ h³, curvature ∝ h²); the
+  // Orders stated in docs/methods.md §2.3 for chord-length 5-point stencils (tangent ∝ h³, curvature ∝ h²); the
   // geometric curvature formula for a non-arclength parameter keeps at least these orders.
   const a = circleErrors(32), b = circleErrors(64), c = circleErrors(128);
   const ot = Math.log2(b.tangent / c.tangent), oc = Math.log2(b.curvature / c.curvature);

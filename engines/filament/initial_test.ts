@@ -23,7 +23,7 @@ Deno.test("orthonormalBasis gives a right-handed frame e₁×e₂ = n̂", () => 
 });
 
 Deno.test("ringPoints: a ring moves along its normal", () => {
-  // With counter-clockwise order about n̂ the self-induced velocity is along +n̂ (methods §3.1, "checked here").
+  // With counter-clockwise order about n̂ the self-induced velocity is along +n̂ (docs/methods.md §3.1, "checked here").
   const n: [number, number, number] = [0.3, -0.5, 0.81];
   const nn = Math.hypot(...n);
   const { sim } = makeSim(simConfig(0.1), [ringPoints(1, [1, 2, 3], n, 0.075, 0.4)]);

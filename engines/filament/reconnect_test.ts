@@ -41,7 +41,7 @@ function totalLength(s: FilamentState, L = 0): number {
 
 Deno.test("Reconnector merges two touching antiparallel rings into one loop and shortens the line", () => {
   // Type II rule (Kondaurova et al., Phys. Rev. B 89, 014502 (2014)): antiparallel, distance < δ_r, ΔL < 0;
-  // two loops merge into one (methods §2.6).
+  // two loops merge into one (docs/methods.md §2.6).
   const { s, ids, g } = pair(0.02, 1);
   const before = totalLength(s);
   const { count, recs, out } = reconnect(s, ids, g, 0.05);
@@ -54,7 +54,7 @@ Deno.test("Reconnector merges two touching antiparallel rings into one loop and 
 });
 
 Deno.test("Reconnector leaves parallel lines and distant lines alone", () => {
-  // Antiparallel test s′_i·s′_j < 0 (methods §2.6): co-flowing lines never reconnect.
+  // Antiparallel test s′_i·s′_j < 0 (docs/methods.md §2.6): co-flowing lines never reconnect.
   const p = pair(0.02, -1);
   assert.equal(reconnect(p.s, p.ids, p.g, 0.05).count, 0, "parallel tangents");
   const q = pair(0.2, 1);
@@ -62,7 +62,7 @@ Deno.test("Reconnector leaves parallel lines and distant lines alone", () => {
 });
 
 Deno.test("Reconnector never reconnects a smooth loop with itself (4-point exclusion)", () => {
-  // Pairs within 4 points along one loop are excluded (methods §2.6).
+  // Pairs within 4 points along one loop are excluded (docs/methods.md §2.6).
   const s = new FilamentState();
   const ids = new IdCounters();
   s.appendLoop(ringPoints(1, [0, 0, 0], [0, 0, 1], 0.1, 0), ids, 6);
@@ -72,7 +72,7 @@ Deno.test("Reconnector never reconnects a smooth loop with itself (4-point exclu
 });
 
 Deno.test("Reconnector splits a pinched loop into two", () => {
-  // A loop whose two far-apart strands run antiparallel within δ_r splits into two loops (methods §2.6).
+  // A loop whose two far-apart strands run antiparallel within δ_r splits into two loops (docs/methods.md §2.6).
   const pts: [number, number, number][] = [];
   const N = 80;
   for (let k = 0; k < N; k++) {
@@ -91,7 +91,7 @@ Deno.test("Reconnector splits a pinched loop into two", () => {
 });
 
 Deno.test("Reconnector finds pairs across a periodic boundary (minimum image)", () => {
-  // Cell list wrapped in the periodic cube (methods §2.8).
+  // Cell list wrapped in the periodic cube (docs/methods.md §2.8).
   const L = 6;
   const { s, ids, g } = pair(0.02, 1, L, 3); // touching point at x = 3 ≡ −3
   const { count, out } = reconnect(s, ids, g, 0.05, L);

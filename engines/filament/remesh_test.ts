@@ -40,7 +40,7 @@ function spacingRange(s: FilamentState): [number, number] {
 }
 
 Deno.test("remesh inserts points on the osculating circle of a coarse ring", () => {
-  // Curvature-preserving insertion s_new = ½(s_i + s_{i+1}) + (√(R² − ℓ²/4) − R) n̂ (methods §2.5): a coarse
+  // Curvature-preserving insertion s_new = ½(s_i + s_{i+1}) + (√(R² − ℓ²/4) − R) n̂ (docs/methods.md §2.5): a coarse
   // polygon inscribed in the unit circle gains points that lie on the same circle (|r| = 1 to the curvature
   // estimate's accuracy).
   const { s, ids } = build([ringPoints(1, [0, 0, 0], [0, 0, 1], 0.4, 0)]);
@@ -55,7 +55,7 @@ Deno.test("remesh inserts points on the osculating circle of a coarse ring", () 
 });
 
 Deno.test("remesh removes points of short segments but never markers", () => {
-  // Removal rule of methods §2.5 (delete the end with smaller curvature; markers protected, §2.10).
+  // Removal rule of docs/methods.md §2.5 (delete the end with smaller curvature; markers protected, §2.10).
   const pts: [number, number, number][] = [];
   for (let k = 0; k < 200; k++) pts.push([0, 0, 0]);
   for (let k = 0; k < 200; k++) {
@@ -77,7 +77,7 @@ Deno.test("remesh removes points of short segments but never markers", () => {
 });
 
 Deno.test("remesh transfers a marker when two adjacent markers come closer than the hard floor", () => {
-  // Marker transfer to the nearest surviving non-marker (methods §2.10), logged.
+  // Marker transfer to the nearest surviving non-marker (docs/methods.md §2.10), logged.
   const pts: [number, number, number][] = [];
   for (let k = 0; k < 40; k++) {
     const phi = 2 * Math.PI * k / 40;
@@ -95,7 +95,7 @@ Deno.test("remesh transfers a marker when two adjacent markers come closer than 
 });
 
 Deno.test("remesh keeps image counters consistent across a periodic boundary", () => {
-  // Inserted points take the image of their neighbour so unwrapped positions stay continuous (methods §2.1).
+  // Inserted points take the image of their neighbour so unwrapped positions stay continuous (docs/methods.md §2.1).
   const L = 1;
   const pts: [number, number, number][] = [];
   for (let q = 0; q < 8; q++) pts.push([0, 0, -0.5 + q / 8]);

@@ -13,7 +13,7 @@
  *
  * Method (dt): linearising the local term about a straight line gives Kelvin waves ω = (κΛ/4π)k²; the 5-point
  * stencil's largest k² is 16/(3h²) (zig-zag mode), and RK4 is stable on the imaginary axis for |ωdt| ≤ 2.83, so
- * dt ≤ 6.7 h²/(κΛ); the default c = 3 keeps a factor ≈ 2 margin for non-uniform stencils (methods §2.4,
+ * dt ≤ 6.7 h²/(κΛ); the default c = 3 keeps a factor ≈ 2 margin for non-uniform stencils (docs/methods.md §2.4,
  * derived there; the zig-zag test checks it). The advective limit keeps approaching lines from passing through
  * each other between reconnection checks.
  *

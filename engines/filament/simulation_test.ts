@@ -10,7 +10,7 @@ import type { FilamentSimulation } from "./simulation.ts";
 const LONG = Deno.env.get("SPINDRIFT_LONG") === "1";
 
 Deno.test("FilamentSimulation: a ring travels at (κ/4πR)[ln(8R/a₀) − (3/4 − γ_E)] with radius drift < 1e-4 R", () => {
-  // Ring speed: check-values §3.2 (polygonal constant [DERIVED]); methods §7.2 asks < 0.2 % at ≥ 32 points and a
+  // Ring speed: check-values §3.2 (polygonal constant [DERIVED]); docs/methods.md §7.2 asks < 0.2 % at ≥ 32 points and a
   // radius drift < 1e-4 R over 10 diameters (2 diameters in CI, 10 with SPINDRIFT_LONG=1).
   const R = 1, a0 = 1e-4, delta = 2 * Math.PI / 40;
   const { sim } = makeSim(simConfig(delta), [ringPoints(R, [0, 0, 0], [0, 0, 1], 0.75 * delta, 0)]);
@@ -32,8 +32,8 @@ Deno.test("FilamentSimulation: a ring travels at (κ/4πR)[ln(8R/a₀) − (3/4 
 });
 
 Deno.test("FilamentSimulation: ring speed error converges at second order or better in the spacing", () => {
-  // Spacing convergence (methods §7.2 "converging with δ"): the curvature stencil is O(h²) on irregular spacing
-  // (methods §2.3), so the error must fall at least 16× from 16 to 64 points (measured 53×).
+  // Spacing convergence (docs/methods.md §7.2 "converging with δ"): the curvature stencil is O(h²) on irregular spacing
+  // (docs/methods.md §2.3), so the error must fall at least 16× from 16 to 64 points (measured 53×).
   const errs: number[] = [];
   for (const N of [16, 32, 64]) {
     const delta = 2 * Math.PI / N * 1.000001;
@@ -70,7 +70,7 @@ function exactRadius(t: number, R0: number, a0: number, alpha: number, C: number
 Deno.test("FilamentSimulation: a ring shrinks under friction as the exact Ei-function law and slows by (1 − α′)", () => {
   // dR/dt = −αU(R), translation (1 − α′)U: Barenghi, Donnelly & Vinen, J. Low Temp. Phys. 52, 189 (1983)
   // (equations of motion); exact solution with Ei: check-values §3.5 [DERIVED], with the implementation's
-  // ring constant C = 3/4 − γ_E. Tolerance 1 % on R(t) (methods §7.2).
+  // ring constant C = 3/4 − γ_E. Tolerance 1 % on R(t) (docs/methods.md §7.2).
   const R0 = 1, a0 = 1e-4, alpha = 0.1, alphaPrime = 0.05, delta = 0.1;
   const { sim } = makeSim(simConfig(delta, {}, { alpha, alphaPrime }), [
     ringPoints(R0, [0, 0, 0], [0, 0, 1], 0.75 * delta, 0),
@@ -221,7 +221,7 @@ Deno.test("FilamentSimulation: leapfrogging rings conserve impulse up to an O(δ
 });
 
 Deno.test("FilamentSimulation: zig-zag noise of 1e-6δ does not grow at the recommended step", () => {
-  // Stability of the highest (zig-zag) Kelvin mode at dt = 3h²/(κΛ): methods §2.4 (RK4 imaginary-axis bound
+  // Stability of the highest (zig-zag) Kelvin mode at dt = 3h²/(κΛ): docs/methods.md §2.4 (RK4 imaginary-axis bound
   // 2.83, Durran (2010) §2.4) and §7.2 (seed 1e-6δ zig-zag, 10⁴ steps, no growth). CI runs 2000 steps,
   // SPINDRIFT_LONG=1 runs 10⁴.
   const N = 64, delta = 2 * Math.PI / N * 1.0001;
@@ -270,7 +270,7 @@ function collide() {
 }
 
 Deno.test("FilamentSimulation: two colliding rings reconnect once into one loop, deterministically", () => {
-  // Reconnection by the Type II rule (Kondaurova et al., Phys. Rev. B 89, 014502 (2014)); methods §7.2: exactly
+  // Reconnection by the Type II rule (Kondaurova et al., Phys. Rev. B 89, 014502 (2014)); docs/methods.md §7.2: exactly
   // one reconnection, length decreases, loop count right (2 → 1), event log bit-identical across runs.
   const a = collide(), b = collide();
   const rec = a.events.filter((e) => e.kind === "reconnection");
@@ -286,7 +286,7 @@ Deno.test("FilamentSimulation: two colliding rings reconnect once into one loop,
 });
 
 Deno.test("FilamentSimulation: the tree keeps the impulse drift within 2× the direct-sum drift", () => {
-  // Acceptance check of methods §2.9 for the tree in a dynamic run (T = 0, no reconnection or remeshing).
+  // Acceptance check of docs/methods.md §2.9 for the tree in a dynamic run (T = 0, no reconnection or remeshing).
   const rng = RandomStream.fromState([5, 4, 3, 2]);
   const cloud = ringCloud(
     { count: 8, radius: { mean: 0.8, sd: 0.1 }, cloudRadius: 2, centre: [0, 0, 0] },

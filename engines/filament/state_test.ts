@@ -21,7 +21,7 @@ Deno.test("FilamentState.appendLoop links a closed loop and seeds markers every 
 });
 
 Deno.test("compactInto keeps loop order and ids, drops tiny loops and reports them", () => {
-  // Tiny-loop rule of methods §2.6: < 5 points or length < 3δ.
+  // Tiny-loop rule of docs/methods.md §2.6: < 5 points or length < 3δ.
   const s = new FilamentState();
   const ids = new IdCounters();
   s.appendLoop(ringPoints(1, [0, 0, 0], [0, 0, 1], 0.3, 0), ids, 5);

@@ -44,7 +44,7 @@ function errorStats(n: number, dx: Float64Array[], tx: Float64Array[]) {
 const vec = (n: number) => [new Float64Array(n), new Float64Array(n), new Float64Array(n)];
 
 Deno.test("SegmentTree: 99th-percentile nonlocal velocity error < 1e-3 v_rms at θ = 0.4 on a random tangle", () => {
-  // Acceptance criterion of methods §2.9 (Barnes & Hut, Nature 324, 446 (1986); Salmon & Warren, J. Comput.
+  // Acceptance criterion of docs/methods.md §2.9 (Barnes & Hut, Nature 324, 446 (1986); Salmon & Warren, J. Comput.
   // Phys. 111, 136 (1994) for the error behaviour). Measured on this 3821-point tangle: p99 ≈ 2.6e-4 at θ = 0.4.
   const { s, g } = tangle(60);
   const n = s.n;
@@ -66,7 +66,7 @@ Deno.test({
   name: "SegmentTree: 99th-percentile error < 1e-3 v_rms at θ = 0.4 on a 10⁴-point tangle (SPINDRIFT_LONG)",
   ignore: Deno.env.get("SPINDRIFT_LONG") !== "1",
   fn() {
-    // methods §2.9 protocol at its full size (10⁴ points); measured p99 ≈ 1.5e-4.
+    // docs/methods.md §2.9 protocol at its full size (10⁴ points); measured p99 ≈ 1.5e-4.
     const { s, g } = tangle(150);
     const n = s.n;
     const d = vec(n), t = vec(n);
@@ -99,7 +99,7 @@ Deno.test("SegmentTree: error falls steeply with θ (quadrupole truncation, ≈ 
 });
 
 Deno.test("SegmentTree: ring + straight line configuration within 1e-3 v_rms", () => {
-  // Second configuration of the methods §2.9 protocol.
+  // Second configuration of the docs/methods.md §2.9 protocol.
   const s = new FilamentState();
   const ids = new IdCounters();
   s.appendLoop(ringPoints(1, [0, 0, 0], [0, 0, 1], 0.05, 0), ids, 6);
@@ -119,7 +119,7 @@ Deno.test("SegmentTree: ring + straight line configuration within 1e-3 v_rms", (
 });
 
 Deno.test("SegmentTree: periodic walk approximates the same image sum as the direct periodic kernel", () => {
-  // Minimum image + 26 neighbour copies (methods §2.8), tree vs direct: same acceptance as the open domain.
+  // Minimum image + 26 neighbour copies (docs/methods.md §2.8), tree vs direct: same acceptance as the open domain.
   const L = 6;
   const { s, g } = tangle(12, L);
   const n = s.n;

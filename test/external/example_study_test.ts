@@ -7,8 +7,8 @@
 import { assert, assertClose, assertEquals } from "../_assert.ts";
 import { planStudy } from "../../study/plan.ts";
 import { decodeFrame } from "../../store/frame_codec.ts";
-import { fitDiffusion } from "../../reports/analysis/msd_fit.ts";
-import { chiSquareDiffusionInterval } from "../../reports/analysis/chi2.ts";
+import { fitDiffusion } from "../../analysis/estimators/msd_fit.ts";
+import { chiSquareDiffusionInterval } from "../../analysis/estimators/chi2.ts";
 import { loadStudyText, ouLag, programRun, type Ran, REPO, runAll } from "./_helpers.ts";
 
 const EXAMPLE = `${REPO}examples/external-walkers.yaml`;

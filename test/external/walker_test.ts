@@ -4,7 +4,7 @@
  * size it was given.
  */
 import { assert, assertEquals } from "../_assert.ts";
-import { chiSquareDiffusionInterval } from "../../reports/analysis/chi2.ts";
+import { chiSquareDiffusionInterval } from "../../analysis/estimators/chi2.ts";
 import { ouLag } from "./_helpers.ts";
 
 const WALKER = new URL("./walker.mjs", import.meta.url).pathname;

@@ -61,7 +61,7 @@ Deno.test("fitDiffusion local slope and crossover follow the exact Ornstein–Uh
 });
 
 Deno.test("fitDiffusion recovers D within its bootstrap CI for Brownian walkers in 2D and 3D", () => {
-  // Synthetic Brownian walkers (Einstein 1905); methods §7.4: recovered D within the CI.
+  // Synthetic Brownian walkers (Einstein 1905); docs/methods.md §7.4: recovered D within the CI.
   for (const d of [2, 3] as const) {
     const ens = walkerEnsemble(
       { kind: "brownian", dimension: d, walkers: 100, D: 0.5, times: logTimes(0.01, 10, { count: 31 }) },
@@ -261,7 +261,7 @@ Deno.test("fitDiffusion bootstrap is reproducible from its recorded seed", () =>
 
 Deno.test("fitDiffusion CI width scales as N_real^-1/2", () => {
   // Standard error of a mean over independent units ∝ N^{-1/2} (Efron & Tibshirani 1993, ch. 6);
-  // methods §5.1 asks to check it. Quadrupling N should halve the width (sampling tolerance 25%).
+  // docs/methods.md §5.1 asks to check it. Quadrupling N should halve the width (sampling tolerance 25%).
   const width = (R: number) => {
     let sum = 0;
     for (let s = 0; s < 4; s++) {
@@ -334,7 +334,7 @@ Deno.test("fitDiffusion rejects malformed input with clear messages", () => {
 Deno.test("fitDiffusion warns when half or more of the bootstrap replicates find no diffusive regime", () => {
   // Small Ornstein–Uhlenbeck ensembles (τ = 0.1, D = 0.25; Uhlenbeck & Ornstein 1930) sit at the edge of the
   // window rule: some resamples keep α(t) in [0.85, 1.15], others do not. The warning must accompany exactly
-  // the fits where that share is ≥ 50 % (methods §5.1: the interval comes from the resamples that hold).
+  // the fits where that share is ≥ 50 % (docs/methods.md §5.1: the interval comes from the resamples that hold).
   const seen = { warned: 0, quiet: 0 };
   for (const [walkers, seed] of [[12, "m2"], [16, "m0"], [24, "m1"], [24, "m5"]] as const) {
     const ens = walkerEnsemble(

@@ -1,8 +1,8 @@
 /** Unit tests of the analysis helpers: common profile bins, velocity at probes, varied thresholds. */
-import { assert, assertClose, assertEquals, assertThrows } from "../test/_assert.ts";
-import { commonProfiles } from "./_analyse_profiles.ts";
-import { domainOf, velocityFieldFor } from "./_analyse_engines.ts";
-import { variedThreshold } from "./analyse.ts";
+import { assert, assertClose, assertEquals, assertThrows } from "../../test/_assert.ts";
+import { commonProfiles } from "./profiles.ts";
+import { domainOf, velocityFieldFor } from "./engines.ts";
+import { variedThreshold } from "../analyse.ts";
 
 /** Bin-average of ρ(r) = e^{−r²} over annuli (d = 2) of width w: exact, ∫ e^{−r²} 2πr dr = π(e^{−a²} − e^{−b²}). */
 function gaussBins2d(w: number, bins: number): Float64Array {
@@ -94,7 +94,7 @@ Deno.test("domainOf: disk and periodic sizes, unbounded and unknown engines have
   assertEquals(domainOf("gross-pitaevskii-2d", { grid, trap: { kind: "periodic" } }).size, 64);
 });
 
-// Halving/doubling rules of the sensitivity table (methods §4: each threshold ×0.5 and ×2); the cosine is varied
+// Halving/doubling rules of the sensitivity table (docs/methods.md §4: each threshold ×0.5 and ×2); the cosine is varied
 // through its angle: cos(30°) = √3/2, cos(120°) = −1/2 (elementary trigonometry).
 Deno.test("variedThreshold: factors, integer rounding of stickyFrames, outwardCosine through its angle", () => {
   const base = {

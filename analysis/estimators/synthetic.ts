@@ -28,6 +28,7 @@
  */
 import type { RandomStream } from "../../engines/random.ts";
 import { streamFromSeed } from "./seed.ts";
+import type { RealisationTracks, TrackEnsemble } from "./tracks.ts";
 
 /** Positions of `walkers` walkers at each sample time, frame-major (index k·walkers + w). */
 export interface Tracks {
@@ -259,18 +260,280 @@ export function walkerEnsemble(
   const rmsRadius: Float64Array[] = [];
   let t: Float64Array = new Float64Array(0);
   for (let i = 0; i < options.realisations; i++) {
-    const rng = streamFromSeed(`${options.seed}/${i}`);
-    const tracks = model.kind === "brownian"
-      ? brownianTracks(rng, model)
-      : model.kind === "ornstein-uhlenbeck"
-      ? ornsteinUhlenbeckTracks(rng, model)
-      : ballisticTracks(rng, model);
+    const tracks = modelTracks(streamFromSeed(`${options.seed}/${i}`), model);
     const s = trackSeries(tracks, { removeDrift: options.removeDrift });
     t = s.t;
     msd.push(s.msd);
     rmsRadius.push(s.rmsRadius);
   }
   return { t, msd, rmsRadius };
+}
+
+/** One realisation of a walker model. */
+export function modelTracks(rng: RandomStream, model: WalkerModel): Tracks {
+  return model.kind === "brownian"
+    ? brownianTracks(rng, model)
+    : model.kind === "ornstein-uhlenbeck"
+    ? ornsteinUhlenbeckTracks(rng, model)
+    : ballisticTracks(rng, model);
+}
+
+/** Walker tracks as the loss-aware estimators take them: every walker in the main cluster, its own unit. */
+export function asRealisationTracks(tr: Tracks): RealisationTracks {
+  return {
+    objects: tr.walkers,
+    x: tr.x,
+    y: tr.y,
+    z: tr.z,
+    main: new Uint8Array(tr.x.length).fill(1),
+    group: null,
+  };
+}
+
+/**
+ * `realisations` independent realisations of a walker model as a `TrackEnsemble` (realisation i from the
+ * stream `seed/i`, as `walkerEnsemble`).
+ *
+ * @example
+ * ```ts
+ * const times = Float64Array.from({ length: 101 }, (_, k) => 0.1 * k);
+ * const ens = walkerTrackEnsemble({ kind: "brownian", dimension: 2, walkers: 10, D: 0.2, times }, {
+ *   realisations: 40,
+ *   seed: "demo",
+ * });
+ * ```
+ */
+export function walkerTrackEnsemble(
+  model: WalkerModel,
+  options: { realisations: number; seed: string },
+): TrackEnsemble {
+  if (!Number.isInteger(options.realisations) || options.realisations < 1) {
+    throw new RangeError(`realisations must be an integer ≥ 1, got ${options.realisations}`);
+  }
+  const realisations = Array.from(
+    { length: options.realisations },
+    (_, i) => asRealisationTracks(modelTracks(streamFromSeed(`${options.seed}/${i}`), model)),
+  );
+  return { dimension: model.dimension, t: Float64Array.from(model.times), realisations };
+}
+
+/** Half diffusers, half ballistic movers that leave the tracked set: data built to fool survivor averages. */
+export interface CensoredMixtureOptions {
+  readonly dimension: 2 | 3;
+  /** Frame times, strictly increasing from 0. */
+  readonly times: ArrayLike<number>;
+  /** Brownian walkers with diffusion coefficient D (never removed). */
+  readonly diffusers: number;
+  readonly D: number;
+  /** Ballistic movers (constant velocity, uniform direction). */
+  readonly ballistic: number;
+  /**
+   * How ballistic movers leave the set (absent from every later frame):
+   * - `rate`: exponential lifetimes with the given rate, independent of where they are (speed per component
+   *   normal with standard deviation `speedSpread`);
+   * - `front`: when their displacement reaches the diffusive front c√t with c² = 3·2dD; speeds uniform on
+   *   (0, `maxSpeed`), so the survivors' mean square displacement E[v²t² | v < c/√t] = c²t/3 = 2dDt equals the
+   *   diffusers' and the survivor average is exactly 2dDt although no survivor moves diffusively.
+   */
+  readonly removal:
+    | { readonly kind: "rate"; readonly rate: number; readonly speedSpread: number }
+    | { readonly kind: "front"; readonly maxSpeed: number };
+  /** Standard deviation per component of the Gaussian starting cloud (default 0). */
+  readonly initialSpread?: number;
+}
+
+/**
+ * One realisation of `CensoredMixtureOptions` (diffusers first, then ballistic movers; all labelled main while
+ * present). Brownian motion: A. Einstein, Ann. Phys. 17, 549 (1905); the front construction is derived here.
+ */
+export function censoredMixtureTracks(rng: RandomStream, o: CensoredMixtureOptions): RealisationTracks {
+  positive(o.D, "D");
+  const d = o.dimension;
+  const b = brownianTracks(rng, {
+    dimension: d,
+    walkers: Math.max(1, o.diffusers),
+    D: o.D,
+    times: o.times,
+    initialSpread: o.initialSpread,
+  });
+  const nb = o.diffusers, ns = o.ballistic, M = nb + ns, K = o.times.length;
+  const x = new Float64Array(K * M), y = new Float64Array(K * M);
+  const z = d === 3 ? new Float64Array(K * M) : null;
+  const main = new Uint8Array(K * M);
+  for (let k = 0; k < K; k++) {
+    for (let j = 0; j < nb; j++) {
+      x[k * M + j] = b.x[k * b.walkers + j];
+      y[k * M + j] = b.y[k * b.walkers + j];
+      if (z) z[k * M + j] = b.z![k * b.walkers + j];
+      main[k * M + j] = 1;
+    }
+  }
+  const spread = o.initialSpread ?? 0;
+  const c2 = 3 * 2 * d * o.D;
+  for (let j = 0; j < ns; j++) {
+    const r0 = [spread * rng.normal(), spread * rng.normal(), d === 3 ? spread * rng.normal() : 0];
+    let v: number[];
+    let end: number;
+    if (o.removal.kind === "rate") {
+      const s = o.removal.speedSpread;
+      v = [s * rng.normal(), s * rng.normal(), d === 3 ? s * rng.normal() : 0];
+      end = -Math.log(1 - rng.uniform()) / o.removal.rate;
+    } else {
+      const speed = o.removal.maxSpeed * rng.uniform();
+      const n = [rng.normal(), rng.normal(), d === 3 ? rng.normal() : 0];
+      const norm = Math.hypot(n[0], n[1], n[2]);
+      v = n.map((c) => (speed * c) / norm);
+      end = speed > 0 ? c2 / (speed * speed) : Number.POSITIVE_INFINITY;
+    }
+    for (let k = 0; k < K; k++) {
+      const q = k * M + nb + j;
+      const tk = o.times[k];
+      if (tk < end) {
+        x[q] = r0[0] + v[0] * tk;
+        y[q] = r0[1] + v[1] * tk;
+        if (z) z[q] = r0[2] + v[2] * tk;
+        main[q] = 1;
+      } else {
+        x[q] = y[q] = Number.NaN;
+        if (z) z[q] = Number.NaN;
+      }
+    }
+  }
+  return { objects: M, x, y, z, main, group: null };
+}
+
+/** Brownian walkers that annihilate in pairs: ∂n/∂t = D∇²n − kn² in the mean-field limit. */
+export interface AnnihilatingWalkerOptions {
+  readonly dimension: 2 | 3;
+  /** Walkers at t = 0, Gaussian about the origin with standard deviation `spread` per component. */
+  readonly walkers: number;
+  readonly spread: number;
+  readonly D: number;
+  /** Two walkers closer than `radius` annihilate together at `rate` per unit time (both removed). */
+  readonly radius: number;
+  readonly rate: number;
+  /** Time step of the simulation. */
+  readonly dt: number;
+  /** Output times (multiples of dt, from 0) and radial bins [k·h, (k + 1)·h), k < bins, about the origin. */
+  readonly times: readonly number[];
+  readonly binWidth: number;
+  readonly bins: number;
+}
+
+/**
+ * The loss coefficient k of the mean-field equation of `annihilatingWalkerProfiles`: each pair closer than ε
+ * reacts at rate λ and removes two walkers, so dn/dt = −2·(n²V_ε/2)·λ = −V_ε λ n², k = V_ε λ with V_ε the
+ * volume of the ε-ball (πε² in 2D, 4πε³/3 in 3D). Valid when reactions are slow against diffusion over ε
+ * (λε²/D ≪ 1: no depletion around each walker). Derived here from the pair density; the rate-equation limit of
+ * reaction–diffusion particle models is standard (D.F. Calef, J.M. Deutch, Annu. Rev. Phys. Chem. 34, 493
+ * (1983), doi:10.1146/annurev.pc.34.100183.002425).
+ */
+export function annihilationCoefficient(
+  o: Pick<AnnihilatingWalkerOptions, "dimension" | "radius" | "rate">,
+): number {
+  const v = o.dimension === 2 ? Math.PI * o.radius ** 2 : (4 / 3) * Math.PI * o.radius ** 3;
+  return v * o.rate;
+}
+
+/**
+ * One realisation of annihilating Brownian walkers: the number density per annulus area (2D) or shell volume
+ * (3D) at each output time, index j·bins + k (a `ProfileEnsemble` realisation). Per step dt: Brownian moves
+ * (variance 2D·dt per component), then every pair closer than ε (cell list, pairs in random order, each walker
+ * at most once) annihilates with probability λ·dt.
+ */
+export function annihilatingWalkerProfiles(rng: RandomStream, o: AnnihilatingWalkerOptions): Float64Array {
+  positive(o.D, "D");
+  positive(o.dt, "dt");
+  positive(o.radius, "radius");
+  const d = o.dimension;
+  const N = o.walkers;
+  const x = new Float64Array(N), y = new Float64Array(N), z = new Float64Array(N);
+  const alive = new Uint8Array(N).fill(1);
+  for (let i = 0; i < N; i++) {
+    x[i] = o.spread * rng.normal();
+    y[i] = o.spread * rng.normal();
+    if (d === 3) z[i] = o.spread * rng.normal();
+  }
+  const K = o.bins, h = o.binWidth;
+  const out = new Float64Array(o.times.length * K);
+  const measure = Float64Array.from(
+    { length: K },
+    (_, k) =>
+      d === 2
+        ? Math.PI * (((k + 1) * h) ** 2 - (k * h) ** 2)
+        : (4 / 3) * Math.PI * (((k + 1) * h) ** 3 - (k * h) ** 3),
+  );
+  const record = (j: number) => {
+    for (let i = 0; i < N; i++) {
+      if (!alive[i]) continue;
+      const r = Math.sqrt(x[i] * x[i] + y[i] * y[i] + z[i] * z[i]);
+      const k = Math.floor(r / h);
+      if (k < K) out[j * K + k] += 1;
+    }
+    for (let k = 0; k < K; k++) out[j * K + k] /= measure[k];
+  };
+  const sd = Math.sqrt(2 * o.D * o.dt);
+  const p = o.rate * o.dt;
+  const eps = o.radius, eps2 = eps * eps;
+  // Cell list of cell size ε in a hash table of linked lists (head/next), cells compared exactly.
+  const SIZE = 1 << 16;
+  const head = new Int32Array(SIZE);
+  const next = new Int32Array(N);
+  const cx = new Int32Array(N), cy = new Int32Array(N), cz = new Int32Array(N);
+  const hash = (a: number, b: number, c: number) =>
+    ((Math.imul(a, 73856093) ^ Math.imul(b, 19349663) ^ Math.imul(c, 83492791)) >>> 0) & (SIZE - 1);
+  const pairs: number[] = [];
+  const span = d === 3 ? 1 : 0;
+  let t = 0;
+  let j = 0;
+  for (; j < o.times.length && o.times[j] <= 1e-12; j++) record(j);
+  while (j < o.times.length) {
+    head.fill(-1);
+    for (let i = 0; i < N; i++) {
+      if (!alive[i]) continue;
+      x[i] += sd * rng.normal();
+      y[i] += sd * rng.normal();
+      if (d === 3) z[i] += sd * rng.normal();
+      cx[i] = Math.floor(x[i] / eps);
+      cy[i] = Math.floor(y[i] / eps);
+      cz[i] = d === 3 ? Math.floor(z[i] / eps) : 0;
+      const hh = hash(cx[i], cy[i], cz[i]);
+      next[i] = head[hh];
+      head[hh] = i;
+    }
+    pairs.length = 0;
+    for (let i = 0; i < N; i++) {
+      if (!alive[i]) continue;
+      for (let a = -1; a <= 1; a++) {
+        for (let b = -1; b <= 1; b++) {
+          for (let c = -span; c <= span; c++) {
+            const X = cx[i] + a, Y = cy[i] + b, Z = cz[i] + c;
+            for (let q = head[hash(X, Y, Z)]; q >= 0; q = next[q]) {
+              if (q <= i || cx[q] !== X || cy[q] !== Y || cz[q] !== Z) continue;
+              if ((x[i] - x[q]) ** 2 + (y[i] - y[q]) ** 2 + (z[i] - z[q]) ** 2 < eps2) pairs.push(i, q);
+            }
+          }
+        }
+      }
+    }
+    // Random order so no walker is favoured; each walker reacts at most once per step.
+    const m = pairs.length / 2;
+    for (let u = m - 1; u > 0; u--) {
+      const v = rng.integer(u + 1);
+      const a0 = pairs[2 * u], a1 = pairs[2 * u + 1];
+      pairs[2 * u] = pairs[2 * v];
+      pairs[2 * u + 1] = pairs[2 * v + 1];
+      pairs[2 * v] = a0;
+      pairs[2 * v + 1] = a1;
+    }
+    for (let u = 0; u < m; u++) {
+      const a = pairs[2 * u], b = pairs[2 * u + 1];
+      if (alive[a] && alive[b] && rng.uniform() < p) alive[a] = alive[b] = 0;
+    }
+    t += o.dt;
+    while (j < o.times.length && o.times[j] <= t + 1e-9) record(j++);
+  }
+  return out;
 }
 
 function checkWalkerOptions(o: WalkerOptions): void {

@@ -1,9 +1,13 @@
 /**
- * Effective diffusion coefficient from an ensemble of mean-square-displacement series, with the
- * ballistic → diffusive crossover, an automatic fitting window, a bootstrap over realisations, a second
- * estimator from the cluster's RMS radius, and a threshold-sensitivity table.
+ * Effective diffusion coefficient from an ensemble of survivor-average mean-square-displacement series alone,
+ * with the ballistic → diffusive crossover, an automatic fitting window, a bootstrap over realisations, a
+ * second estimator from the cluster's RMS radius, and a threshold-sensitivity table.
  *
- * Method (spindrift methods notes §5.1):
+ * This is the estimator for MSD series without tracks (e.g. an imported MSD curve). It cannot see censoring:
+ * a survivor average can grow linearly while no object moves diffusively, which is why `spindrift analyse`
+ * decides with `diffusion.ts` (three estimators from the tracks, all of which must agree).
+ *
+ * Method (docs/methods.md §5.1):
  * 1. Ensemble MSD(t_k): the mean over realisations of MSD_i(t_k). With per-realisation object counts n_ik the
  *    mean is weighted, MSD(t_k) = Σ_i n_ik MSD_ik / Σ_i n_ik, i.e. every object that contributes at t_k
  *    counts once (the number-at-risk weighting for censored data). Missing values (NaN, or n_ik = 0) are
@@ -47,14 +51,24 @@
  * if (fit.status === "ok") console.log(fit.D, fit.ci?.percentile);
  * ```
  */
-import {
-  bcaInterval,
-  type Interval,
-  percentileInterval,
-  resampleIndices,
-  standardDeviation,
-} from "./bootstrap.ts";
+import { type EstimatorCI, estimatorCi, resampleIndices } from "./bootstrap.ts";
+
+export type { EstimatorCI } from "./bootstrap.ts";
 import { streamFromSeed } from "./seed.ts";
+import {
+  chooseWindow,
+  DEFAULT_WINDOW_RULES,
+  emptyWindowChoice,
+  fmt,
+  lineFit,
+  LocalSlope,
+  resolveRules,
+  type WindowChoice,
+  WindowOutcome as Outcome,
+  type WindowRules,
+} from "./window.ts";
+
+export { DEFAULT_WINDOW_RULES, type WindowRules } from "./window.ts";
 
 /** Per-realisation series on common times. All arrays of a realisation have the length of `t`. */
 export interface MsdEnsembleInput {
@@ -69,34 +83,6 @@ export interface MsdEnsembleInput {
   /** Optional main-cluster object count N_main,i(t_k), for the t₂ rule N_main < 50% of N_main(t₁). */
   readonly mainCount?: readonly ArrayLike<number>[];
 }
-
-/** Window-selection rules; defaults are the methods notes' values. */
-export interface WindowRules {
-  /** Log-grid density for α(t) (default 10 points per decade). */
-  readonly pointsPerDecade: number;
-  /** Points in the α smoothing line (odd, ≥ 3; default 5). */
-  readonly smoothingPoints: number;
-  /** τ_c = first t with α below this (default 1.2). */
-  readonly crossoverAlpha: number;
-  /** t₁ ≥ startFactor·τ_c (default 3). */
-  readonly startFactor: number;
-  /** α must stay in [lo, hi] over the window (default [0.85, 1.15]). */
-  readonly alphaBand: readonly [number, number];
-  /** Required t₂/t₁ (default 5). */
-  readonly minRatio: number;
-  /** t₂ ends before N_main drops below this fraction of N_main(t₁) (default 0.5). */
-  readonly mainCountFraction: number;
-}
-
-export const DEFAULT_WINDOW_RULES: WindowRules = Object.freeze({
-  pointsPerDecade: 10,
-  smoothingPoints: 5,
-  crossoverAlpha: 1.2,
-  startFactor: 3,
-  alphaBand: Object.freeze([0.85, 1.15]) as readonly [number, number],
-  minRatio: 5,
-  mainCountFraction: 0.5,
-});
 
 export interface DiffusionFitOptions {
   /** Space dimension d (MSD = 2dDt). */
@@ -113,15 +99,6 @@ export interface DiffusionFitOptions {
   readonly rules?: Partial<WindowRules>;
   /** Compute BCa intervals (default true). */
   readonly bca?: boolean;
-}
-
-/** Confidence intervals for one estimator from the bootstrap. */
-export interface EstimatorCI {
-  readonly percentile: Interval | null;
-  readonly bca: Interval | null;
-  readonly bcaNote: string | null;
-  /** Bootstrap standard error (sd of the defined replicates). */
-  readonly standardError: number | null;
 }
 
 export interface DiffusionFit {
@@ -161,17 +138,6 @@ export interface DiffusionFit {
   readonly warnings: readonly string[];
 }
 
-enum Outcome {
-  Ok,
-  MsdNotPositive,
-  NoCrossover,
-  StartBeyondData,
-  WindowEmpty,
-  TooFewSamples,
-  RatioTooSmall,
-  AlphaOutOfBand,
-}
-
 /** Preallocated state for repeated analyses of resampled ensembles (no allocation per replicate). */
 class MsdWorkspace {
   readonly K: number;
@@ -180,14 +146,8 @@ class MsdWorkspace {
   readonly weight: Float64Array;
   readonly rms2: Float64Array;
   readonly main: Float64Array;
-  /** Log grid. */
-  readonly G: number;
-  readonly gridT: Float64Array;
-  readonly gridLnT: Float64Array;
-  readonly gridLo: Int32Array;
-  readonly gridFrac: Float64Array;
-  readonly lnM: Float64Array;
-  readonly alpha: Float64Array;
+  readonly slope: LocalSlope;
+  readonly choice: WindowChoice = emptyWindowChoice();
   // Outputs of the last run.
   outcome = Outcome.Ok;
   detailT = 0;
@@ -213,31 +173,7 @@ class MsdWorkspace {
     this.weight = new Float64Array(K);
     this.rms2 = new Float64Array(K);
     this.main = new Float64Array(K);
-    let a = 0;
-    while (this.t[a] <= 0) a++;
-    const tA = this.t[a];
-    const tB = this.t[K - 1];
-    const G = Math.max(rules.smoothingPoints, Math.ceil(rules.pointsPerDecade * Math.log10(tB / tA)) + 1);
-    this.G = G;
-    this.gridT = new Float64Array(G);
-    this.gridLnT = new Float64Array(G);
-    this.gridLo = new Int32Array(G);
-    this.gridFrac = new Float64Array(G);
-    this.lnM = new Float64Array(G);
-    this.alpha = new Float64Array(G);
-    const lnA = Math.log(tA);
-    const lnB = Math.log(tB);
-    let seg = a;
-    for (let j = 0; j < G; j++) {
-      const ln = j === G - 1 ? lnB : lnA + ((lnB - lnA) * j) / (G - 1);
-      this.gridLnT[j] = ln;
-      this.gridT[j] = j === G - 1 ? tB : Math.exp(ln);
-      while (seg < K - 2 && Math.log(this.t[seg + 1]) < ln) seg++;
-      const l0 = Math.log(this.t[seg]);
-      const l1 = Math.log(this.t[seg + 1]);
-      this.gridLo[j] = seg;
-      this.gridFrac[j] = Math.min(1, Math.max(0, (ln - l0) / (l1 - l0)));
-    }
+    this.slope = new LocalSlope(this.t, rules);
   }
 
   /** Analyses the ensemble made of realisations `idx` (repeats allowed). */
@@ -301,95 +237,32 @@ class MsdWorkspace {
   }
 
   private select(): Outcome {
-    const { K, t, msdEns, G, gridT, gridLnT, gridLo, gridFrac, lnM, alpha, rules } = this;
-    // ln MSD on the log grid.
-    for (let j = 0; j < G; j++) {
-      const lo = gridLo[j];
-      const m0 = msdEns[lo];
-      const m1 = msdEns[lo + 1];
-      if (!(m0 > 0 && m1 > 0)) {
-        this.detailT = m0 > 0 ? t[lo + 1] : t[lo];
-        this.detailV = m0 > 0 ? m1 : m0;
-        return Outcome.MsdNotPositive;
-      }
-      const l0 = Math.log(m0);
-      lnM[j] = l0 + gridFrac[j] * (Math.log(m1) - l0);
+    const { t, slope, rules } = this;
+    if (!slope.compute(this.msdEns)) {
+      this.detailT = slope.badX;
+      this.detailV = slope.badY;
+      return Outcome.MsdNotPositive;
     }
-    // Smoothed local slope.
-    const h = (rules.smoothingPoints - 1) >> 1;
-    for (let j = 0; j < G; j++) {
-      let a = j - h;
-      let e = j + h;
-      if (a < 0) a = 0;
-      if (e > G - 1) e = G - 1;
-      if (e - a < 2) {
-        // Fewer than 3 points: extend to 3 on the available side.
-        if (a === 0) e = Math.min(G - 1, 2);
-        else a = Math.max(0, G - 3);
+    const c = chooseWindow(slope, this.input.mainCount ? this.main : null, this.tCut, rules, this.choice);
+    this.tauC = c.tauC;
+    if (c.outcome === Outcome.StartBeyondData) this.detailT = rules.startFactor * c.tauC;
+    if (c.outcome !== Outcome.Ok) {
+      if (c.i1 >= 0) {
+        this.i1 = c.i1;
+        this.i2 = c.i2;
       }
-      let sx = 0;
-      let sy = 0;
-      const n = e - a + 1;
-      for (let q = a; q <= e; q++) {
-        sx += gridLnT[q];
-        sy += lnM[q];
-      }
-      const mx = sx / n;
-      const my = sy / n;
-      let sxy = 0;
-      let sxx = 0;
-      for (let q = a; q <= e; q++) {
-        const dx = gridLnT[q] - mx;
-        sxy += dx * (lnM[q] - my);
-        sxx += dx * dx;
-      }
-      alpha[j] = sxy / sxx;
+      return c.outcome;
     }
-    // Crossover.
-    let jc = -1;
-    for (let j = 0; j < G; j++) {
-      if (alpha[j] < rules.crossoverAlpha) {
-        jc = j;
-        break;
-      }
-    }
-    if (jc < 0) return Outcome.NoCrossover;
-    this.tauC = gridT[jc];
-    // Window start.
-    const tStart = rules.startFactor * this.tauC * (1 - 1e-12);
-    let i1 = 0;
-    while (i1 < K && !(t[i1] >= tStart && t[i1] > 0)) i1++;
-    if (i1 >= K) {
-      this.detailT = rules.startFactor * this.tauC;
-      return Outcome.StartBeyondData;
-    }
-    // Window end: last sample, user cut, main-cluster rule.
-    let i2 = K - 1;
-    if (this.tCut < t[i2]) {
-      while (i2 >= 0 && t[i2] > this.tCut) i2--;
-    }
-    if (this.input.mainCount) {
-      const limit = rules.mainCountFraction * this.main[i1];
-      for (let k = i1 + 1; k <= i2; k++) {
-        if (this.main[k] < limit) {
-          i2 = k - 1;
-          break;
-        }
-      }
-    }
-    this.i1 = i1;
-    this.i2 = i2;
-    if (i2 <= i1) return Outcome.WindowEmpty;
-    if (i2 - i1 + 1 < 3) return Outcome.TooFewSamples;
-    if (t[i2] / t[i1] < rules.minRatio * (1 - 1e-12)) return Outcome.RatioTooSmall;
-    const t1 = t[i1] * (1 - 1e-12);
-    const t2 = t[i2] * (1 + 1e-12);
+    this.i1 = c.i1;
+    this.i2 = c.i2;
+    const t1 = t[c.i1] * (1 - 1e-12);
+    const t2 = t[c.i2] * (1 + 1e-12);
     const [lo, hi] = rules.alphaBand;
-    for (let j = 0; j < G; j++) {
-      if (gridT[j] < t1 || gridT[j] > t2) continue;
-      if (!(alpha[j] >= lo && alpha[j] <= hi)) {
-        this.detailT = gridT[j];
-        this.detailV = alpha[j];
+    for (let j = 0; j < slope.G; j++) {
+      if (slope.gridX[j] < t1 || slope.gridX[j] > t2) continue;
+      if (!(slope.alpha[j] >= lo && slope.alpha[j] <= hi)) {
+        this.detailT = slope.gridX[j];
+        this.detailV = slope.alpha[j];
         return Outcome.AlphaOutOfBand;
       }
     }
@@ -438,7 +311,7 @@ class MsdWorkspace {
  * ```
  */
 export function fitDiffusion(input: MsdEnsembleInput, options: DiffusionFitOptions): DiffusionFit {
-  const rules = resolveRules(options.rules);
+  const rules = resolveRules(DEFAULT_WINDOW_RULES, options.rules);
   validate(input, options);
   const d = options.dimension;
   const level = options.level ?? 0.95;
@@ -469,7 +342,7 @@ export function fitDiffusion(input: MsdEnsembleInput, options: DiffusionFitOptio
     reason: ws.reason(),
     dimension: d,
     ensemble: { t: ws.t.slice(), msd: ws.msdEns.slice(), weight: ws.weight.slice() },
-    slope: { t: ws.gridT.slice(), alpha: ws.alpha.slice() },
+    slope: { t: ws.slope.gridX.slice(), alpha: ws.slope.alpha.slice() },
     crossoverTime: Number.isNaN(ws.tauC) ? null : ws.tauC,
     window: ok ? { t1: ws.t[ws.i1], t2: ws.t[ws.i2], samples: ws.i2 - ws.i1 + 1 } : null,
     D: ok ? ws.D : null,
@@ -536,21 +409,6 @@ export function fitDiffusion(input: MsdEnsembleInput, options: DiffusionFitOptio
     ci,
     radius: ok && wantRadius ? { D: pointR, intercept: pointBR, ci: radiusCi } : null,
     bootstrap: { replicates: B, seed: options.seed, level, noRegimeFraction: noRegime / B, values: repD },
-  };
-}
-
-function estimatorCi(
-  reps: Float64Array,
-  estimate: number,
-  jack: Float64Array | null,
-  level: number,
-): EstimatorCI {
-  const bca = jack ? bcaInterval(reps, estimate, jack, level) : { interval: null, note: "not requested" };
-  return {
-    percentile: percentileInterval(reps, level),
-    bca: bca.interval,
-    bcaNote: bca.note,
-    standardError: standardDeviation(reps),
   };
 }
 
@@ -652,56 +510,6 @@ export async function thresholdSensitivity<T extends Record<string, number>>(
   return { base: { status: baseFit.status, D: baseFit.D, ci: baseFit.ci }, rows };
 }
 
-/** Unweighted least-squares line through (t_k, y_k), k = i1..i2 (two-pass, centred). */
-function lineFit(
-  t: Float64Array,
-  y: Float64Array,
-  i1: number,
-  i2: number,
-): { slope: number; intercept: number } {
-  const n = i2 - i1 + 1;
-  let st = 0;
-  let sy = 0;
-  for (let k = i1; k <= i2; k++) {
-    st += t[k];
-    sy += y[k];
-  }
-  const mt = st / n;
-  const my = sy / n;
-  let stt = 0;
-  let sty = 0;
-  for (let k = i1; k <= i2; k++) {
-    const dt = t[k] - mt;
-    stt += dt * dt;
-    sty += dt * (y[k] - my);
-  }
-  const slope = sty / stt;
-  return { slope, intercept: my - slope * mt };
-}
-
-function resolveRules(over: Partial<WindowRules> | undefined): WindowRules {
-  const r: WindowRules = { ...DEFAULT_WINDOW_RULES, ...over };
-  const bad = (msg: string): never => {
-    throw new RangeError(`window rules: ${msg}`);
-  };
-  if (!(r.pointsPerDecade >= 2 && Number.isFinite(r.pointsPerDecade))) {
-    bad(`pointsPerDecade must be ≥ 2, got ${r.pointsPerDecade}`);
-  }
-  if (!Number.isInteger(r.smoothingPoints) || r.smoothingPoints < 3 || r.smoothingPoints % 2 === 0) {
-    bad(`smoothingPoints must be an odd integer ≥ 3, got ${r.smoothingPoints}`);
-  }
-  if (!(r.crossoverAlpha > 0)) bad(`crossoverAlpha must be > 0, got ${r.crossoverAlpha}`);
-  if (!(r.startFactor >= 1)) bad(`startFactor must be ≥ 1, got ${r.startFactor}`);
-  if (!(r.alphaBand.length === 2 && r.alphaBand[0] < r.alphaBand[1])) {
-    bad(`alphaBand must be [lo, hi] with lo < hi, got [${r.alphaBand}]`);
-  }
-  if (!(r.minRatio >= 1)) bad(`minRatio must be ≥ 1, got ${r.minRatio}`);
-  if (!(r.mainCountFraction > 0 && r.mainCountFraction <= 1)) {
-    bad(`mainCountFraction must be in (0, 1], got ${r.mainCountFraction}`);
-  }
-  return r;
-}
-
 function validate(input: MsdEnsembleInput, options: DiffusionFitOptions): void {
   const d = options.dimension;
   if (d !== 2 && d !== 3) throw new RangeError(`dimension must be 2 or 3, got ${d}`);
@@ -742,8 +550,4 @@ function validate(input: MsdEnsembleInput, options: DiffusionFitOptions): void {
   check("counts", input.counts, false);
   check("rmsRadius", input.rmsRadius, true);
   check("mainCount", input.mainCount, false);
-}
-
-function fmt(x: number): string {
-  return Number.isFinite(x) ? Number(x.toPrecision(4)).toString() : String(x);
 }

@@ -1,12 +1,12 @@
 /**
  * The `evaporation` rows of `spindrift analyse`: how many objects evaporated by the end of the run, how fast
  * (t½ and the half-life rate) and what fraction of the vortex number (2D) or line length (3D) was lost, with
- * bootstrap intervals over realisations (`reports/analysis/evaporation.ts`).
+ * bootstrap intervals over realisations (`analysis/estimators/evaporation.ts`).
  */
 import type { DatabaseSync } from "node:sqlite";
-import { type EvaporationEstimate, evaporationSummary } from "../reports/analysis/evaporation.ts";
-import { isDatabaseError, readAlignedSeries } from "../store/reads.ts";
-import type { EnsembleResultInput } from "../store/ensemble.ts";
+import { type EvaporationEstimate, evaporationSummary } from "../estimators/evaporation.ts";
+import { isDatabaseError, readAlignedSeries } from "../../store/reads.ts";
+import type { EnsembleResultInput } from "../../store/ensemble.ts";
 
 type Push = (analysis: string, name: string, e: Partial<EnsembleResultInput>) => void;
 

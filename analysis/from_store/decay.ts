@@ -1,5 +1,5 @@
 /**
- * χ₂ from a homogeneous-decay study (methods §5.2): the line density L(t) of a tangle decaying in a periodic
+ * χ₂ from a homogeneous-decay study (docs/methods.md §5.2): the line density L(t) of a tangle decaying in a periodic
  * box, averaged over realisations, follows Vinen's free decay L₀/(1 + χ₂κL₀t/2π) [47], so 1/L is linear in t
  * with slope χ₂κ/2π; the late-time part is fitted (`fitVinenDecay`) with a bootstrap interval over
  * realisations. The decay study must use a periodic domain (so the density is total length / box volume, or in
@@ -7,16 +7,17 @@
  *
  * References: W.F. Vinen, Proc. R. Soc. A 242, 493 (1957), doi:10.1098/rspa.1957.0191 [47].
  */
-import { findEngine } from "../engines/registry.ts";
+import { findEngine } from "../../engines/registry.ts";
 import {
   openStoreReadOnly,
   readAlignedSeries,
   readRealisations,
   readStudy,
   readStudyPoints,
-} from "../store/reads.ts";
-import { fitVinenDecay } from "../reports/analysis/mod.ts";
-import { AnalysisInputError } from "./analyse.ts";
+} from "../../store/reads.ts";
+import { fitVinenDecay } from "../estimators/mod.ts";
+import { AnalysisInputError } from "../errors.ts";
+import type { Chi2Source } from "../options.ts";
 
 export interface Chi2Estimate {
   readonly chi2: number;
@@ -26,6 +27,8 @@ export interface Chi2Estimate {
   readonly realisations: number;
   /** One line saying where the value comes from. */
   readonly source: string;
+  /** The same as data, for the stored record (database path as given, study name and hash, series). */
+  readonly provenance: Chi2Source & { readonly kind: "decay-study" };
 }
 
 function isRecord(v: unknown): v is Record<string, unknown> {
@@ -77,9 +80,21 @@ export function chi2FromDecayStudy(
       fromTime: opts.fromTime,
     });
     const ci = fit.ci?.bca ?? fit.ci?.percentile ?? null;
+    const interval = ci ? [ci.lower, ci.upper] as const : null;
     return {
+      provenance: {
+        kind: "decay-study",
+        path: dbPath,
+        studyName: study.name,
+        studyHash: study.studyHash,
+        chi2: fit.chi2,
+        interval,
+        realisations: ids.length,
+        fromTime: fit.window.t1,
+        series: seriesName,
+      },
       chi2: fit.chi2,
-      interval: ci ? [ci.lower, ci.upper] : null,
+      interval,
       fromTime: fit.window.t1,
       realisations: ids.length,
       source:

@@ -14,9 +14,9 @@
  * References: P.G. Saffman, Vortex Dynamics (CUP 1992) §7.1–7.3, doi:10.1017/CBO9780511624063 (point-vortex
  * velocity); J.B. Weiss, J.C. McWilliams, Phys. Fluids A 3, 835 (1991), doi:10.1063/1.858014 (periodic box).
  */
-import type { VelocityField } from "../reports/analysis/correlations.ts";
-import { velocityDisk, velocityUnbounded } from "../engines/point-vortex/velocity.ts";
-import { velocityPeriodic } from "../engines/point-vortex/periodic.ts";
+import type { VelocityField } from "../estimators/correlations.ts";
+import { velocityDisk, velocityUnbounded } from "../../engines/point-vortex/velocity.ts";
+import { velocityPeriodic } from "../../engines/point-vortex/periodic.ts";
 
 /** The flow domain of a parameter point, as far as the analysis knows it. */
 export interface DomainInfo {

@@ -73,6 +73,42 @@ export interface BootstrapResult {
   readonly bcaNote: string | null;
 }
 
+/** Confidence intervals of one estimator from its bootstrap replicates. */
+export interface EstimatorCI {
+  readonly percentile: Interval | null;
+  readonly bca: Interval | null;
+  readonly bcaNote: string | null;
+  /** Bootstrap standard error (sd of the defined replicates). */
+  readonly standardError: number | null;
+}
+
+/** Percentile and (with jackknife values) BCa intervals and the standard error of replicates `reps`. */
+export function estimatorCi(
+  reps: ArrayLike<number>,
+  estimate: number,
+  jack: ArrayLike<number> | null,
+  level: number,
+): EstimatorCI {
+  const bca = jack ? bcaInterval(reps, estimate, jack, level) : { interval: null, note: "not requested" };
+  return {
+    percentile: percentileInterval(reps, level),
+    bca: bca.interval,
+    bcaNote: bca.note,
+    standardError: standardDeviation(reps),
+  };
+}
+
+/** The interval to show: BCa where defined, else percentile (null bounds without either). */
+export function pickInterval(ci: EstimatorCI | null): {
+  lower: number | null;
+  upper: number | null;
+  method: "bca" | "percentile" | null;
+} {
+  if (ci?.bca) return { lower: ci.bca.lower, upper: ci.bca.upper, method: "bca" };
+  if (ci?.percentile) return { lower: ci.percentile.lower, upper: ci.percentile.upper, method: "percentile" };
+  return { lower: null, upper: null, method: null };
+}
+
 /** Fills `out` with n = out.length indices drawn uniformly with replacement from [0, n). */
 export function resampleIndices(rng: RandomStream, out: Int32Array): Int32Array {
   const n = out.length;

@@ -1,11 +1,11 @@
-import { assert, assertClose } from "../test/_assert.ts";
-import { StudyStore } from "../store/db.ts";
-import { filamentParamsSchema } from "../engines/filament/mod.ts";
-import { RandomStream } from "../engines/random.ts";
-import { chi2FromDecayStudy } from "./_analyse_decay.ts";
-import { AnalysisInputError } from "./analyse.ts";
-import { tempFile } from "../test/_tmp.ts";
-import { recordOnePointStudy } from "../store/_testing.ts";
+import { assert, assertClose } from "../../test/_assert.ts";
+import { StudyStore } from "../../store/db.ts";
+import { filamentParamsSchema } from "../../engines/filament/mod.ts";
+import { RandomStream } from "../../engines/random.ts";
+import { chi2FromDecayStudy } from "./decay.ts";
+import { AnalysisInputError } from "../errors.ts";
+import { tempFile } from "../../test/_tmp.ts";
+import { recordOnePointStudy } from "../../store/_testing.ts";
 
 /** Writes a decay-study database whose line length follows Vinen's free decay (with 1 % noise per sample). */
 function decayDb(chi2: number, periodic = true): string {
