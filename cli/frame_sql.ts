@@ -73,5 +73,15 @@ export function registerFrameViews(db: DatabaseSync): void {
     if (typeof layout !== "string" || !(data instanceof Uint8Array)) return null;
     return frameJson(layout, data, Number(n));
   });
-  db.exec(VIEW);
+  // A read-only folder's database is an in-memory copy with query_only on, which also refuses temporary views:
+  // lift it for this one statement (the copy is never written back).
+  const queryOnly = Number(
+    (db.prepare("PRAGMA query_only").get() as { query_only?: number })?.query_only ?? 0,
+  );
+  if (queryOnly) db.exec("PRAGMA query_only = OFF");
+  try {
+    db.exec(VIEW);
+  } finally {
+    if (queryOnly) db.exec("PRAGMA query_only = ON");
+  }
 }

@@ -2,6 +2,7 @@ import { DatabaseSync } from "node:sqlite";
 import { assert, assertEquals } from "../test/_assert.ts";
 import { normalizeText, runForTest } from "../test/_study.ts";
 import { finished, readStatus, statusCommand } from "./status.ts";
+import { tempDir } from "../test/_tmp.ts";
 
 const STUDY = `
 name: status-small
@@ -18,7 +19,7 @@ run: { duration: 0.2, sampleInterval: 0.1 }
 
 /** A database with point 0 complete and point 1 missing one realisation and running another. */
 async function partlyRun(): Promise<string> {
-  const dir = await Deno.makeTempDir({ prefix: "spindrift-status-" });
+  const dir = tempDir("spindrift-status-");
   const dbPath = `${dir}/status-small.sqlite`;
   await runForTest(normalizeText(STUDY), dbPath, 1);
   const db = new DatabaseSync(dbPath);
