@@ -39,7 +39,7 @@ import { FilamentSimulation, type SimulationConfig } from "./simulation.ts";
 import { SegmentTree } from "./tree.ts";
 import type { NormalFlow } from "./velocity.ts";
 
-const ENGINE_VERSION = "1.0.0";
+const ENGINE_VERSION = "2.0.0";
 
 /** The 3D vortex-filament engine. */
 export const filamentEngine: Engine<FilamentParams> = {
