@@ -184,6 +184,7 @@ export function simulationConfig(
       treeThreshold: nm.treeThreshold,
       theta: nm.theta,
       leafSize: nm.leafSize,
+      fmm: nm.fmm,
       boxSize: r.boxSize,
       alpha: r.alpha,
       alphaPrime: r.alphaPrime,
@@ -283,9 +284,7 @@ function runWithLoops(
   const diag = () => {
     const s = sim.state;
     computeGeometry(s.n, s.x, s.y, s.z, s.next, s.prev, L, sim.geo);
-    const v = cfg.velocity;
-    const useTree = v.summation === "tree" || (v.summation === "auto" && s.n >= v.treeThreshold) ||
-      (L > 0 && s.n > 1500);
+    const useTree = sim.field.usesTree(s.n) || (L > 0 && s.n > 1500);
     const e = s.n === 0 ? 0 : energy(s, sim.geo, {
       kappa,
       coreRadius: cfg.velocity.coreRadius,

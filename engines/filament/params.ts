@@ -18,6 +18,7 @@
  */
 import { z } from "zod";
 import { heliumAt, HeliumRangeError } from "./helium.ts";
+import { FMM_DEFAULTS } from "./velocity.ts";
 
 /** κ of ⁴He, m²/s: h/m₄ from CODATA 2018 h and the ⁴He atomic mass (check-values §0). */
 export const KAPPA_HE4 = 9.9693e-8;
@@ -138,6 +139,21 @@ const domainSchema = z.discriminatedUnion("kind", [
   }).describe("periodic cube: minimum image plus the 26 neighbouring images"),
 ]);
 
+const fmmSchema = z.strictObject({
+  order: z.number().int().min(3).max(6).default(FMM_DEFAULTS.order).describe(
+    "expansion order p of the fast multipole method (dimensionless; error ∝ θ^p)",
+  ),
+  theta: z.number().gt(0).lt(1).default(FMM_DEFAULTS.theta).describe(
+    "FMM opening parameter: cells interact through expansions when r_target + r_source < θ·distance " +
+      "(dimensionless)",
+  ),
+  leafSize: z.number().int().min(1).max(256).default(FMM_DEFAULTS.leafSize).describe(
+    "maximum segments per FMM tree leaf (a count, dimensionless)",
+  ),
+}).describe(
+  "fast multipole settings (defaults: 99th-percentile velocity error ≈ 3e-4 v_rms on dense ring tangles)",
+);
+
 const numericsSchema = z.strictObject({
   minSpacingFactor: z.number().gt(0).lt(1).default(0.5).describe("δ_min/δ (dimensionless)"),
   reconnectionFactor: z.number().gt(0).max(1).default(0.5).describe(
@@ -146,16 +162,18 @@ const numericsSchema = z.strictObject({
   dtFactor: z.number().positive().max(6).default(3).describe(
     "c in dt = c·h_min²/(κΛ), Λ = ln(h_max/a₀) (dimensionless; RK4 stability needs c ≲ 6.7)",
   ),
-  summation: z.enum(["auto", "direct", "tree"]).default("auto").describe(
-    "nonlocal Biot–Savart sum: direct O(N²), Barnes–Hut tree, or tree from treeThreshold points on",
+  summation: z.enum(["auto", "direct", "tree", "fmm"]).default("auto").describe(
+    "nonlocal Biot–Savart sum: direct O(N²), Barnes–Hut tree, fast multipole method (unbounded domain; " +
+      "a periodic box uses the tree), or auto = FMM (periodic: tree) from treeThreshold points on",
   ),
   treeThreshold: z.number().int().min(1).default(2000).describe(
-    "points from which `auto` uses the tree (a count, dimensionless)",
+    "points from which `auto` uses the FMM or tree (a count, dimensionless)",
   ),
   theta: z.number().gt(0).max(1).default(0.4).describe("tree opening parameter θ (dimensionless)"),
   leafSize: z.number().int().min(1).max(64).default(16).describe(
     "maximum segments per tree leaf (a count, dimensionless)",
   ),
+  fmm: fmmSchema.default(FMM_DEFAULTS),
   markerEvery: z.number().int().min(1).max(64).default(6).describe(
     "one Lagrangian marker every m initial points (a count, dimensionless)",
   ),
@@ -194,6 +212,7 @@ export const filamentParamsSchema = z.strictObject({
     treeThreshold: 2000,
     theta: 0.4,
     leafSize: 16,
+    fmm: FMM_DEFAULTS,
     markerEvery: 6,
     maxPoints: 200000,
   }),

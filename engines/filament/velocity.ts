@@ -17,15 +17,16 @@
  *
  * @example
  * ```ts
- * import { VelocityField } from "./velocity.ts";
+ * import { FMM_DEFAULTS, VelocityField } from "./velocity.ts";
  * const field = new VelocityField({ kappa: 1, coreRadius: 1e-4, model: "biot-savart", summation: "direct",
- *   treeThreshold: 2048, theta: 0.4, leafSize: 8, boxSize: 0, alpha: 0, alphaPrime: 0,
+ *   treeThreshold: 2048, theta: 0.4, leafSize: 8, fmm: FMM_DEFAULTS, boxSize: 0, alpha: 0, alphaPrime: 0,
  *   normal: { kind: "rest" } });
  * // field.evaluate(n, x, y, z, next, prev, vx, vy, vz);
  * ```
  */
 import { addLiaTerm, addLocalTerm, nonlocalDirect, nonlocalDirectPeriodic } from "./biot_savart.ts";
 import { computeGeometry, Geometry } from "./geometry.ts";
+import { SegmentFmm } from "./fmm.ts";
 import { SegmentTree } from "./tree.ts";
 
 /** Prescribed normal-fluid velocity field. */
@@ -47,13 +48,18 @@ export interface VelocityConfig {
   /** Core parameter a₀ (length). */
   readonly coreRadius: number;
   readonly model: "biot-savart" | "lia";
-  /** Nonlocal sum: direct, tree, or tree when n ≥ treeThreshold. */
-  readonly summation: "direct" | "tree" | "auto";
+  /**
+   * Nonlocal sum: direct; Barnes–Hut tree; fast multipole method (unbounded domain; the tree in a periodic
+   * box); or auto = the FMM (periodic: the tree) when n ≥ treeThreshold, else direct.
+   */
+  readonly summation: "direct" | "tree" | "fmm" | "auto";
   readonly treeThreshold: number;
   /** Barnes–Hut opening parameter θ. */
   readonly theta: number;
   /** Maximum segments per tree leaf. */
   readonly leafSize: number;
+  /** Fast multipole settings: expansion order p, opening parameter θ (r_T + b_S < θd), leaf size. */
+  readonly fmm: FmmSettings;
   /** Periodic cube side, 0 for unbounded. */
   readonly boxSize: number;
   readonly alpha: number;
@@ -61,12 +67,23 @@ export interface VelocityConfig {
   readonly normal: NormalFlow;
 }
 
+/** Settings of the fast multipole method (`fmm.ts`). */
+export interface FmmSettings {
+  readonly order: number;
+  readonly theta: number;
+  readonly leafSize: number;
+}
+
+/** FMM settings that keep the 99th-percentile error near 3e-4 v_rms on dense ring tangles (fmm_test.ts). */
+export const FMM_DEFAULTS: FmmSettings = { order: 5, theta: 0.45, leafSize: 32 };
+
 /** Evaluates the velocity of all points; owns its geometry and tree work arrays. */
 export class VelocityField {
   readonly config: VelocityConfig;
   /** Geometry of the last evaluation. */
   readonly geo = new Geometry();
   readonly tree = new SegmentTree();
+  private fmmEngine: SegmentFmm | null = null;
   /** Pair interactions (segment–point and cell–point) of the last evaluation. */
   interactions = 0;
 
@@ -74,11 +91,27 @@ export class VelocityField {
     this.config = config;
   }
 
-  /** True when the nonlocal sum of n points would use the tree. */
-  usesTree(n: number): boolean {
+  /** The nonlocal summation method used for n points. */
+  method(n: number): "direct" | "tree" | "fmm" | "none" {
     const c = this.config;
-    return c.model === "biot-savart" &&
-      (c.summation === "tree" || (c.summation === "auto" && n >= c.treeThreshold));
+    if (c.model !== "biot-savart") return "none";
+    const fast = c.summation === "tree" || c.summation === "fmm" ||
+      (c.summation === "auto" && n >= c.treeThreshold);
+    if (!fast) return "direct";
+    if (c.boxSize > 0 || c.summation === "tree") return "tree";
+    return "fmm";
+  }
+
+  /** True when the nonlocal sum of n points would use a tree method (Barnes–Hut or FMM). */
+  usesTree(n: number): boolean {
+    const m = this.method(n);
+    return m === "tree" || m === "fmm";
+  }
+
+  /** The FMM of this field (created on first use). */
+  get fmm(): SegmentFmm {
+    this.fmmEngine ??= new SegmentFmm(this.config.fmm.order);
+    return this.fmmEngine;
   }
 
   /** Writes ds/dt of the n points into (vx, vy, vz). */
@@ -104,7 +137,11 @@ export class VelocityField {
       this.interactions = 0;
     } else {
       addLocalTerm(n, prev, g.tx, g.ty, g.tz, g.cx, g.cy, g.cz, g.len, cf, c.coreRadius, vx, vy, vz);
-      if (this.usesTree(n)) {
+      const method = this.method(n);
+      if (method === "fmm") {
+        this.tree.build(n, x, y, z, g.dx, g.dy, g.dz, g.len, 0, c.fmm.leafSize);
+        this.interactions = this.fmm.velocity(this.tree, n, x, y, z, prev, cf, c.fmm.theta, vx, vy, vz);
+      } else if (method === "tree") {
         this.tree.build(n, x, y, z, g.dx, g.dy, g.dz, g.len, L, c.leafSize);
         this.interactions = this.tree.velocity(n, x, y, z, prev, cf, c.theta, vx, vy, vz);
       } else if (L > 0) {
