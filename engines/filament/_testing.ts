@@ -1,7 +1,7 @@
 /**
  * Shared fixtures of the filament tests (private): simulation configurations and simple measurements.
  */
-import { FilamentSimulation, type SimulationConfig } from "./simulation.ts";
+import { FilamentSimulation, INTEGRATOR_DEFAULTS, type SimulationConfig } from "./simulation.ts";
 import { type Loop, ringCloud } from "./initial.ts";
 import { computeGeometry, Geometry } from "./geometry.ts";
 import { FilamentState, IdCounters } from "./state.ts";
@@ -57,6 +57,7 @@ export function simConfig(
     maxDistance: 1e9,
     maxPoints: 1e6,
     minStep: 0,
+    integrator: INTEGRATOR_DEFAULTS,
     ...over,
   };
   return c;

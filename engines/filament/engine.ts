@@ -202,6 +202,7 @@ export function simulationConfig(
     maxDistance,
     maxPoints: nm.maxPoints,
     minStep: 1e-12 * sampleInterval,
+    integrator: nm.integrator,
   };
 }
 

@@ -19,6 +19,7 @@
 import { z } from "zod";
 import { heliumAt, HeliumRangeError } from "./helium.ts";
 import { FMM_DEFAULTS } from "./velocity.ts";
+import { INTEGRATOR_DEFAULTS } from "./simulation.ts";
 
 /** κ of ⁴He, m²/s: h/m₄ from CODATA 2018 h and the ⁴He atomic mass (check-values §0). */
 export const KAPPA_HE4 = 9.9693e-8;
@@ -154,6 +155,25 @@ const fmmSchema = z.strictObject({
   "fast multipole settings (defaults: 99th-percentile velocity error ≈ 3e-4 v_rms on dense ring tangles)",
 );
 
+const integratorSchema = z.strictObject({
+  kind: z.enum(["multirate", "rk4"]).default(INTEGRATOR_DEFAULTS.kind).describe(
+    "multirate: one nonlocal (far-field) evaluation per step, extrapolated in time, with the local term and " +
+      "the near field in RK4 substeps; rk4: classical RK4 on the whole right-hand side (4 nonlocal " +
+      "evaluations per step). The LIA model always uses rk4",
+  ),
+  order: z.number().int().min(1).max(4).default(INTEGRATOR_DEFAULTS.order).describe(
+    "multirate: order of the time extrapolation of the far field (= order of accuracy; dimensionless)",
+  ),
+  slowFactor: z.number().min(1).max(2).default(INTEGRATOR_DEFAULTS.slowFactor).describe(
+    "multirate: step limit as a multiple of the local term's stable step c·h_min²/(κΛ) (dimensionless; " +
+      "the advective limit applies as well)",
+  ),
+  window: z.number().min(1).max(4).default(INTEGRATOR_DEFAULTS.window).describe(
+    "multirate: near-field window r_w/δ — segments within r_w are integrated with the local term, " +
+      "tapering to none at 2r_w (dimensionless)",
+  ),
+}).describe("time integration (defaults: multirate, order 4)");
+
 const numericsSchema = z.strictObject({
   minSpacingFactor: z.number().gt(0).lt(1).default(0.5).describe("δ_min/δ (dimensionless)"),
   reconnectionFactor: z.number().gt(0).max(1).default(0.5).describe(
@@ -174,6 +194,7 @@ const numericsSchema = z.strictObject({
     "maximum segments per tree leaf (a count, dimensionless)",
   ),
   fmm: fmmSchema.default(FMM_DEFAULTS),
+  integrator: integratorSchema.default(INTEGRATOR_DEFAULTS),
   markerEvery: z.number().int().min(1).max(64).default(6).describe(
     "one Lagrangian marker every m initial points (a count, dimensionless)",
   ),
@@ -213,6 +234,7 @@ export const filamentParamsSchema = z.strictObject({
     theta: 0.4,
     leafSize: 16,
     fmm: FMM_DEFAULTS,
+    integrator: INTEGRATOR_DEFAULTS,
     markerEvery: 6,
     maxPoints: 200000,
   }),

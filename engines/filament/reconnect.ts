@@ -271,16 +271,22 @@ export class Reconnector {
     return Math.max(id[pa[p]], id[pb[p]]) - Math.max(id[pa[q]], id[pb[q]]);
   };
 
-  /** Marks point s and its neighbours up to BLOCK_RADIUS links away (both directions) as used this step. */
+  /**
+   * Marks point s and its neighbours up to BLOCK_RADIUS links away (both directions) as used this step, and
+   * clears their integrator memory (their nonlocal velocity jumps with the new connectivity).
+   */
   private block(state: FilamentState, s: number): void {
-    const used = this.used;
+    const used = this.used, hc = state.histCount;
     used[s] = 1;
+    hc[s] = 0;
     let a = s, b = s;
     for (let k = 0; k < BLOCK_RADIUS; k++) {
       a = state.next[a];
       b = state.prev[b];
       used[a] = 1;
       used[b] = 1;
+      hc[a] = 0;
+      hc[b] = 0;
     }
   }
 

@@ -27,7 +27,7 @@
  * ```
  */
 import type { Geometry } from "./geometry.ts";
-import type { FilamentState, IdCounters } from "./state.ts";
+import { type FilamentState, HIST_STRIDE, type IdCounters } from "./state.ts";
 
 export interface RemeshOptions {
   /** δ_min (length). */
@@ -207,6 +207,13 @@ export function remesh(
       state.z[s] = pz;
       state.id[s] = ids.point();
       state.loopOf[s] = state.loopOf[i];
+      // Integrator memory: interpolated along the segment (the slow velocity is smooth along the line).
+      const hc = Math.min(state.histCount[i], state.histCount[j]);
+      state.histCount[s] = hc;
+      if (hc > 0) {
+        const h = state.hist, bs = s * HIST_STRIDE, bi = i * HIST_STRIDE, bj = j * HIST_STRIDE;
+        for (let k = 0; k < HIST_STRIDE; k++) h[bs + k] = (1 - tau) * h[bi + k] + tau * h[bj + k];
+      }
       state.next[last] = s;
       state.prev[s] = last;
       last = s;

@@ -1,11 +1,11 @@
 /**
- * One filament simulation: state, RK4 time stepping, and the topology work done between full steps
- * (heater absorption, remeshing, reconnection, loop removal), with every event reported.
+ * One filament simulation: state, time stepping (classical RK4 or a multirate scheme), and the topology work
+ * done between full steps (heater absorption, remeshing, reconnection, loop removal), with every event reported.
  *
  * Step sequence (one call of `advance`):
  *   1. k₁ = f(s) at the current positions; choose dt = min(dtMax, c·h_min²/(κΛ), δ_r/(2 v_max)) with h_min the
  *      smallest spacing, Λ = max(1, ln(h_max/a₀)) and v_max the largest |k₁|;
- *   2. classical RK4 with fixed topology (stages k₂…k₄);
+ *   2. integration over dt with fixed topology (RK4: stages k₂…k₄; multirate: see below);
  *   3. wrap positions into the periodic box (image counters), NaN and blow-up guards;
  *   4. heater absorption (points with r < r_h deleted) and remeshing, then compaction (tiny loops < 5 points
  *      or < 3δ removed, far loops removed);
@@ -14,12 +14,29 @@
  * Method (dt): linearising the local term about a straight line gives Kelvin waves ω = (κΛ/4π)k²; the 5-point
  * stencil's largest k² is 16/(3h²) (zig-zag mode), and RK4 is stable on the imaginary axis for |ωdt| ≤ 2.83, so
  * dt ≤ 6.7 h²/(κΛ); the default c = 3 keeps a factor ≈ 2 margin for non-uniform stencils (methods §2.4,
- * derived there; the zig-zag test checks it). The advective limit keeps approaching lines from passing through
- * each other between reconnection checks.
+ * derived there; the zig-zag test checks it). Remeshing keeps h_min ≥ δ_min (`remesh.ts`). The advective limit
+ * keeps approaching lines from passing through each other between reconnection checks.
+ *
+ * Method (multirate). The right-hand side splits into a cheap, stiff part — the local term with the fixed
+ * coefficient (κ/4π)ln(2δ/(e^{1/4}a₀)), the windowed near field of segments within 2r_w (`near.ts`), external
+ * flow and friction — and the expensive far field S = v_nonlocal − v_near + (κ/4π)ln(√(ℓ₋ℓ₊)/δ) s′×s″ (the
+ * last term moves the spacing dependence of the local term into S, so S is smooth along the line and
+ * interpolates well onto points inserted by remeshing). S is evaluated once per step at the step's start
+ * (one tree/FMM sum instead of RK4's four) and stored per point; inside the step each point's S is the
+ * Lagrange extrapolation through its last `order` values (an Adams–Bashforth-type predictor), while the
+ * cheap part is integrated with RK4 substeps of at most the stable step. The global order equals `order`
+ * (checked by the self-convergence test). Memory follows the points: remeshing interpolates it onto new
+ * points; reconnections and heater absorption clear it for the points within 4 links, which restart at
+ * order 1; the first steps are classical RK4 steps until `order` levels exist. The far field, once the near
+ * window is removed, hardly responds to mesh-scale oscillations, so its extrapolation is stable at the local
+ * term's stable step (and up to 2× it, measured on the zig-zag test); larger ratios alias the fast Kelvin
+ * modes into the extrapolation and grow.
  *
  * References: K.W. Schwarz, Phys. Rev. B 38, 2398 (1988), doi:10.1103/PhysRevB.38.2398; D.R. Durran,
  * Numerical Methods for Fluid Dynamics, 2nd ed. (Springer, 2010), doi:10.1007/978-1-4419-6412-0 (RK4 stability
- * region).
+ * region); E. Hairer, S.P. Nørsett, G. Wanner, Solving Ordinary Differential Equations I, 2nd ed. (Springer,
+ * 1993) §III.1 (Adams methods, variable steps); C.W. Gear, D.R. Wells, "Multirate linear multistep methods",
+ * BIT 24, 484 (1984), doi:10.1007/BF01934907 (multirate stepping).
  *
  * @example
  * ```ts
@@ -35,7 +52,9 @@ import { Reconnector } from "./reconnect.ts";
 import type { ReconnectionRecord, ReconnectOptions } from "./reconnect.ts";
 import { remesh } from "./remesh.ts";
 import type { MarkerTransfer, RemeshOptions } from "./remesh.ts";
-import { compactInto, FilamentState, IdCounters, RemovalReason } from "./state.ts";
+import { compactInto, FilamentState, HIST_LEVELS, HIST_STRIDE, IdCounters, RemovalReason } from "./state.ts";
+import { E_QUARTER } from "./biot_savart.ts";
+import { NearField } from "./near.ts";
 import type { CompactOptions, RemovedLoop } from "./state.ts";
 import { type VelocityConfig, VelocityField } from "./velocity.ts";
 
@@ -64,7 +83,27 @@ export interface SimulationConfig {
   readonly maxPoints: number;
   /** EngineFailure("step-underflow") when the chosen step falls below this (time). */
   readonly minStep: number;
+  /** Time integration (see module doc). */
+  readonly integrator: IntegratorConfig;
 }
+
+/**
+ * Time integrator: classical RK4 on the whole right-hand side, or the multirate scheme (module doc) with
+ * polynomial extrapolation of the given order for the nonlocal velocity and the slow step limited to
+ * `slowFactor` times the local term's stable step.
+ */
+export type IntegratorConfig =
+  | { readonly kind: "rk4" }
+  | {
+    readonly kind: "multirate";
+    readonly order: number;
+    readonly slowFactor: number;
+    /** Near-field window radius r_w in units of δ (the fast part sums segments within 2r_w). */
+    readonly window: number;
+  };
+
+/** Default integrator: multirate, order 4, steps at the local term's stable step, window 2δ. */
+export const INTEGRATOR_DEFAULTS = { kind: "multirate", order: 4, slowFactor: 1, window: 2 } as const;
 
 /** Filament simulation state and stepper (see module doc). */
 export class FilamentSimulation {
@@ -189,6 +228,10 @@ export class FilamentSimulation {
       return dtMax;
     }
     this.ensure(n);
+    const integ = this.config.integrator;
+    if (integ.kind === "multirate" && this.config.velocity.model === "biot-savart") {
+      return this.advanceMultirate(dtMax, fixedDt, integ.order, integ.slowFactor, integ.window);
+    }
     const { x0, y0, z0, xs, ys, zs, kx, ky, kz, ax, ay, az } = this;
     const f = this.field;
     f.evaluate(n, s.x, s.y, s.z, s.next, s.prev, kx, ky, kz);
@@ -247,6 +290,206 @@ export class FilamentSimulation {
       s.y[i] = y0[i] + h6 * (ay[i] + ky[i]);
       s.z[i] = z0[i] + h6 * (az[i] + kz[i]);
     }
+    this.t += dt;
+    this.steps++;
+    this.lastDt = dt;
+    this.wrapAndGuard();
+    this.topology(false);
+    return dt;
+  }
+
+  // ---- multirate stepping -------------------------------------------------------------------------------
+  /** Physical history slot of the newest slow level, number of valid global levels, and their times. */
+  private hHead = 0;
+  private hLevels = 0;
+  private readonly hTimes = new Float64Array(HIST_LEVELS);
+  /** Extrapolation weights: row o − 1 (order o = 1…HIST_LEVELS), column j = level j (0 newest). */
+  private readonly hWeights = new Float64Array(HIST_LEVELS * HIST_LEVELS);
+  /** Slot of level j. */
+  private readonly hSlot = new Int32Array(HIST_LEVELS);
+  private readonly near = new NearField();
+  /** Slow (nonlocal) evaluations and fast substeps of the last step. */
+  lastSubsteps = 0;
+  slowEvaluations = 0;
+
+  /**
+   * Evaluates the slow velocity S = v_nonlocal + (κ/4π) ln(√(ℓ₋ℓ₊)/δ) s′×s″ at the current positions and pushes
+   * it as the newest level of every point's integrator memory (time t).
+   */
+  private pushSlowLevel(window: number): void {
+    const s = this.state, n = s.n, f = this.field, g = f.geo;
+    const v = this.config.velocity;
+    computeGeometry(n, s.x, s.y, s.z, s.next, s.prev, v.boxSize, g);
+    const { kx, ky, kz } = this;
+    for (let i = 0; i < n; i++) kx[i] = ky[i] = kz[i] = 0;
+    f.addNonlocal(n, s.x, s.y, s.z, s.prev, kx, ky, kz);
+    this.slowEvaluations++;
+    const cf = v.kappa / (4 * Math.PI);
+    // Near field (fast part): Verlet list with a skin of δ_r (no pair approaches by more within a step).
+    this.near.build(
+      n,
+      s.x,
+      s.y,
+      s.z,
+      s.next,
+      s.prev,
+      v.boxSize,
+      window * this.config.resolution,
+      this.config.reconnectionDistance,
+    );
+    this.near.add(n, s.x, s.y, s.z, g.dx, g.dy, g.dz, -cf, kx, ky, kz);
+    const inv = 1 / this.config.resolution;
+    this.hHead = (this.hHead + 1) % HIST_LEVELS;
+    this.hTimes[this.hHead] = this.t;
+    this.hLevels = Math.min(this.hLevels + 1, HIST_LEVELS);
+    const { tx, ty, tz, cx, cy, cz, len } = g;
+    const h = s.hist, hc = s.histCount, prev = s.prev;
+    const o = 3 * this.hHead;
+    for (let i = 0; i < n; i++) {
+      const corr = cf * Math.log(Math.sqrt(len[i] * len[prev[i]]) * inv);
+      const b = i * HIST_STRIDE + o;
+      h[b] = kx[i] + corr * (ty[i] * cz[i] - tz[i] * cy[i]);
+      h[b + 1] = ky[i] + corr * (tz[i] * cx[i] - tx[i] * cz[i]);
+      h[b + 2] = kz[i] + corr * (tx[i] * cy[i] - ty[i] * cx[i]);
+      hc[i] = Math.min(hc[i] + 1, HIST_LEVELS);
+    }
+  }
+
+  /** Lagrange extrapolation weights of the slow levels at time tau, for every order ≤ hLevels. */
+  private extrapolationWeights(tau: number): void {
+    const K = HIST_LEVELS, w = this.hWeights, T = this.hTimes, slot = this.hSlot;
+    for (let j = 0; j < K; j++) slot[j] = (this.hHead - j + K) % K;
+    for (let o = 1; o <= this.hLevels; o++) {
+      for (let j = 0; j < o; j++) {
+        let p = 1;
+        const tj = T[slot[j]];
+        for (let m = 0; m < o; m++) if (m !== j) p *= (tau - T[slot[m]]) / (tj - T[slot[m]]);
+        w[(o - 1) * K + j] = p;
+      }
+    }
+  }
+
+  /**
+   * Fast right-hand side at positions (px, py, pz) and time tau: the local term with the fixed coefficient
+   * (κ/4π) ln(2δ/(e^{1/4}a₀)), plus each point's extrapolated slow velocity, then external flow and friction.
+   */
+  private fastRhs(
+    px: Float64Array,
+    py: Float64Array,
+    pz: Float64Array,
+    tau: number,
+    order: number,
+    vx: Float64Array,
+    vy: Float64Array,
+    vz: Float64Array,
+  ): void {
+    const s = this.state, n = s.n, f = this.field, g = f.geo;
+    const v = this.config.velocity;
+    computeGeometry(n, px, py, pz, s.next, s.prev, v.boxSize, g);
+    this.extrapolationWeights(tau);
+    const cfast = v.kappa / (4 * Math.PI) * Math.log(2 * this.config.resolution / (E_QUARTER * v.coreRadius));
+    const { tx, ty, tz, cx, cy, cz } = g;
+    const h = s.hist, hc = s.histCount, w = this.hWeights, slot = this.hSlot;
+    const K = HIST_LEVELS;
+    for (let i = 0; i < n; i++) vx[i] = vy[i] = vz[i] = 0;
+    this.near.add(n, px, py, pz, g.dx, g.dy, g.dz, v.kappa / (4 * Math.PI), vx, vy, vz);
+    for (let i = 0; i < n; i++) {
+      const o = Math.min(hc[i], order);
+      let sx = 0, sy = 0, sz = 0;
+      const b = i * HIST_STRIDE;
+      for (let j = 0; j < o; j++) {
+        const wj = w[(o - 1) * K + j];
+        const q = b + 3 * slot[j];
+        sx += wj * h[q];
+        sy += wj * h[q + 1];
+        sz += wj * h[q + 2];
+      }
+      vx[i] += cfast * (ty[i] * cz[i] - tz[i] * cy[i]) + sx;
+      vy[i] += cfast * (tz[i] * cx[i] - tx[i] * cz[i]) + sy;
+      vz[i] += cfast * (tx[i] * cy[i] - ty[i] * cx[i]) + sz;
+    }
+    f.finish(n, px, py, vx, vy, vz);
+  }
+
+  /**
+   * One multirate step (module doc): one slow evaluation, then RK4 substeps of the fast system. While fewer
+   * than `order` slow levels exist (start), the step is a classical RK4 step with full evaluations.
+   */
+  private advanceMultirate(
+    dtMax: number,
+    fixedDt: boolean,
+    order: number,
+    slowFactor: number,
+    window: number,
+  ): number {
+    const s = this.state;
+    const n = s.n;
+    const f = this.field;
+    const { x0, y0, z0, xs, ys, zs, kx, ky, kz, ax, ay, az } = this;
+    this.pushSlowLevel(window);
+    const starting = this.hLevels < order;
+    // First stage (t_n): the full right-hand side, equal to the classical one.
+    this.fastRhs(s.x, s.y, s.z, this.t, order, kx, ky, kz);
+    const fast = this.stableStepFrom(f.geo, n);
+    let dt = dtMax;
+    if (!fixedDt) {
+      let v2 = 0;
+      for (let i = 0; i < n; i++) {
+        const q = kx[i] * kx[i] + ky[i] * ky[i] + kz[i] * kz[i];
+        if (q > v2) v2 = q;
+      }
+      if (Number.isNaN(v2)) throw new EngineFailure("nan", `non-finite velocity at t = ${this.t}`, this.t);
+      const advect = v2 > 0 ? 0.5 * this.config.reconnectionDistance / Math.sqrt(v2) : Infinity;
+      dt = Math.min(dtMax, starting ? fast : slowFactor * fast, advect);
+      if (!(dt > this.config.minStep) && dt < dtMax) {
+        throw new EngineFailure(
+          "step-underflow",
+          `time step underflow (dt = ${dt}) at t = ${this.t}`,
+          this.t,
+        );
+      }
+    }
+    const m = starting ? 1 : Math.max(1, Math.ceil(dt / fast * (1 - 1e-12)));
+    const h = dt / m;
+    const t0 = this.t;
+    for (let q = 0; q < m; q++) {
+      const tq = t0 + q * h;
+      if (q > 0) this.fastRhs(s.x, s.y, s.z, tq, order, kx, ky, kz);
+      for (let i = 0; i < n; i++) {
+        x0[i] = s.x[i];
+        y0[i] = s.y[i];
+        z0[i] = s.z[i];
+        ax[i] = kx[i];
+        ay[i] = ky[i];
+        az[i] = kz[i];
+        xs[i] = x0[i] + 0.5 * h * kx[i];
+        ys[i] = y0[i] + 0.5 * h * ky[i];
+        zs[i] = z0[i] + 0.5 * h * kz[i];
+      }
+      for (let stage = 2; stage <= 4; stage++) {
+        const ts = stage === 4 ? tq + h : tq + 0.5 * h;
+        if (starting) f.evaluate(n, xs, ys, zs, s.next, s.prev, kx, ky, kz);
+        else this.fastRhs(xs, ys, zs, ts, order, kx, ky, kz);
+        if (starting) this.slowEvaluations++;
+        const wgt = stage === 4 ? 1 : 2;
+        const c = stage === 3 ? h : 0.5 * h;
+        for (let i = 0; i < n; i++) {
+          ax[i] += wgt * kx[i];
+          ay[i] += wgt * ky[i];
+          az[i] += wgt * kz[i];
+          xs[i] = x0[i] + c * kx[i];
+          ys[i] = y0[i] + c * ky[i];
+          zs[i] = z0[i] + c * kz[i];
+        }
+      }
+      const h6 = h / 6;
+      for (let i = 0; i < n; i++) {
+        s.x[i] = x0[i] + h6 * ax[i];
+        s.y[i] = y0[i] + h6 * ay[i];
+        s.z[i] = z0[i] + h6 * az[i];
+      }
+    }
+    this.lastSubsteps = m;
     this.t += dt;
     this.steps++;
     this.lastDt = dt;
@@ -433,6 +676,7 @@ export class FilamentSimulation {
       s.next[p] = q;
       s.prev[q] = p;
       s.alive[i] = 0;
+      s.histCount[p] = s.histCount[q] = 0; // their own segments changed: integrator memory restarts
       this.lengthRemoved += removed;
       this.emit({
         t: this.t,

@@ -128,8 +128,7 @@ export class VelocityField {
   ): void {
     const c = this.config;
     const g = this.geo;
-    const L = c.boxSize;
-    computeGeometry(n, x, y, z, next, prev, L, g);
+    computeGeometry(n, x, y, z, next, prev, c.boxSize, g);
     for (let i = 0; i < n; i++) vx[i] = vy[i] = vz[i] = 0;
     const cf = c.kappa / (4 * Math.PI);
     if (c.model === "lia") {
@@ -137,21 +136,59 @@ export class VelocityField {
       this.interactions = 0;
     } else {
       addLocalTerm(n, prev, g.tx, g.ty, g.tz, g.cx, g.cy, g.cz, g.len, cf, c.coreRadius, vx, vy, vz);
-      const method = this.method(n);
-      if (method === "fmm") {
-        this.tree.build(n, x, y, z, g.dx, g.dy, g.dz, g.len, 0, c.fmm.leafSize);
-        this.interactions = this.fmm.velocity(this.tree, n, x, y, z, prev, cf, c.fmm.theta, vx, vy, vz);
-      } else if (method === "tree") {
-        this.tree.build(n, x, y, z, g.dx, g.dy, g.dz, g.len, L, c.leafSize);
-        this.interactions = this.tree.velocity(n, x, y, z, prev, cf, c.theta, vx, vy, vz);
-      } else if (L > 0) {
-        nonlocalDirectPeriodic(n, x, y, z, prev, g.dx, g.dy, g.dz, L, cf, vx, vy, vz);
-        this.interactions = 27 * n * n;
-      } else {
-        nonlocalDirect(n, x, y, z, prev, g.dx, g.dy, g.dz, cf, vx, vy, vz);
-        this.interactions = n * n;
-      }
+      this.addNonlocal(n, x, y, z, prev, vx, vy, vz);
     }
+    this.finish(n, x, y, vx, vy, vz);
+  }
+
+  /**
+   * Adds the nonlocal Biot–Savart velocity (direct, tree or FMM) of the n points to (vx, vy, vz); `geo` must
+   * hold the geometry of these positions.
+   */
+  addNonlocal(
+    n: number,
+    x: Float64Array,
+    y: Float64Array,
+    z: Float64Array,
+    prev: Int32Array,
+    vx: Float64Array,
+    vy: Float64Array,
+    vz: Float64Array,
+  ): void {
+    const c = this.config;
+    const g = this.geo;
+    const L = c.boxSize;
+    const cf = c.kappa / (4 * Math.PI);
+    const method = this.method(n);
+    if (method === "fmm") {
+      this.tree.build(n, x, y, z, g.dx, g.dy, g.dz, g.len, 0, c.fmm.leafSize);
+      this.interactions = this.fmm.velocity(this.tree, n, x, y, z, prev, cf, c.fmm.theta, vx, vy, vz);
+    } else if (method === "tree") {
+      this.tree.build(n, x, y, z, g.dx, g.dy, g.dz, g.len, L, c.leafSize);
+      this.interactions = this.tree.velocity(n, x, y, z, prev, cf, c.theta, vx, vy, vz);
+    } else if (L > 0) {
+      nonlocalDirectPeriodic(n, x, y, z, prev, g.dx, g.dy, g.dz, L, cf, vx, vy, vz);
+      this.interactions = 27 * n * n;
+    } else {
+      nonlocalDirect(n, x, y, z, prev, g.dx, g.dy, g.dz, cf, vx, vy, vz);
+      this.interactions = n * n;
+    }
+  }
+
+  /**
+   * Turns the superfluid velocity in (vx, vy, vz) into ds/dt: adds the external counter-superflow and applies
+   * mutual friction with the tangents of `geo`.
+   */
+  finish(
+    n: number,
+    x: Float64Array,
+    y: Float64Array,
+    vx: Float64Array,
+    vy: Float64Array,
+    vz: Float64Array,
+  ): void {
+    const c = this.config;
+    const g = this.geo;
     const nf = c.normal;
     if (nf.kind === "line-heater") {
       // External counter-superflow v_s,ext = −(ρ_n/ρ_s) v_n.
