@@ -135,4 +135,8 @@ export function errorStats(n: number, dx: Float64Array[], tx: Float64Array[]) {
   return { median: e[n >> 1], p99: e[Math.floor(0.99 * n)], max: e[n - 1] };
 }
 
-export const vec = (n: number) => [new Float64Array(n), new Float64Array(n), new Float64Array(n)];
+export const vec = (n: number): [Float64Array, Float64Array, Float64Array] => [
+  new Float64Array(n),
+  new Float64Array(n),
+  new Float64Array(n),
+];

@@ -74,6 +74,8 @@ export const filamentEngine: Engine<FilamentParams> = {
         "(ids: the marker id; data: jump distance, receiver_old_id)",
       "heater-absorption": "a point entered the heater (r < r_h) and was deleted (ids: the point; data: " +
         "length_removed, marker (1 if its track ends), loop)",
+      "accuracy-warning": "the sampled error of the tree/FMM nonlocal sum exceeded numerics.accuracyCheck." +
+        "tolerance between two frames (data: p99 = 99th percentile of |Δv|/v_rms, tolerance, frame)",
     },
     diagnostics: {
       line_length: "total line length L (length)",
@@ -84,6 +86,8 @@ export const filamentEngine: Engine<FilamentParams> = {
       impulse_z: "impulse (κ/2)∮ s×ds, z component (length⁴/time)",
       loop_count: "number of loops",
       reconnections: "cumulative number of reconnections",
+      velocity_error: "99th percentile of |Δv|/v_rms of the tree/FMM nonlocal sum against the exact sum at " +
+        "sampled points since the previous frame (dimensionless; empty when not checked, e.g. direct sum)",
     },
     units: {
       length: "m (units: physical) or ℓ (units: dimensionless)",
@@ -203,6 +207,7 @@ export function simulationConfig(
     maxPoints: nm.maxPoints,
     minStep: 1e-12 * sampleInterval,
     integrator: nm.integrator,
+    accuracyCheck: nm.accuracyCheck,
   };
 }
 
@@ -297,8 +302,21 @@ function runWithLoops(
     const imp = impulse(s, sim.geo, kappa, L);
     return { length: lineLength(sim.geo.len, s.n), energy: e, impulse: imp };
   };
+  let velocityError = NaN;
   const emit = (index: number, d: ReturnType<typeof diag>) => {
     const s = sim.state;
+    if (sim.accuracy !== null) {
+      velocityError = sim.accuracy.takeFrameP99();
+      const tol = sim.accuracy.settings.tolerance;
+      if (velocityError > tol) {
+        sink.event({
+          t: sim.t,
+          kind: "accuracy-warning",
+          ids: [],
+          data: { p99: velocityError, tolerance: tol, frame: index },
+        });
+      }
+    }
     if (s.n > cap) {
       cap = Math.max(64, 2 * s.n);
       fx = new Float64Array(cap);
@@ -329,6 +347,7 @@ function runWithLoops(
         impulse_z: d.impulse.z,
         loop_count: s.nLoops,
         reconnections: sim.reconnections,
+        velocity_error: velocityError,
       },
     });
   };
@@ -376,6 +395,12 @@ function runWithLoops(
     alpha: cfg.velocity.alpha,
     alpha_prime: cfg.velocity.alphaPrime,
   };
+  if (sim.accuracy !== null && sim.accuracy.checks > 0) {
+    const a = sim.accuracy.summary();
+    scalars.velocity_error_p99 = a.p99;
+    scalars.velocity_error_max = a.max;
+    scalars.velocity_error_samples = a.samples;
+  }
   const conservative = L === 0 && cfg.velocity.alpha === 0 && cfg.velocity.alphaPrime === 0 &&
     cfg.velocity.normal.kind === "rest";
   if (conservative) {

@@ -249,3 +249,23 @@ Deno.test("filamentEngine: kelvin-wave in a periodic box keeps its line and rota
   assert.notEqual(r.frames.at(-1)!.x[0], r.frames[0].x[0]);
   assert.equal(r.scalars["drift.impulse"], undefined, "no impulse drift reported in a periodic box");
 });
+
+Deno.test("filamentEngine: the run-time accuracy check stores the sampled FMM error and warns when it exceeds the tolerance", async () => {
+  // Acceptance measure of methods §2.9 (99th percentile of |Δv|/v_rms ≤ 1e-3) sampled during the run: with the
+  // default FMM settings it stays below the tolerance; with a deliberately loose expansion (p = 3, θ = 0.9) the
+  // check must see errors above a tight tolerance and emit accuracy-warning events.
+  const params = (fmm: Record<string, number>, tolerance: number) => ({
+    ...dimless,
+    initial: { kind: "ring-cloud", count: 6, radius: 0.6, cloudRadius: 0.8 },
+    numerics: { summation: "fmm", fmm, accuracyCheck: { every: 2, samples: 16, tolerance } },
+  });
+  const good = await run(params({}, 1e-3), { duration: 0.006, sampleInterval: 0.003 });
+  assert.ok(good.scalars.velocity_error_samples >= 32, `samples ${good.scalars.velocity_error_samples}`);
+  assertBelow(good.scalars.velocity_error_p99, 1e-3, "sampled p99 |Δv|/v_rms at the defaults");
+  assert.ok(Number.isNaN(good.frames[0].d.velocity_error), "no error before the first step");
+  assert.ok(good.frames[1].d.velocity_error > 0, "a frame diagnostic after checks");
+  assert.equal(good.events.filter((e) => e.kind === "accuracy-warning").length, 0);
+  const loose = await run(params({ order: 3, theta: 0.9 }, 1e-5), { duration: 0.006, sampleInterval: 0.003 });
+  assert.ok(loose.scalars.velocity_error_p99 > 1e-5, `loose p99 ${loose.scalars.velocity_error_p99}`);
+  assert.ok(loose.events.some((e) => e.kind === "accuracy-warning"), "accuracy-warning emitted");
+});

@@ -20,6 +20,7 @@ import { z } from "zod";
 import { heliumAt, HeliumRangeError } from "./helium.ts";
 import { FMM_DEFAULTS } from "./velocity.ts";
 import { INTEGRATOR_DEFAULTS } from "./simulation.ts";
+import { ACCURACY_CHECK_DEFAULTS } from "./accuracy.ts";
 
 /** κ of ⁴He, m²/s: h/m₄ from CODATA 2018 h and the ⁴He atomic mass (check-values §0). */
 export const KAPPA_HE4 = 9.9693e-8;
@@ -174,6 +175,19 @@ const integratorSchema = z.strictObject({
   ),
 }).describe("time integration (defaults: multirate, order 4)");
 
+const accuracySchema = z.strictObject({
+  every: z.number().int().min(0).default(ACCURACY_CHECK_DEFAULTS.every).describe(
+    "check the tree/FMM sum every this many steps against the exact sum (a count; 0 = off)",
+  ),
+  samples: z.number().int().min(1).max(1024).default(ACCURACY_CHECK_DEFAULTS.samples).describe(
+    "points compared per check (a count, dimensionless)",
+  ),
+  tolerance: z.number().positive().default(ACCURACY_CHECK_DEFAULTS.tolerance).describe(
+    "warn (event accuracy-warning) when the 99th percentile of |Δv|/v_rms between frames exceeds this " +
+      "(dimensionless)",
+  ),
+}).describe("run-time accuracy check of the fast nonlocal sum (stored as diagnostic velocity_error)");
+
 const numericsSchema = z.strictObject({
   minSpacingFactor: z.number().gt(0).lt(1).default(0.5).describe("δ_min/δ (dimensionless)"),
   reconnectionFactor: z.number().gt(0).max(1).default(0.5).describe(
@@ -195,6 +209,7 @@ const numericsSchema = z.strictObject({
   ),
   fmm: fmmSchema.default(FMM_DEFAULTS),
   integrator: integratorSchema.default(INTEGRATOR_DEFAULTS),
+  accuracyCheck: accuracySchema.default(ACCURACY_CHECK_DEFAULTS),
   markerEvery: z.number().int().min(1).max(64).default(6).describe(
     "one Lagrangian marker every m initial points (a count, dimensionless)",
   ),
@@ -235,6 +250,7 @@ export const filamentParamsSchema = z.strictObject({
     leafSize: 16,
     fmm: FMM_DEFAULTS,
     integrator: INTEGRATOR_DEFAULTS,
+    accuracyCheck: ACCURACY_CHECK_DEFAULTS,
     markerEvery: 6,
     maxPoints: 200000,
   }),

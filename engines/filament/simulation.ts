@@ -55,6 +55,7 @@ import type { MarkerTransfer, RemeshOptions } from "./remesh.ts";
 import { compactInto, FilamentState, HIST_LEVELS, HIST_STRIDE, IdCounters, RemovalReason } from "./state.ts";
 import { E_QUARTER } from "./biot_savart.ts";
 import { NearField } from "./near.ts";
+import { type AccuracyCheckSettings, AccuracyMonitor } from "./accuracy.ts";
 import type { CompactOptions, RemovedLoop } from "./state.ts";
 import { type VelocityConfig, VelocityField } from "./velocity.ts";
 
@@ -85,6 +86,8 @@ export interface SimulationConfig {
   readonly minStep: number;
   /** Time integration (see module doc). */
   readonly integrator: IntegratorConfig;
+  /** Run-time check of the tree/FMM sum against the exact sum (`accuracy.ts`); absent = off. */
+  readonly accuracyCheck?: AccuracyCheckSettings;
 }
 
 /**
@@ -111,6 +114,8 @@ export class FilamentSimulation {
   state = new FilamentState(64);
   private spare = new FilamentState(64);
   readonly field: VelocityField;
+  /** Sampled errors of the fast nonlocal sum (null when the check is off). */
+  readonly accuracy: AccuracyMonitor | null;
   /** Geometry of the state after the last topology pass. */
   readonly geo = new Geometry();
   readonly ids = new IdCounters();
@@ -151,6 +156,8 @@ export class FilamentSimulation {
     this.config = config;
     this.emit = emit;
     this.field = new VelocityField(config.velocity);
+    const ac = config.accuracyCheck;
+    this.accuracy = ac !== undefined && ac.every > 0 ? new AccuracyMonitor(ac) : null;
     const L = config.velocity.boxSize;
     for (const loop of loops) {
       const s0 = this.state.n;
@@ -228,6 +235,7 @@ export class FilamentSimulation {
       return dtMax;
     }
     this.ensure(n);
+    if (this.accuracy !== null && this.accuracy.due(this.steps)) this.field.armCheck(this.accuracy);
     const integ = this.config.integrator;
     if (integ.kind === "multirate" && this.config.velocity.model === "biot-savart") {
       return this.advanceMultirate(dtMax, fixedDt, integ.order, integ.slowFactor, integ.window);

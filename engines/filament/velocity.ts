@@ -26,6 +26,7 @@
  */
 import { addLiaTerm, addLocalTerm, nonlocalDirect, nonlocalDirectPeriodic } from "./biot_savart.ts";
 import { computeGeometry, Geometry } from "./geometry.ts";
+import type { AccuracyMonitor } from "./accuracy.ts";
 import { SegmentFmm } from "./fmm.ts";
 import { SegmentTree } from "./tree.ts";
 
@@ -160,6 +161,16 @@ export class VelocityField {
     const L = c.boxSize;
     const cf = c.kappa / (4 * Math.PI);
     const method = this.method(n);
+    const monitor = method === "direct" ? null : this.armed;
+    this.armed = null;
+    if (monitor !== null) {
+      if (this.before[0].length < n) {
+        this.before = [new Float64Array(n), new Float64Array(n), new Float64Array(n)];
+      }
+      this.before[0].set(vx.subarray(0, n));
+      this.before[1].set(vy.subarray(0, n));
+      this.before[2].set(vz.subarray(0, n));
+    }
     if (method === "fmm") {
       this.tree.build(n, x, y, z, g.dx, g.dy, g.dz, g.len, 0, c.fmm.leafSize);
       this.interactions = this.fmm.velocity(this.tree, n, x, y, z, prev, cf, c.fmm.theta, vx, vy, vz);
@@ -173,6 +184,21 @@ export class VelocityField {
       nonlocalDirect(n, x, y, z, prev, g.dx, g.dy, g.dz, cf, vx, vy, vz);
       this.interactions = n * n;
     }
+    if (monitor !== null) {
+      monitor.check(n, x, y, z, prev, g.dx, g.dy, g.dz, L, cf, this.before, [vx, vy, vz]);
+    }
+  }
+
+  private armed: AccuracyMonitor | null = null;
+  private before: [Float64Array, Float64Array, Float64Array] = [
+    new Float64Array(0),
+    new Float64Array(0),
+    new Float64Array(0),
+  ];
+
+  /** The next nonlocal sum by a tree method is checked against the exact sum at sampled points. */
+  armCheck(monitor: AccuracyMonitor): void {
+    this.armed = monitor;
   }
 
   /**
