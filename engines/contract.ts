@@ -123,6 +123,11 @@ export interface EngineRunInput<P> {
   readonly realisationIndex?: number;
   /** Folder of the study file: relative file paths in parameters resolve against it. */
   readonly baseDirectory?: string;
+  /**
+   * Threads the engine may use inside this realisation (default 1). Engines that use them must give
+   * bit-identical results for any thread count, and stop their threads before `run` returns.
+   */
+  readonly threads?: number;
 }
 
 /** Receives frames and events in time order. Throws `EngineFailure` to stop a run (e.g. NaN guard). */

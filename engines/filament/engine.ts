@@ -176,6 +176,7 @@ export function simulationConfig(
   p: FilamentParams,
   maxDistance: number,
   sampleInterval: number,
+  threads = 1,
 ): SimulationConfig {
   const r = resolveSettings(p);
   const nm = p.numerics;
@@ -189,6 +190,7 @@ export function simulationConfig(
       theta: nm.theta,
       leafSize: nm.leafSize,
       fmm: nm.fmm,
+      threads,
       boxSize: r.boxSize,
       alpha: r.alpha,
       alphaPrime: r.alphaPrime,
@@ -276,9 +278,25 @@ function runWithLoops(
 ): EngineRunSummary {
   const p = input.params;
   const controls = input.controls;
-  const cfg = simulationConfig(p, controls.maxDistance, controls.sampleInterval);
+  const cfg = simulationConfig(p, controls.maxDistance, controls.sampleInterval, input.threads ?? 1);
   const init = initialLoops(p, input, fileLoops);
   const sim = new FilamentSimulation(cfg, init.loops, (e) => sink.event(e));
+  try {
+    return simulate(input, sink, sim, cfg, init);
+  } finally {
+    sim.field.close();
+  }
+}
+
+/** The frame loop of one realisation (see `runWithLoops`). */
+function simulate(
+  input: EngineRunInput<FilamentParams>,
+  sink: FrameSink,
+  sim: FilamentSimulation,
+  cfg: SimulationConfig,
+  init: ReturnType<typeof initialLoops>,
+): EngineRunSummary {
+  const controls = input.controls;
   const L = cfg.velocity.boxSize;
   const kappa = cfg.velocity.kappa;
 

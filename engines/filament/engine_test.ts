@@ -23,7 +23,12 @@ interface Captured {
   scalars: Record<string, number>;
 }
 
-async function run(params: unknown, controls: Partial<RunControls> = {}, seed = 1): Promise<Captured> {
+async function run(
+  params: unknown,
+  controls: Partial<RunControls> = {},
+  seed = 1,
+  threads = 1,
+): Promise<Captured> {
   const p = filamentEngine.paramsSchema.parse(params);
   const out: Captured = { frames: [], events: [], scalars: {} };
   const sink = {
@@ -45,6 +50,7 @@ async function run(params: unknown, controls: Partial<RunControls> = {}, seed = 
     params: p,
     controls: { duration: 1, sampleInterval: 0.25, tolerance: 1e-6, maxDistance: 1e3, ...controls },
     rng: RandomStream.fromState([seed, 2, 3, 4]),
+    threads,
   }, sink);
   out.scalars = { ...res.scalars };
   return out;
@@ -268,4 +274,18 @@ Deno.test("filamentEngine: the run-time accuracy check stores the sampled FMM er
   const loose = await run(params({ order: 3, theta: 0.9 }, 1e-5), { duration: 0.006, sampleInterval: 0.003 });
   assert.ok(loose.scalars.velocity_error_p99 > 1e-5, `loose p99 ${loose.scalars.velocity_error_p99}`);
   assert.ok(loose.events.some((e) => e.kind === "accuracy-warning"), "accuracy-warning emitted");
+});
+
+Deno.test("filamentEngine: threads inside a realisation give bit-identical frames and scalars", async () => {
+  // Run controls that do not enter hashes must not change results (engine contract, `threads`).
+  const params = {
+    ...dimless,
+    initial: { kind: "ring-cloud", count: 8, radius: 0.6, cloudRadius: 0.9 },
+    numerics: { summation: "fmm" },
+  };
+  const controls = { duration: 0.004, sampleInterval: 0.002 };
+  const one = await run(params, controls, 3, 1), two = await run(params, controls, 3, 2);
+  assert.ok(one.frames[0].n > 300, `points ${one.frames[0].n}`);
+  assert.equal(JSON.stringify(two.frames), JSON.stringify(one.frames));
+  assert.deepEqual(two.scalars, one.scalars);
 });

@@ -36,7 +36,7 @@
  * // fmm.velocity(tree, n, x, y, z, prev, kappa / (4 * Math.PI), 0.5, vx, vy, vz);
  * ```
  */
-import type { SegmentTree } from "./tree.ts";
+import { type ArrayAllocator, PLAIN, type SegmentTree } from "./tree.ts";
 import { KERNELS } from "./_fmm_kernels.ts";
 
 /** Multi-index tables of an expansion order p (indices ordered by total degree). */
@@ -137,6 +137,9 @@ export class MultiIndex {
   }
 }
 
+/** Largest number of target points of a work unit (see `SegmentFmm.units`). */
+export const UNIT_TARGETS = 1024;
+
 function binom(n: number, k: number): number {
   let r = 1;
   for (let i = 1; i <= k; i++) r = r * (n - k + i) / i;
@@ -194,19 +197,22 @@ export class SegmentFmm {
   private readonly gw: Float64Array;
   private cellCap = 0;
   /** Multipoles, 3 components × size per cell (component-major within a cell). */
-  mult = new Float64Array(0);
+  mult: Float64Array = new Float64Array(0);
   /** Local expansions, 3 × size per cell. */
-  loc = new Float64Array(0);
+  loc: Float64Array = new Float64Array(0);
   /** Target radius about X_c per cell. */
-  rT = new Float64Array(0);
+  rT: Float64Array = new Float64Array(0);
   private readonly deriv: Float64Array;
   private readonly mono: Float64Array;
-  private stackA = new Int32Array(0);
-  private stackB = new Int32Array(0);
+  private stackA = new Int32Array(1024);
+  private stackB = new Int32Array(1024);
+  private stackC = new Int32Array(1024);
   private readonly fastDeriv: ((Rx: number, Ry: number, Rz: number, D: Float64Array) => void) | null;
   private readonly fastM2l:
     | ((D: Float64Array, M: Float64Array, mb: number, L: Float64Array, lb: number) => void)
     | null;
+  /** How the shared arrays (multipoles, local expansions, radii) are allocated. */
+  alloc: ArrayAllocator = PLAIN;
   /** Counts of the last evaluation. */
   m2lCount = 0;
   p2pPairs = 0;
@@ -286,11 +292,9 @@ export class SegmentFmm {
     let c = Math.max(256, this.cellCap);
     while (c < nCell) c *= 2;
     const k = 3 * this.mi.size;
-    this.mult = new Float64Array(c * k);
-    this.loc = new Float64Array(c * k);
-    this.rT = new Float64Array(c);
-    this.stackA = new Int32Array(Math.max(1024, 64 * c));
-    this.stackB = new Int32Array(Math.max(1024, 64 * c));
+    this.mult = this.alloc.f64(c * k);
+    this.loc = this.alloc.f64(c * k);
+    this.rT = this.alloc.f64(c);
     this.cellCap = c;
   }
 
@@ -403,25 +407,71 @@ export class SegmentFmm {
     vz: Float64Array,
   ): number {
     if (n === 0) return 0;
+    this.prepare(t, x, y, z);
+    const units = this.units(t);
+    for (let u = 0; u < units.length; u++) this.runUnit(t, units[u], x, y, z, prev, cf, theta, vx, vy, vz);
+    return this.p2pPairs + this.m2lCount;
+  }
+
+  /** Multipoles (P2M, M2M), target radii, cleared local expansions and counters: the serial first pass. */
+  prepare(t: SegmentTree, x: Float64Array, y: Float64Array, z: Float64Array): void {
     this.ensure(t.nCell);
-    const K = this.mi.size, K3 = 3 * K;
     this.upward(t);
     this.targetRadii(t, x, y, z);
-    this.loc.fill(0, 0, t.nCell * K3);
+    this.loc.fill(0, 0, t.nCell * 3 * this.mi.size);
     this.m2lCount = 0;
     this.p2pPairs = 0;
-    // Dual-tree traversal with an explicit stack of (target, source) cell pairs.
+  }
+
+  /**
+   * Work units: the cells holding at most UNIT_TARGETS points whose parent holds more (the root if it holds
+   * fewer), in tree order. Each unit is traversed against the whole tree on its own, so the result of every
+   * point depends only on its unit — the same whichever thread computes it, and however many threads run.
+   */
+  units(t: SegmentTree): Int32Array {
+    let k = 0;
+    const out = this.unitList.length >= t.nCell ? this.unitList : (this.unitList = new Int32Array(t.nCell));
+    const stack = this.stackA;
+    let top = 0;
+    stack[top++] = 0;
+    while (top > 0) {
+      const c = stack[--top];
+      if (t.count[c] <= UNIT_TARGETS || t.nchild[c] === 0) {
+        out[k++] = c;
+        continue;
+      }
+      for (let ch = t.child0[c] + t.nchild[c] - 1; ch >= t.child0[c]; ch--) stack[top++] = ch;
+    }
+    return out.subarray(0, k);
+  }
+  private unitList = new Int32Array(0);
+
+  /** Dual traversal of unit U against the whole tree (M2L and P2P), then L2L and L2P inside U. */
+  runUnit(
+    t: SegmentTree,
+    U: number,
+    x: Float64Array,
+    y: Float64Array,
+    z: Float64Array,
+    prev: Int32Array,
+    cf: number,
+    theta: number,
+    vx: Float64Array,
+    vy: Float64Array,
+    vz: Float64Array,
+  ): void {
     const sa = this.stackA, sb = this.stackB, rT = this.rT;
     let top = 0;
-    sa[top] = 0;
+    sa[top] = U;
     sb[top++] = 0;
     let p2p = 0;
+    const th2 = theta * theta;
     while (top > 0) {
       const A = sa[--top], B = sb[top];
       const dx = t.gx[A] - t.gx[B], dy = t.gy[A] - t.gy[B], dz = t.gz[A] - t.gz[B];
       const rA = rT[A], rB = t.bmax[B];
       const s = rA + rB;
-      if (s * s < theta * theta * (dx * dx + dy * dy + dz * dz)) {
+      if (s * s < th2 * (dx * dx + dy * dy + dz * dz)) {
         this.m2l(t, A, B);
         continue;
       }
@@ -430,6 +480,7 @@ export class SegmentFmm {
         p2p += this.p2p(t, A, B, x, y, z, prev, vx, vy, vz, cf);
         continue;
       }
+      if (top + 8 >= sa.length) this.growStacks();
       if (leafA || (!leafB && rB > rA)) {
         for (let ch = t.child0[B] + t.nchild[B] - 1; ch >= t.child0[B]; ch--) {
           sa[top] = A;
@@ -442,14 +493,22 @@ export class SegmentFmm {
         }
       }
     }
-    this.downward(t, x, y, z, cf, vx, vy, vz);
-    this.p2pPairs = p2p;
-    return p2p + this.m2lCount;
+    this.p2pPairs += p2p;
+    this.downward(t, U, x, y, z, cf, vx, vy, vz);
   }
 
-  /** L2L down the tree and L2P at the points of every leaf. */
+  private growStacks(): void {
+    const a = new Int32Array(2 * this.stackA.length), b = new Int32Array(2 * this.stackB.length);
+    a.set(this.stackA);
+    b.set(this.stackB);
+    this.stackA = a;
+    this.stackB = b;
+  }
+
+  /** L2L down the subtree of U and L2P at the points of its leaves. */
   private downward(
     t: SegmentTree,
+    U: number,
     x: Float64Array,
     y: Float64Array,
     z: Float64Array,
@@ -461,7 +520,11 @@ export class SegmentFmm {
     const K = this.mi.size, K3 = 3 * K;
     const Lc = this.loc, mono = this.mono, mi = this.mi;
     const { l2T, l2S, l2D, l2C, grB, grAxis, grM, grF } = this;
-    for (let c = 0; c < t.nCell; c++) {
+    const stack = this.stackC;
+    let top = 0;
+    stack[top++] = U;
+    while (top > 0) {
+      const c = stack[--top];
       const lb = c * K3;
       if (t.nchild[c] > 0) {
         for (let ch = t.child0[c]; ch < t.child0[c] + t.nchild[c]; ch++) {
@@ -474,6 +537,7 @@ export class SegmentFmm {
             Lc[tt + K] += w * Lc[ss + K];
             Lc[tt + 2 * K] += w * Lc[ss + 2 * K];
           }
+          stack[top++] = ch; // depth-first: at most 8 per level of a tree ≤ 41 levels deep (< 1024)
         }
         continue;
       }

@@ -27,8 +27,9 @@
 import { addLiaTerm, addLocalTerm, nonlocalDirect, nonlocalDirectPeriodic } from "./biot_savart.ts";
 import { computeGeometry, Geometry } from "./geometry.ts";
 import type { AccuracyMonitor } from "./accuracy.ts";
-import { SegmentFmm } from "./fmm.ts";
-import { SegmentTree } from "./tree.ts";
+import type { SegmentFmm } from "./fmm.ts";
+import { FmmThreads } from "./fmm_threads.ts";
+import { SegmentTree, SHARED } from "./tree.ts";
 
 /** Prescribed normal-fluid velocity field. */
 export type NormalFlow =
@@ -61,6 +62,8 @@ export interface VelocityConfig {
   readonly leafSize: number;
   /** Fast multipole settings: expansion order p, opening parameter θ (r_T + b_S < θd), leaf size. */
   readonly fmm: FmmSettings;
+  /** Threads for the FMM inside this realisation (results do not depend on it; default 1). */
+  readonly threads?: number;
   /** Periodic cube side, 0 for unbounded. */
   readonly boxSize: number;
   readonly alpha: number;
@@ -84,7 +87,7 @@ export class VelocityField {
   /** Geometry of the last evaluation. */
   readonly geo = new Geometry();
   readonly tree = new SegmentTree();
-  private fmmEngine: SegmentFmm | null = null;
+  private pool: FmmThreads | null = null;
   /** Pair interactions (segment–point and cell–point) of the last evaluation. */
   interactions = 0;
 
@@ -109,10 +112,13 @@ export class VelocityField {
     return m === "tree" || m === "fmm";
   }
 
-  /** The FMM of this field (created on first use). */
+  /** The FMM of this field (created on first use; its counters describe the last evaluation's own share). */
   get fmm(): SegmentFmm {
-    this.fmmEngine ??= new SegmentFmm(this.config.fmm.order);
-    return this.fmmEngine;
+    if (this.pool === null) {
+      this.pool = new FmmThreads(this.config.threads ?? 1, this.config.fmm.order);
+      this.tree.useAllocator(SHARED);
+    }
+    return this.pool.fmm;
   }
 
   /** Writes ds/dt of the n points into (vx, vy, vz). */
@@ -172,8 +178,14 @@ export class VelocityField {
       this.before[2].set(vz.subarray(0, n));
     }
     if (method === "fmm") {
+      // One code path for any thread count (the sum lands in a zeroed buffer, then is added), so the
+      // thread count never changes a bit of the result.
+      if (this.pool === null) {
+        this.pool = new FmmThreads(c.threads ?? 1, c.fmm.order);
+        this.tree.useAllocator(SHARED);
+      }
       this.tree.build(n, x, y, z, g.dx, g.dy, g.dz, g.len, 0, c.fmm.leafSize);
-      this.interactions = this.fmm.velocity(this.tree, n, x, y, z, prev, cf, c.fmm.theta, vx, vy, vz);
+      this.interactions = this.pool.velocity(this.tree, n, x, y, z, prev, cf, c.fmm.theta, vx, vy, vz);
     } else if (method === "tree") {
       this.tree.build(n, x, y, z, g.dx, g.dy, g.dz, g.len, L, c.leafSize);
       this.interactions = this.tree.velocity(n, x, y, z, prev, cf, c.theta, vx, vy, vz);
@@ -195,6 +207,12 @@ export class VelocityField {
     new Float64Array(0),
     new Float64Array(0),
   ];
+
+  /** Stops worker threads (if any). */
+  close(): void {
+    this.pool?.close();
+    this.pool = null;
+  }
 
   /** The next nonlocal sum by a tree method is checked against the exact sum at sampled points. */
   armCheck(monitor: AccuracyMonitor): void {
