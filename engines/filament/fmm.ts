@@ -38,6 +38,10 @@
  */
 import { type ArrayAllocator, PLAIN, type SegmentTree } from "./tree.ts";
 import { KERNELS } from "./_fmm_kernels.ts";
+import { WasmP2P } from "./wasm_p2p.ts";
+
+/** Near-field (leaf pair) kernel: WebAssembly f32x4 SIMD, or f64 TypeScript. */
+export type NearKernel = "simd-f32" | "f64";
 
 /** Multi-index tables of an expansion order p (indices ordered by total degree). */
 export class MultiIndex {
@@ -213,11 +217,13 @@ export class SegmentFmm {
     | null;
   /** How the shared arrays (multipoles, local expansions, radii) are allocated. */
   alloc: ArrayAllocator = PLAIN;
+  /** Cell pairs with at most this many target–segment pairs are summed directly (cheaper than an M2L). */
+  directPairs = Number(Deno.env.get("DP") ?? 0);
   /** Counts of the last evaluation. */
   m2lCount = 0;
   p2pPairs = 0;
 
-  constructor(p: number) {
+  constructor(p: number, nearKernel: NearKernel = "f64") {
     this.p = p;
     const mi = new MultiIndex(p);
     this.mi = mi;
@@ -285,7 +291,11 @@ export class SegmentFmm {
     const k = KERNELS[p];
     this.fastDeriv = k ? k.inverseDistance : null;
     this.fastM2l = k ? k.m2l : null;
+    this.wasm = nearKernel === "simd-f32" ? WasmP2P.load() : null;
   }
+
+  /** The f32x4 WebAssembly near-field kernel, or null for the f64 TypeScript loop. */
+  private readonly wasm: WasmP2P | null;
 
   private ensure(nCell: number): void {
     if (nCell <= this.cellCap) return;
@@ -468,6 +478,10 @@ export class SegmentFmm {
     const th2 = theta * theta;
     while (top > 0) {
       const A = sa[--top], B = sb[top];
+      if (t.count[A] * t.count[B] <= this.directPairs) {
+        p2p += this.p2p(t, A, B, x, y, z, prev, vx, vy, vz, cf);
+        continue;
+      }
       const dx = t.gx[A] - t.gx[B], dy = t.gy[A] - t.gy[B], dz = t.gz[A] - t.gz[B];
       const rA = rT[A], rB = t.bmax[B];
       const s = rA + rB;
@@ -568,8 +582,79 @@ export class SegmentFmm {
     }
   }
 
-  /** Exact segment sums of leaf B at the points of leaf A (own segments skipped); returns pair count. */
   private p2p(
+    t: SegmentTree,
+    A: number,
+    B: number,
+    x: Float64Array,
+    y: Float64Array,
+    z: Float64Array,
+    prev: Int32Array,
+    vx: Float64Array,
+    vy: Float64Array,
+    vz: Float64Array,
+    cf: number,
+  ): number {
+    if (this.wasm !== null) return this.p2pSimd(this.wasm, t, A, B, x, y, z, prev, vx, vy, vz, cf);
+    return this.p2pF64(t, A, B, x, y, z, prev, vx, vy, vz, cf);
+  }
+
+  /**
+   * p2p through the WebAssembly kernel: coordinates relative to B's centroid in units of B's radius (f64,
+   * rounded once to f32; see `wasm_p2p.ts`), own segments passed as indices among B's segments.
+   */
+  private p2pSimd(
+    w: WasmP2P,
+    t: SegmentTree,
+    A: number,
+    B: number,
+    x: Float64Array,
+    y: Float64Array,
+    z: Float64Array,
+    prev: Int32Array,
+    vx: Float64Array,
+    vy: Float64Array,
+    vz: Float64Array,
+    cf: number,
+  ): number {
+    const nA = t.count[A], nB = t.count[B];
+    const a0 = t.start[A], b0 = t.start[B];
+    w.ensure(Math.max(nA, nB));
+    const ox = t.gx[B], oy = t.gy[B], oz = t.gz[B];
+    const inv = 1 / (t.bmax[B] > 0 ? t.bmax[B] : 1);
+    const { tx, ty, tz, oa, ob, sx, sy, sz, hx, hy, hz } = w;
+    for (let q = 0; q < nA; q++) {
+      const i = t.perm[a0 + q];
+      tx[q] = (x[i] - ox) * inv;
+      ty[q] = (y[i] - oy) * inv;
+      tz[q] = (z[i] - oz) * inv;
+      const k1 = a0 + q - b0, k2 = t.pos[prev[i]] - b0;
+      oa[q] = k1 >= 0 && k1 < nB ? k1 : -1;
+      ob[q] = k2 >= 0 && k2 < nB ? k2 : -1;
+    }
+    const hi = 0.5 * inv;
+    for (let k = 0; k < nB; k++) {
+      sx[k] = (t.smx[b0 + k] - ox) * inv;
+      sy[k] = (t.smy[b0 + k] - oy) * inv;
+      sz[k] = (t.smz[b0 + k] - oz) * inv;
+      hx[k] = t.sdx[b0 + k] * hi;
+      hy[k] = t.sdy[b0 + k] * hi;
+      hz[k] = t.sdz[b0 + k] * hi;
+    }
+    w.run(nA, nB);
+    const f = cf * inv;
+    const { ux, uy, uz } = w;
+    for (let q = 0; q < nA; q++) {
+      const i = t.perm[a0 + q];
+      vx[i] += f * ux[q];
+      vy[i] += f * uy[q];
+      vz[i] += f * uz[q];
+    }
+    return nA * nB;
+  }
+
+  /** Exact segment sums (f64) of cell B at the points of cell A (own segments skipped); returns pair count. */
+  private p2pF64(
     t: SegmentTree,
     A: number,
     B: number,

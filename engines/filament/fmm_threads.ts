@@ -17,7 +17,7 @@
  * // pool.velocity(tree, n, x, y, z, prev, cf, 0.45, vx, vy, vz); … pool.close();
  * ```
  */
-import { SegmentFmm } from "./fmm.ts";
+import { type NearKernel, SegmentFmm } from "./fmm.ts";
 import { type SegmentTree, SHARED } from "./tree.ts";
 
 /** Tree fields the workers read. */
@@ -44,6 +44,7 @@ export const TREE_FIELDS = [
 export interface FmmTask {
   readonly kind: "fmm";
   readonly order: number;
+  readonly nearKernel: NearKernel;
   readonly tree: Record<(typeof TREE_FIELDS)[number], Float64Array | Int32Array>;
   readonly mult: Float64Array;
   readonly loc: Float64Array;
@@ -70,6 +71,7 @@ export interface FmmTask {
 export class FmmThreads {
   readonly threads: number;
   readonly fmm: SegmentFmm;
+  readonly nearKernel: NearKernel;
   private workers: Worker[] = [];
   private cap = 0;
   private sx = SHARED.f64(0);
@@ -83,9 +85,10 @@ export class FmmThreads {
   private readonly control: Int32Array;
   private readonly stats: Float64Array;
 
-  constructor(threads: number, order: number) {
+  constructor(threads: number, order: number, nearKernel: NearKernel = "f64") {
     this.threads = Math.max(1, Math.floor(threads));
-    this.fmm = new SegmentFmm(order);
+    this.nearKernel = nearKernel;
+    this.fmm = new SegmentFmm(order, nearKernel);
     this.fmm.alloc = SHARED;
     this.stats = SHARED.f64(2 * this.threads);
     this.control = SHARED.i32(3 + this.threads);
@@ -149,6 +152,7 @@ export class FmmThreads {
       const task: FmmTask = {
         kind: "fmm",
         order: fmm.p,
+        nearKernel: this.nearKernel,
         tree,
         mult: fmm.mult,
         loc: fmm.loc,

@@ -8,12 +8,16 @@ import type { FmmTask } from "./fmm_threads.ts";
 import type { SegmentTree } from "./tree.ts";
 
 let fmm: SegmentFmm | null = null;
+let kernel = "";
 
 self.onmessage = (ev: MessageEvent<FmmTask>) => {
   const task = ev.data;
   Atomics.store(task.control, 2 + task.slot, 1);
   try {
-    if (fmm === null || fmm.p !== task.order) fmm = new SegmentFmm(task.order);
+    if (fmm === null || fmm.p !== task.order || kernel !== task.nearKernel) {
+      fmm = new SegmentFmm(task.order, task.nearKernel);
+      kernel = task.nearKernel;
+    }
     fmm.mult = task.mult;
     fmm.loc = task.loc;
     fmm.rT = task.rT;

@@ -188,6 +188,38 @@ export class NearField {
     }
   }
 
+  /**
+   * Largest relative speed |v_i − v_j| over listed pairs of points that may reconnect (different loops, or
+   * at least `minLinks` links apart on one loop). `loop`, `index`, `length`: each point's loop id, position
+   * in its loop and the loop's point count (compact state).
+   */
+  maxApproachSpeed(
+    n: number,
+    vx: Float64Array,
+    vy: Float64Array,
+    vz: Float64Array,
+    loop: Int32Array,
+    index: Int32Array,
+    length: Int32Array,
+    minLinks: number,
+  ): number {
+    const st = this.start, seg = this.seg;
+    let m2 = 0;
+    for (let i = 0; i < n; i++) {
+      for (let q = st[i]; q < st[i + 1]; q++) {
+        const j = seg[q];
+        if (loop[j] === loop[i]) {
+          const d = Math.abs(index[i] - index[j]);
+          if (Math.min(d, length[i] - d) < minLinks) continue;
+        }
+        const ux = vx[i] - vx[j], uy = vy[i] - vy[j], uz = vz[i] - vz[j];
+        const w = ux * ux + uy * uy + uz * uz;
+        if (w > m2) m2 = w;
+      }
+    }
+    return Math.sqrt(m2);
+  }
+
   private lastKey = 0;
 
   /** Hash slot of cell (ix, iy, iz) (wrapped modulo nc when nc > 0); −1 if absent and not inserting. */

@@ -152,8 +152,11 @@ const fmmSchema = z.strictObject({
   leafSize: z.number().int().min(1).max(256).default(FMM_DEFAULTS.leafSize).describe(
     "maximum segments per FMM tree leaf (a count, dimensionless)",
   ),
+  nearKernel: z.enum(["simd-f32", "f64"]).default(FMM_DEFAULTS.nearKernel).describe(
+    "exact near-field sums: WebAssembly f32x4 SIMD (compiled by the install step) or f64 TypeScript",
+  ),
 }).describe(
-  "fast multipole settings (defaults: 99th-percentile velocity error ≈ 3e-4 v_rms on dense ring tangles)",
+  "fast multipole settings (defaults: 99th-percentile velocity error ≈ 4e-4 v_rms on dense ring tangles)",
 );
 
 const integratorSchema = z.strictObject({

@@ -17,17 +17,24 @@
  * derived there; the zig-zag test checks it). Remeshing keeps h_min ≥ δ_min (`remesh.ts`). The advective limit
  * keeps approaching lines from passing through each other between reconnection checks.
  *
- * Method (multirate). The right-hand side splits into a cheap, stiff part — the local term with the fixed
- * coefficient (κ/4π)ln(2δ/(e^{1/4}a₀)), the windowed near field of segments within 2r_w (`near.ts`), external
- * flow and friction — and the expensive far field S = v_nonlocal − v_near + (κ/4π)ln(√(ℓ₋ℓ₊)/δ) s′×s″ (the
- * last term moves the spacing dependence of the local term into S, so S is smooth along the line and
- * interpolates well onto points inserted by remeshing). S is evaluated once per step at the step's start
+ * Method (multirate). The right-hand side splits into a cheap, stiff part — the local term, the windowed
+ * near field of segments within 2r_w (`near.ts`), external flow and friction — and the expensive far field
+ * S = v_nonlocal − v_near = Σ_j (1 − φ(r_ij/r_w)) u_j (own segments lie inside the window, so S does not depend
+ * on them: it is smooth along the line and interpolates well onto points inserted by remeshing). Nothing in S
+ * may respond to mesh-scale modes, which oscillate at the fast rate and cannot be extrapolated: an earlier
+ * version that moved the spacing part of the local term into S was unstable at order 4 (the zig-zag Kelvin
+ * modes of a shrinking ring grew ×10³ per time unit). S is evaluated once per step at the step's start
  * (one tree/FMM sum instead of RK4's four) and stored per point; inside the step each point's S is the
  * Lagrange extrapolation through its last `order` values (an Adams–Bashforth-type predictor), while the
  * cheap part is integrated with RK4 substeps of at most the stable step. The global order equals `order`
  * (checked by the self-convergence test). Memory follows the points: remeshing interpolates it onto new
  * points; reconnections and heater absorption clear it for the points within 4 links, which restart at
- * order 1; the first steps are classical RK4 steps until `order` levels exist. The far field, once the near
+ * order 1; the first steps are classical RK4 steps until `order` levels exist. Advective limit of the
+ * multirate steps: instead of v_max·dt ≤ δ_r/2 for every point, relative displacements are bounded pairwise —
+ * by δ_r for pairs in the near list that may reconnect (≥ 4 links apart or on different loops) and by the
+ * list's skin (1.5δ) for all — so a fast cusp with no line nearby (the usual recoil after a reconnection)
+ * no longer sets the step of the whole tangle; approaching lines still cannot pass through each other
+ * between reconnection checks. The far field, once the near
  * window is removed, hardly responds to mesh-scale oscillations, so its extrapolation is stable at the local
  * term's stable step (and up to 2× it, measured on the zig-zag test); larger ratios alias the fast Kelvin
  * modes into the extrapolation and grow.
@@ -53,7 +60,7 @@ import type { ReconnectionRecord, ReconnectOptions } from "./reconnect.ts";
 import { remesh } from "./remesh.ts";
 import type { MarkerTransfer, RemeshOptions } from "./remesh.ts";
 import { compactInto, FilamentState, HIST_LEVELS, HIST_STRIDE, IdCounters, RemovalReason } from "./state.ts";
-import { E_QUARTER } from "./biot_savart.ts";
+import { addLocalTerm } from "./biot_savart.ts";
 import { NearField } from "./near.ts";
 import { type AccuracyCheckSettings, AccuracyMonitor } from "./accuracy.ts";
 import type { CompactOptions, RemovedLoop } from "./state.ts";
@@ -104,6 +111,11 @@ export type IntegratorConfig =
     /** Near-field window radius r_w in units of δ (the fast part sums segments within 2r_w). */
     readonly window: number;
   };
+
+/** Skin of the near-field pair list in units of δ: no pair approaches by more within one step. */
+const NEAR_SKIN = 1.5;
+/** Points fewer links apart on one loop never reconnect (`reconnect.ts`). */
+const RECONNECT_MIN_LINKS = 4;
 
 /** Default integrator: multirate, order 4, steps at the local term's stable step, window 2δ. */
 export const INTEGRATOR_DEFAULTS = { kind: "multirate", order: 4, slowFactor: 1, window: 2 } as const;
@@ -316,13 +328,41 @@ export class FilamentSimulation {
   /** Slot of level j. */
   private readonly hSlot = new Int32Array(HIST_LEVELS);
   private readonly near = new NearField();
+  private loopIndex = new Int32Array(0);
+  private loopLength = new Int32Array(0);
+
+  /** Largest relative speed (first-stage velocities kx…) of listed pairs that may reconnect. */
+  private approachSpeed(): number {
+    const s = this.state, n = s.n;
+    if (this.loopIndex.length < n) {
+      this.loopIndex = new Int32Array(this.cap);
+      this.loopLength = new Int32Array(this.cap);
+    }
+    for (let k = 0; k < s.nLoops; k++) {
+      const s0 = s.loopStart[k], m = s.loopLen[k];
+      for (let q = 0; q < m; q++) {
+        this.loopIndex[s0 + q] = q;
+        this.loopLength[s0 + q] = m;
+      }
+    }
+    return this.near.maxApproachSpeed(
+      n,
+      this.kx,
+      this.ky,
+      this.kz,
+      s.loopOf,
+      this.loopIndex,
+      this.loopLength,
+      RECONNECT_MIN_LINKS,
+    );
+  }
   /** Slow (nonlocal) evaluations and fast substeps of the last step. */
   lastSubsteps = 0;
   slowEvaluations = 0;
 
   /**
-   * Evaluates the slow velocity S = v_nonlocal + (κ/4π) ln(√(ℓ₋ℓ₊)/δ) s′×s″ at the current positions and pushes
-   * it as the newest level of every point's integrator memory (time t).
+   * Evaluates the slow velocity S = v_nonlocal − v_near (the far field beyond the near window) at the current
+   * positions and pushes it as the newest level of every point's integrator memory (time t).
    */
   private pushSlowLevel(window: number): void {
     const s = this.state, n = s.n, f = this.field, g = f.geo;
@@ -333,7 +373,7 @@ export class FilamentSimulation {
     f.addNonlocal(n, s.x, s.y, s.z, s.prev, kx, ky, kz);
     this.slowEvaluations++;
     const cf = v.kappa / (4 * Math.PI);
-    // Near field (fast part): Verlet list with a skin of δ_r (no pair approaches by more within a step).
+    // Near field (fast part): Verlet list with a skin of NEAR_SKIN·δ (no pair approaches by more within a step).
     this.near.build(
       n,
       s.x,
@@ -343,22 +383,19 @@ export class FilamentSimulation {
       s.prev,
       v.boxSize,
       window * this.config.resolution,
-      this.config.reconnectionDistance,
+      NEAR_SKIN * this.config.resolution,
     );
     this.near.add(n, s.x, s.y, s.z, g.dx, g.dy, g.dz, -cf, kx, ky, kz);
-    const inv = 1 / this.config.resolution;
     this.hHead = (this.hHead + 1) % HIST_LEVELS;
     this.hTimes[this.hHead] = this.t;
     this.hLevels = Math.min(this.hLevels + 1, HIST_LEVELS);
-    const { tx, ty, tz, cx, cy, cz, len } = g;
-    const h = s.hist, hc = s.histCount, prev = s.prev;
+    const h = s.hist, hc = s.histCount;
     const o = 3 * this.hHead;
     for (let i = 0; i < n; i++) {
-      const corr = cf * Math.log(Math.sqrt(len[i] * len[prev[i]]) * inv);
       const b = i * HIST_STRIDE + o;
-      h[b] = kx[i] + corr * (ty[i] * cz[i] - tz[i] * cy[i]);
-      h[b + 1] = ky[i] + corr * (tz[i] * cx[i] - tx[i] * cz[i]);
-      h[b + 2] = kz[i] + corr * (tx[i] * cy[i] - ty[i] * cx[i]);
+      h[b] = kx[i];
+      h[b + 1] = ky[i];
+      h[b + 2] = kz[i];
       hc[i] = Math.min(hc[i] + 1, HIST_LEVELS);
     }
   }
@@ -378,8 +415,8 @@ export class FilamentSimulation {
   }
 
   /**
-   * Fast right-hand side at positions (px, py, pz) and time tau: the local term with the fixed coefficient
-   * (κ/4π) ln(2δ/(e^{1/4}a₀)), plus each point's extrapolated slow velocity, then external flow and friction.
+   * Fast right-hand side at positions (px, py, pz) and time tau: the local term, the windowed near field and
+   * each point's extrapolated far field, then external flow and friction.
    */
   private fastRhs(
     px: Float64Array,
@@ -395,12 +432,12 @@ export class FilamentSimulation {
     const v = this.config.velocity;
     computeGeometry(n, px, py, pz, s.next, s.prev, v.boxSize, g);
     this.extrapolationWeights(tau);
-    const cfast = v.kappa / (4 * Math.PI) * Math.log(2 * this.config.resolution / (E_QUARTER * v.coreRadius));
-    const { tx, ty, tz, cx, cy, cz } = g;
+    const cf = v.kappa / (4 * Math.PI);
     const h = s.hist, hc = s.histCount, w = this.hWeights, slot = this.hSlot;
     const K = HIST_LEVELS;
     for (let i = 0; i < n; i++) vx[i] = vy[i] = vz[i] = 0;
-    this.near.add(n, px, py, pz, g.dx, g.dy, g.dz, v.kappa / (4 * Math.PI), vx, vy, vz);
+    addLocalTerm(n, s.prev, g.tx, g.ty, g.tz, g.cx, g.cy, g.cz, g.len, cf, v.coreRadius, vx, vy, vz);
+    this.near.add(n, px, py, pz, g.dx, g.dy, g.dz, cf, vx, vy, vz);
     for (let i = 0; i < n; i++) {
       const o = Math.min(hc[i], order);
       let sx = 0, sy = 0, sz = 0;
@@ -412,9 +449,9 @@ export class FilamentSimulation {
         sy += wj * h[q + 1];
         sz += wj * h[q + 2];
       }
-      vx[i] += cfast * (ty[i] * cz[i] - tz[i] * cy[i]) + sx;
-      vy[i] += cfast * (tz[i] * cx[i] - tx[i] * cz[i]) + sy;
-      vz[i] += cfast * (tx[i] * cy[i] - ty[i] * cx[i]) + sz;
+      vx[i] += sx;
+      vy[i] += sy;
+      vz[i] += sz;
     }
     f.finish(n, px, py, vx, vy, vz);
   }
@@ -447,8 +484,14 @@ export class FilamentSimulation {
         if (q > v2) v2 = q;
       }
       if (Number.isNaN(v2)) throw new EngineFailure("nan", `non-finite velocity at t = ${this.t}`, this.t);
-      const advect = v2 > 0 ? 0.5 * this.config.reconnectionDistance / Math.sqrt(v2) : Infinity;
-      dt = Math.min(dtMax, starting ? fast : slowFactor * fast, advect);
+      // Advective limits (module doc): no pair may approach by more than the near list's skin (so the list
+      // stays complete), and no pair that could reconnect by more than δ_r (so none passes through another
+      // between reconnection checks).
+      const skin = this.config.resolution * NEAR_SKIN;
+      const list = v2 > 0 ? 0.5 * skin / Math.sqrt(v2) : Infinity;
+      const w = this.approachSpeed();
+      const approach = w > 0 ? this.config.reconnectionDistance / w : Infinity;
+      dt = Math.min(dtMax, starting ? fast : slowFactor * fast, list, approach);
       if (!(dt > this.config.minStep) && dt < dtMax) {
         throw new EngineFailure(
           "step-underflow",

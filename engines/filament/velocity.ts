@@ -27,7 +27,7 @@
 import { addLiaTerm, addLocalTerm, nonlocalDirect, nonlocalDirectPeriodic } from "./biot_savart.ts";
 import { computeGeometry, Geometry } from "./geometry.ts";
 import type { AccuracyMonitor } from "./accuracy.ts";
-import type { SegmentFmm } from "./fmm.ts";
+import type { NearKernel, SegmentFmm } from "./fmm.ts";
 import { FmmThreads } from "./fmm_threads.ts";
 import { SegmentTree, SHARED } from "./tree.ts";
 
@@ -76,10 +76,12 @@ export interface FmmSettings {
   readonly order: number;
   readonly theta: number;
   readonly leafSize: number;
+  /** Near-field kernel: WebAssembly f32x4 SIMD or f64 TypeScript. */
+  readonly nearKernel: NearKernel;
 }
 
-/** FMM settings that keep the 99th-percentile error near 3e-4 v_rms on dense ring tangles (fmm_test.ts). */
-export const FMM_DEFAULTS: FmmSettings = { order: 5, theta: 0.45, leafSize: 32 };
+/** FMM settings that keep the 99th-percentile error near 4e-4 v_rms on dense ring tangles (fmm_test.ts). */
+export const FMM_DEFAULTS: FmmSettings = { order: 5, theta: 0.5, leafSize: 64, nearKernel: "simd-f32" };
 
 /** Evaluates the velocity of all points; owns its geometry and tree work arrays. */
 export class VelocityField {
@@ -115,7 +117,7 @@ export class VelocityField {
   /** The FMM of this field (created on first use; its counters describe the last evaluation's own share). */
   get fmm(): SegmentFmm {
     if (this.pool === null) {
-      this.pool = new FmmThreads(this.config.threads ?? 1, this.config.fmm.order);
+      this.pool = new FmmThreads(this.config.threads ?? 1, this.config.fmm.order, this.config.fmm.nearKernel);
       this.tree.useAllocator(SHARED);
     }
     return this.pool.fmm;
@@ -181,7 +183,7 @@ export class VelocityField {
       // One code path for any thread count (the sum lands in a zeroed buffer, then is added), so the
       // thread count never changes a bit of the result.
       if (this.pool === null) {
-        this.pool = new FmmThreads(c.threads ?? 1, c.fmm.order);
+        this.pool = new FmmThreads(c.threads ?? 1, c.fmm.order, c.fmm.nearKernel);
         this.tree.useAllocator(SHARED);
       }
       this.tree.build(n, x, y, z, g.dx, g.dy, g.dz, g.len, 0, c.fmm.leafSize);
