@@ -21,6 +21,8 @@
  * ```
  */
 
+import { CellHash } from "./_cell_hash.ts";
+
 /** Smooth window: 1 for q ≤ 1, 1 − s²(3 − 2s) with s = q − 1 for 1 < q < 2, 0 beyond. */
 export function nearWindow(q: number): number {
   if (q <= 1) return 1;
@@ -36,10 +38,8 @@ export class NearField {
   seg = new Int32Array(0);
   radius = 0;
   boxSize = 0;
-  private cellHead = new Int32Array(0);
+  private readonly cells = new CellHash();
   private cellNext = new Int32Array(0);
-  private keys = new Float64Array(0);
-  private hashCap = 0;
 
   /**
    * Lists, for every point i, the segments j (j ≠ i, prev[i]) whose midpoints lie within 2r_w + skin of it
@@ -62,18 +62,12 @@ export class NearField {
     const R = 2 * rw + skin, R2 = R * R;
     if (this.start.length < n + 1) this.start = new Int32Array(2 * n + 1);
     if (this.cellNext.length < n) this.cellNext = new Int32Array(2 * n);
-    let h = 64;
-    while (h < 2 * n) h *= 2;
-    if (h > this.hashCap) {
-      this.cellHead = new Int32Array(h);
-      this.keys = new Float64Array(h);
-      this.hashCap = h;
-    }
     let nc = L > 0 ? Math.max(1, Math.floor(L / R)) : 0;
     if (nc === 2) nc = 1; // with fewer than 3 cells per side one cell holds everything
     const cs = L > 0 ? L / nc : R;
-    const head = this.cellHead, nxt = this.cellNext, keys = this.keys;
-    head.fill(-1);
+    const cells = this.cells, nxt = this.cellNext;
+    cells.reset(n, nc);
+    const head = cells.head;
     const mid = (i: number, c: 0 | 1 | 2) => {
       const a = c === 0 ? x : c === 1 ? y : z;
       let d = a[next[i]] - a[i];
@@ -81,14 +75,13 @@ export class NearField {
       return a[i] + 0.5 * d;
     };
     for (let j = n - 1; j >= 0; j--) {
-      const slot = this.slot(
+      const slot = cells.slot(
         Math.floor(mid(j, 0) / cs),
         Math.floor(mid(j, 1) / cs),
         Math.floor(mid(j, 2) / cs),
-        nc,
         true,
       );
-      if (head[slot] === -1) keys[slot] = this.lastKey;
+      cells.claim(slot);
       nxt[j] = head[slot];
       head[slot] = j;
     }
@@ -101,7 +94,7 @@ export class NearField {
       for (let a = -span; a <= span; a++) {
         for (let b = -span; b <= span; b++) {
           for (let c = -span; c <= span; c++) {
-            const slot = this.slot(ix + a, iy + b, iz + c, nc, false);
+            const slot = cells.slot(ix + a, iy + b, iz + c, false);
             if (slot < 0) continue;
             for (let j = head[slot]; j >= 0; j = nxt[j]) {
               if (j === i || j === p) continue;
@@ -218,26 +211,5 @@ export class NearField {
       }
     }
     return Math.sqrt(m2);
-  }
-
-  private lastKey = 0;
-
-  /** Hash slot of cell (ix, iy, iz) (wrapped modulo nc when nc > 0); −1 if absent and not inserting. */
-  private slot(ix: number, iy: number, iz: number, nc: number, insert: boolean): number {
-    if (nc > 0) {
-      ix = ((ix % nc) + nc) % nc;
-      iy = ((iy % nc) + nc) % nc;
-      iz = ((iz % nc) + nc) % nc;
-    }
-    const a = ix & 0x1ffff, b = iy & 0x1ffff, c = iz & 0x1ffff;
-    const key = (a * 131072 + b) * 131072 + c;
-    this.lastKey = key;
-    const mask = this.hashCap - 1;
-    let h = (Math.imul(a, 73856093) ^ Math.imul(b, 19349663) ^ Math.imul(c, 83492791)) & mask;
-    for (;;) {
-      if (this.cellHead[h] === -1) return insert ? h : -1;
-      if (this.keys[h] === key) return h;
-      h = (h + 1) & mask;
-    }
   }
 }

@@ -252,28 +252,51 @@ export class FilamentSimulation {
     if (integ.kind === "multirate" && this.config.velocity.model === "biot-savart") {
       return this.advanceMultirate(dtMax, fixedDt, integ.order, integ.slowFactor, integ.window);
     }
-    const { x0, y0, z0, xs, ys, zs, kx, ky, kz, ax, ay, az } = this;
+    const { kx, ky, kz } = this;
     const f = this.field;
     f.evaluate(n, s.x, s.y, s.z, s.next, s.prev, kx, ky, kz);
     let dt = dtMax;
     if (!fixedDt) {
-      let v2 = 0;
-      for (let i = 0; i < n; i++) {
-        const q = kx[i] * kx[i] + ky[i] * ky[i] + kz[i] * kz[i];
-        if (q > v2) v2 = q;
-      }
-      if (Number.isNaN(v2)) throw new EngineFailure("nan", `non-finite velocity at t = ${this.t}`, this.t);
       const stable = this.stableStepFrom(f.geo, n);
-      const advect = v2 > 0 ? 0.5 * this.config.reconnectionDistance / Math.sqrt(v2) : Infinity;
-      dt = Math.min(dtMax, stable, advect);
-      if (!(dt > this.config.minStep) && dt < dtMax) {
-        throw new EngineFailure(
-          "step-underflow",
-          `time step underflow (dt = ${dt}) at t = ${this.t}`,
-          this.t,
-        );
-      }
+      const advect = 0.5 * this.config.reconnectionDistance / Math.sqrt(this.maxSpeed2());
+      dt = this.checkedStep(Math.min(dtMax, stable, advect), dtMax);
     }
+    this.rk4Step(dt, this.t, 0);
+    this.t += dt;
+    this.steps++;
+    this.lastDt = dt;
+    this.wrapAndGuard();
+    this.topology(false);
+    return dt;
+  }
+
+  /** Largest squared speed in (kx, ky, kz); EngineFailure on NaN. */
+  private maxSpeed2(): number {
+    const { kx, ky, kz } = this;
+    let v2 = 0;
+    for (let i = 0; i < this.state.n; i++) {
+      const q = kx[i] * kx[i] + ky[i] * ky[i] + kz[i] * kz[i];
+      if (q > v2) v2 = q;
+    }
+    if (Number.isNaN(v2)) throw new EngineFailure("nan", `non-finite velocity at t = ${this.t}`, this.t);
+    return v2;
+  }
+
+  /** The step dt, or EngineFailure("step-underflow") when it falls below minStep short of dtMax. */
+  private checkedStep(dt: number, dtMax: number): number {
+    if (!(dt > this.config.minStep) && dt < dtMax) {
+      throw new EngineFailure("step-underflow", `time step underflow (dt = ${dt}) at t = ${this.t}`, this.t);
+    }
+    return dt;
+  }
+
+  /**
+   * One classical RK4 step of size h from time tq with k₁ in (kx, ky, kz): stages by the full right-hand side
+   * (order 0) or by the multirate fast right-hand side with far-field extrapolation of the given order.
+   */
+  private rk4Step(h: number, tq: number, order: number): void {
+    const s = this.state, n = s.n, f = this.field;
+    const { x0, y0, z0, xs, ys, zs, kx, ky, kz, ax, ay, az } = this;
     for (let i = 0; i < n; i++) {
       x0[i] = s.x[i];
       y0[i] = s.y[i];
@@ -281,41 +304,32 @@ export class FilamentSimulation {
       ax[i] = kx[i];
       ay[i] = ky[i];
       az[i] = kz[i];
-      xs[i] = x0[i] + 0.5 * dt * kx[i];
-      ys[i] = y0[i] + 0.5 * dt * ky[i];
-      zs[i] = z0[i] + 0.5 * dt * kz[i];
+      xs[i] = x0[i] + 0.5 * h * kx[i];
+      ys[i] = y0[i] + 0.5 * h * ky[i];
+      zs[i] = z0[i] + 0.5 * h * kz[i];
     }
-    f.evaluate(n, xs, ys, zs, s.next, s.prev, kx, ky, kz);
+    for (let stage = 2; stage <= 4; stage++) {
+      if (order === 0) {
+        f.evaluate(n, xs, ys, zs, s.next, s.prev, kx, ky, kz);
+        if (this.config.integrator.kind === "multirate") this.slowEvaluations++;
+      } else this.fastRhs(xs, ys, zs, stage === 4 ? tq + h : tq + 0.5 * h, order, kx, ky, kz);
+      const wgt = stage === 4 ? 1 : 2;
+      const c = stage === 3 ? h : 0.5 * h;
+      for (let i = 0; i < n; i++) {
+        ax[i] += wgt * kx[i];
+        ay[i] += wgt * ky[i];
+        az[i] += wgt * kz[i];
+        xs[i] = x0[i] + c * kx[i];
+        ys[i] = y0[i] + c * ky[i];
+        zs[i] = z0[i] + c * kz[i];
+      }
+    }
+    const h6 = h / 6;
     for (let i = 0; i < n; i++) {
-      ax[i] += 2 * kx[i];
-      ay[i] += 2 * ky[i];
-      az[i] += 2 * kz[i];
-      xs[i] = x0[i] + 0.5 * dt * kx[i];
-      ys[i] = y0[i] + 0.5 * dt * ky[i];
-      zs[i] = z0[i] + 0.5 * dt * kz[i];
+      s.x[i] = x0[i] + h6 * ax[i];
+      s.y[i] = y0[i] + h6 * ay[i];
+      s.z[i] = z0[i] + h6 * az[i];
     }
-    f.evaluate(n, xs, ys, zs, s.next, s.prev, kx, ky, kz);
-    for (let i = 0; i < n; i++) {
-      ax[i] += 2 * kx[i];
-      ay[i] += 2 * ky[i];
-      az[i] += 2 * kz[i];
-      xs[i] = x0[i] + dt * kx[i];
-      ys[i] = y0[i] + dt * ky[i];
-      zs[i] = z0[i] + dt * kz[i];
-    }
-    f.evaluate(n, xs, ys, zs, s.next, s.prev, kx, ky, kz);
-    const h6 = dt / 6;
-    for (let i = 0; i < n; i++) {
-      s.x[i] = x0[i] + h6 * (ax[i] + kx[i]);
-      s.y[i] = y0[i] + h6 * (ay[i] + ky[i]);
-      s.z[i] = z0[i] + h6 * (az[i] + kz[i]);
-    }
-    this.t += dt;
-    this.steps++;
-    this.lastDt = dt;
-    this.wrapAndGuard();
-    this.topology(false);
-    return dt;
   }
 
   // ---- multirate stepping -------------------------------------------------------------------------------
@@ -470,7 +484,7 @@ export class FilamentSimulation {
     const s = this.state;
     const n = s.n;
     const f = this.field;
-    const { x0, y0, z0, xs, ys, zs, kx, ky, kz, ax, ay, az } = this;
+    const { kx, ky, kz } = this;
     this.pushSlowLevel(window);
     const starting = this.hLevels < order;
     // First stage (t_n): the full right-hand side, equal to the classical one.
@@ -478,27 +492,14 @@ export class FilamentSimulation {
     const fast = this.stableStepFrom(f.geo, n);
     let dt = dtMax;
     if (!fixedDt) {
-      let v2 = 0;
-      for (let i = 0; i < n; i++) {
-        const q = kx[i] * kx[i] + ky[i] * ky[i] + kz[i] * kz[i];
-        if (q > v2) v2 = q;
-      }
-      if (Number.isNaN(v2)) throw new EngineFailure("nan", `non-finite velocity at t = ${this.t}`, this.t);
       // Advective limits (module doc): no pair may approach by more than the near list's skin (so the list
       // stays complete), and no pair that could reconnect by more than δ_r (so none passes through another
       // between reconnection checks).
       const skin = this.config.resolution * NEAR_SKIN;
-      const list = v2 > 0 ? 0.5 * skin / Math.sqrt(v2) : Infinity;
+      const list = 0.5 * skin / Math.sqrt(this.maxSpeed2());
       const w = this.approachSpeed();
       const approach = w > 0 ? this.config.reconnectionDistance / w : Infinity;
-      dt = Math.min(dtMax, starting ? fast : slowFactor * fast, list, approach);
-      if (!(dt > this.config.minStep) && dt < dtMax) {
-        throw new EngineFailure(
-          "step-underflow",
-          `time step underflow (dt = ${dt}) at t = ${this.t}`,
-          this.t,
-        );
-      }
+      dt = this.checkedStep(Math.min(dtMax, starting ? fast : slowFactor * fast, list, approach), dtMax);
     }
     const m = starting ? 1 : Math.max(1, Math.ceil(dt / fast * (1 - 1e-12)));
     const h = dt / m;
@@ -506,39 +507,7 @@ export class FilamentSimulation {
     for (let q = 0; q < m; q++) {
       const tq = t0 + q * h;
       if (q > 0) this.fastRhs(s.x, s.y, s.z, tq, order, kx, ky, kz);
-      for (let i = 0; i < n; i++) {
-        x0[i] = s.x[i];
-        y0[i] = s.y[i];
-        z0[i] = s.z[i];
-        ax[i] = kx[i];
-        ay[i] = ky[i];
-        az[i] = kz[i];
-        xs[i] = x0[i] + 0.5 * h * kx[i];
-        ys[i] = y0[i] + 0.5 * h * ky[i];
-        zs[i] = z0[i] + 0.5 * h * kz[i];
-      }
-      for (let stage = 2; stage <= 4; stage++) {
-        const ts = stage === 4 ? tq + h : tq + 0.5 * h;
-        if (starting) f.evaluate(n, xs, ys, zs, s.next, s.prev, kx, ky, kz);
-        else this.fastRhs(xs, ys, zs, ts, order, kx, ky, kz);
-        if (starting) this.slowEvaluations++;
-        const wgt = stage === 4 ? 1 : 2;
-        const c = stage === 3 ? h : 0.5 * h;
-        for (let i = 0; i < n; i++) {
-          ax[i] += wgt * kx[i];
-          ay[i] += wgt * ky[i];
-          az[i] += wgt * kz[i];
-          xs[i] = x0[i] + c * kx[i];
-          ys[i] = y0[i] + c * ky[i];
-          zs[i] = z0[i] + c * kz[i];
-        }
-      }
-      const h6 = h / 6;
-      for (let i = 0; i < n; i++) {
-        s.x[i] = x0[i] + h6 * ax[i];
-        s.y[i] = y0[i] + h6 * ay[i];
-        s.z[i] = z0[i] + h6 * az[i];
-      }
+      this.rk4Step(h, tq, starting ? 0 : order);
     }
     this.lastSubsteps = m;
     this.t += dt;

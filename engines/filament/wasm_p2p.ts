@@ -17,7 +17,7 @@
  * const k = WasmP2P.load(); // throws EngineFailure with the fix when the module was not compiled
  * ```
  */
-import { EngineFailure } from "../contract.ts";
+import { instantiateKernel } from "../_wasm.ts";
 
 /** Where the install step writes the compiled module. */
 export const P2P_WASM = new URL("./asm/build/p2p.wasm", import.meta.url);
@@ -28,8 +28,6 @@ interface P2PExports {
   ptr(k: number): number;
   p2p(nt: number, ns: number): void;
 }
-
-let cachedModule: WebAssembly.Module | null = null;
 
 /** One instance of the kernel with its typed-array views (one per thread). */
 export class WasmP2P {
@@ -56,27 +54,7 @@ export class WasmP2P {
 
   /** Instantiates the compiled kernel; EngineFailure("invalid-state") with the fix when it is missing. */
   static load(): WasmP2P {
-    if (cachedModule === null) {
-      let bytes: Uint8Array<ArrayBuffer>;
-      try {
-        bytes = Deno.readFileSync(P2P_WASM);
-      } catch {
-        throw new EngineFailure(
-          "invalid-state",
-          `the compiled WebAssembly kernel ${P2P_WASM.pathname} is missing: run ./spindrift --help once ` +
-            "(its install step compiles it with AssemblyScript), or set numerics.fmm.nearKernel: f64",
-          0,
-        );
-      }
-      cachedModule = new WebAssembly.Module(bytes);
-    }
-    const inst = new WebAssembly.Instance(cachedModule, {
-      env: {
-        abort() {
-          throw new Error("WebAssembly kernel aborted");
-        },
-      },
-    });
+    const inst = instantiateKernel(P2P_WASM, "set numerics.fmm.nearKernel: f64");
     return new WasmP2P(inst.exports as unknown as P2PExports);
   }
 

@@ -12,7 +12,7 @@
  * // k.velocity(n, x, y, g, side, u, v);
  * ```
  */
-import { EngineFailure } from "../contract.ts";
+import { instantiateKernel } from "../_wasm.ts";
 import { LATTICE_COEFFS } from "./periodic.ts";
 
 /** Where the install step writes the compiled module. */
@@ -24,8 +24,6 @@ interface PeriodicExports {
   ptr(k: number): number;
   velocity(n: number, side: number): number;
 }
-
-let cachedModule: WebAssembly.Module | null = null;
 
 /** One instance of the kernel and its views. */
 export class PeriodicKernel {
@@ -43,27 +41,7 @@ export class PeriodicKernel {
 
   /** Instantiates the compiled kernel; EngineFailure("invalid-state") with the fix when it is missing. */
   static load(): PeriodicKernel {
-    if (cachedModule === null) {
-      let bytes: Uint8Array<ArrayBuffer>;
-      try {
-        bytes = Deno.readFileSync(PERIODIC_WASM);
-      } catch {
-        throw new EngineFailure(
-          "invalid-state",
-          `the compiled WebAssembly kernel ${PERIODIC_WASM.pathname} is missing: run ./spindrift --help once ` +
-            "(its install step compiles it with AssemblyScript)",
-          0,
-        );
-      }
-      cachedModule = new WebAssembly.Module(bytes);
-    }
-    const inst = new WebAssembly.Instance(cachedModule, {
-      env: {
-        abort() {
-          throw new Error("WebAssembly kernel aborted");
-        },
-      },
-    });
+    const inst = instantiateKernel(PERIODIC_WASM, "");
     return new PeriodicKernel(inst.exports as unknown as PeriodicExports);
   }
 
