@@ -39,6 +39,9 @@ export class NearField {
   radius = 0;
   boxSize = 0;
   private readonly cells = new CellHash();
+  private mx = new Float64Array(0);
+  private my = new Float64Array(0);
+  private mz = new Float64Array(0);
   private cellNext = new Int32Array(0);
 
   /**
@@ -68,19 +71,27 @@ export class NearField {
     const cells = this.cells, nxt = this.cellNext;
     cells.reset(n, nc);
     const head = cells.head;
-    const mid = (i: number, c: 0 | 1 | 2) => {
-      const a = c === 0 ? x : c === 1 ? y : z;
-      let d = a[next[i]] - a[i];
-      if (L > 0) d -= L * Math.round(d / L);
-      return a[i] + 0.5 * d;
-    };
+    // Segment midpoints (minimum image of the segment vector in a periodic box).
+    if (this.mx.length < n) {
+      this.mx = new Float64Array(2 * n);
+      this.my = new Float64Array(2 * n);
+      this.mz = new Float64Array(2 * n);
+    }
+    const { mx, my, mz } = this;
+    for (let j = 0; j < n; j++) {
+      const k = next[j];
+      let ex = x[k] - x[j], ey = y[k] - y[j], ez = z[k] - z[j];
+      if (L > 0) {
+        ex -= L * Math.round(ex / L);
+        ey -= L * Math.round(ey / L);
+        ez -= L * Math.round(ez / L);
+      }
+      mx[j] = x[j] + 0.5 * ex;
+      my[j] = y[j] + 0.5 * ey;
+      mz[j] = z[j] + 0.5 * ez;
+    }
     for (let j = n - 1; j >= 0; j--) {
-      const slot = cells.slot(
-        Math.floor(mid(j, 0) / cs),
-        Math.floor(mid(j, 1) / cs),
-        Math.floor(mid(j, 2) / cs),
-        true,
-      );
+      const slot = cells.slot(Math.floor(mx[j] / cs), Math.floor(my[j] / cs), Math.floor(mz[j] / cs), true);
       cells.claim(slot);
       nxt[j] = head[slot];
       head[slot] = j;
@@ -98,7 +109,7 @@ export class NearField {
             if (slot < 0) continue;
             for (let j = head[slot]; j >= 0; j = nxt[j]) {
               if (j === i || j === p) continue;
-              let ex = mid(j, 0) - x[i], ey = mid(j, 1) - y[i], ez = mid(j, 2) - z[i];
+              let ex = mx[j] - x[i], ey = my[j] - y[i], ez = mz[j] - z[i];
               if (L > 0) {
                 ex -= L * Math.round(ex / L);
                 ey -= L * Math.round(ey / L);
