@@ -180,7 +180,7 @@ const integratorSchema = z.strictObject({
 
 const accuracySchema = z.strictObject({
   every: z.number().int().min(0).default(ACCURACY_CHECK_DEFAULTS.every).describe(
-    "check the tree/FMM sum every this many steps against the exact sum (a count; 0 = off)",
+    "check the tree/FMM sum every this many steps against the exact sum (a count, dimensionless; 0 = off)",
   ),
   samples: z.number().int().min(1).max(1024).default(ACCURACY_CHECK_DEFAULTS.samples).describe(
     "points compared per check (a count, dimensionless)",
