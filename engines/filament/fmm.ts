@@ -39,6 +39,7 @@
 import { type ArrayAllocator, PLAIN, type SegmentTree } from "./tree.ts";
 import { KERNELS } from "./_fmm_kernels.ts";
 import { WasmP2P } from "./wasm_p2p.ts";
+import { segmentVelocity } from "./biot_savart.ts";
 
 /** Near-field (leaf pair) kernel: WebAssembly f32x4 SIMD, or f64 TypeScript. */
 export type NearKernel = "simd-f32" | "f64";
@@ -294,6 +295,7 @@ export class SegmentFmm {
     this.wasm = nearKernel === "simd-f32" ? WasmP2P.load() : null;
   }
 
+  private readonly segOut = new Float64Array(3);
   /** The f32x4 WebAssembly near-field kernel, or null for the f64 TypeScript loop. */
   private readonly wasm: WasmP2P | null;
 
@@ -670,6 +672,7 @@ export class SegmentFmm {
     const s0 = t.start[B], s1 = s0 + t.count[B];
     const a0 = t.start[A], a1 = a0 + t.count[A];
     const { smx, smy, smz, sdx, sdy, sdz } = t;
+    const out = this.segOut;
     for (let ka = a0; ka < a1; ka++) {
       const i = t.perm[ka];
       const p1 = ka, p2 = t.pos[prev[i]];
@@ -677,22 +680,22 @@ export class SegmentFmm {
       let ux = 0, uy = 0, uz = 0;
       for (let k = s0; k < s1; k++) {
         if (k === p1 || k === p2) continue;
-        const rx = px - smx[k], ry = py - smy[k], rz = pz - smz[k];
-        const hx = 0.5 * sdx[k], hy = 0.5 * sdy[k], hz = 0.5 * sdz[k];
-        const r1x = rx + hx, r1y = ry + hy, r1z = rz + hz;
-        const r2x = rx - hx, r2y = ry - hy, r2z = rz - hz;
-        const n1 = Math.sqrt(r1x * r1x + r1y * r1y + r1z * r1z);
-        const n2 = Math.sqrt(r2x * r2x + r2y * r2y + r2z * r2z);
-        const nn = n1 * n2;
-        const cx = r1y * r2z - r1z * r2y, cy = r1z * r2x - r1x * r2z, cz = r1x * r2y - r1y * r2x;
-        const dot = r1x * r2x + r1y * r2y + r1z * r2z;
-        const q = dot >= 0 ? nn + dot : (cx * cx + cy * cy + cz * cz) / (nn - dot);
-        const den = nn * q;
-        if (!(den > 0)) continue;
-        const f = (n1 + n2) / den;
-        ux += f * cx;
-        uy += f * cy;
-        uz += f * cz;
+        // segment from its start (midpoint − half vector) along its vector
+        segmentVelocity(
+          px,
+          py,
+          pz,
+          smx[k] - 0.5 * sdx[k],
+          smy[k] - 0.5 * sdy[k],
+          smz[k] - 0.5 * sdz[k],
+          sdx[k],
+          sdy[k],
+          sdz[k],
+          out,
+        );
+        ux += out[0];
+        uy += out[1];
+        uz += out[2];
       }
       vx[i] += cf * ux;
       vy[i] += cf * uy;
