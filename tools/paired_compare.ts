@@ -53,11 +53,15 @@ function meanSd(v: number[]): [number, number] {
 if (import.meta.main) {
   const [before, after, ...names] = Deno.args;
   if (!before || !after) {
-    console.error("usage: deno run --allow-read tools/paired_compare.ts BEFORE.sqlite AFTER.sqlite [scalar …]");
+    console.error(
+      "usage: deno run --allow-read tools/paired_compare.ts BEFORE.sqlite AFTER.sqlite [scalar …]",
+    );
     Deno.exit(2);
   }
   const a = scalars(before), b = scalars(after);
-  console.log("scalar | pairs | before mean ± sd | after mean ± sd | paired Δ = after − before [95 % t] | verdict");
+  console.log(
+    "scalar | pairs | before mean ± sd | after mean ± sd | paired Δ = after − before [95 % t] | verdict",
+  );
   for (const name of names.length > 0 ? names : DEFAULT) {
     const ma = a.get(name), mb = b.get(name);
     if (!ma || !mb) {
