@@ -1,6 +1,6 @@
 /**
  * Long physics run (SPINDRIFT_LONG=1): a reduced copy of the 3D example study examples/cloud-spread.yaml
- * (ball radius 5ℓ instead of 8ℓ, t = 10 instead of 30, 4 realisations), run through the runner and the
+ * (ball radius 5ℓ instead of 8ℓ, t = 10 instead of 90, 4 realisations), run through the runner and the
  * current analysis (`analyseStudy`, as `spindrift analyse`). It checks what must hold whatever the physics
  * turns out to be: every realisation finishes; the run-time accuracy check of the FMM stays within its
  * tolerance (99th percentile of |Δv|/v_rms ≤ 1e-3, methods §2.9); the analysis reports either D/κ with an
@@ -21,7 +21,8 @@ Deno.test({
   async fn() {
     const text = Deno.readTextFileSync(new URL("../examples/cloud-spread.yaml", import.meta.url))
       .replace("cloudRadius: 8.0", "cloudRadius: 5.0")
-      .replace("duration: 30.0", "duration: 10.0")
+      .replace("duration: 90.0", "duration: 10.0")
+      .replace("sampleInterval: 1.5", "sampleInterval: 0.5")
       .replace("realisations: 20", "realisations: 4");
     const study = normalizeText(text, "cloud-spread-reduced.yaml");
     const dir = Deno.makeTempDirSync({ prefix: "spindrift-cloud-" });
