@@ -134,6 +134,11 @@ export interface EngineRunInput<P> {
    * conditions, reading files); see `StopRequest`.
    */
   readonly stop?: StopRequest;
+  /**
+   * Threads the engine may use inside this realisation (default 1). Engines that use them must give
+   * bit-identical results for any thread count, and stop their threads before `run` returns.
+   */
+  readonly threads?: number;
 }
 
 /**

@@ -44,6 +44,8 @@ export interface RealisationTask {
   readonly realisationIndex: number;
   /** Folder of the study file (relative paths in parameters resolve against it). */
   readonly baseDirectory?: string;
+  /** Threads the engine may use inside the realisation (results do not depend on it). */
+  readonly threads?: number;
   readonly observables: {
     readonly record: readonly string[];
     readonly classification: ClassificationConfig;
@@ -192,6 +194,7 @@ export async function executeRealisation(
         realisationIndex: task.realisationIndex,
         baseDirectory: task.baseDirectory,
         stop,
+        threads: task.threads,
       },
       sink,
     );

@@ -90,7 +90,7 @@ Deno.test("parseStudyText lists every missing required section at once", () => {
     "t.yaml:1:1  engine: required: the engine to run, one of toy-engine",
     "t.yaml:1:1  parameters: required: a map",
     "t.yaml:1:1  seed: required: an integer or a text (non-empty, at most 200 characters)",
-    "t.yaml:1:1  run: required: a map with keys duration, sampleInterval, tolerance, maxDistance, workers, cluster",
+    "t.yaml:1:1  run: required: a map with keys duration, sampleInterval, tolerance, maxDistance, workers, threads, cluster",
   ]);
 });
 

@@ -60,6 +60,8 @@ export interface NormalizedRun {
   readonly maxDistance: number;
   /** The study's default worker count, when it sets one (never part of a hash). */
   readonly workers?: number;
+  /** Threads inside one realisation, when set (never part of a hash). */
+  readonly threads?: number;
   /** Cluster resources for the Slurm executor, when given (never part of a hash). */
   readonly cluster?: ClusterSettings;
 }
@@ -120,6 +122,7 @@ export function normalizeStudy(study: StudyFile, opts: NormalizeOptions): Normal
     tolerance: study.run.tolerance,
     maxDistance: study.run.maxDistance,
     ...(study.run.workers !== undefined ? { workers: study.run.workers } : {}),
+    ...(study.run.threads !== undefined ? { threads: study.run.threads } : {}),
     ...(study.run.cluster !== undefined ? { cluster: study.run.cluster } : {}),
   };
   const hashedRun = {

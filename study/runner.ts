@@ -110,6 +110,7 @@ export function taskFor(study: NormalizedStudy, r: PlannedRealisation): Realisat
     realisationIndex: r.index,
     baseDirectory: study.sourcePath ? dirname(study.sourcePath) : undefined,
     observables: study.observables,
+    ...(study.run.threads !== undefined ? { threads: study.run.threads } : {}),
   };
 }
 

@@ -270,6 +270,11 @@ export const runSchema = z.strictObject({
     "Default number of parallel workers, an integer ≥ 1 (the command line may override it). Results do not " +
       "depend on it.",
   ),
+  threads: z.int().min(1).max(64).optional().describe(
+    "Threads inside one realisation, an integer ≥ 1 (default 1), for engines that can use them (the 3D " +
+      "filament engine's fast multipole sum). Results do not depend on it; use it when realisations are fewer " +
+      "than cores (workers × threads ≤ cores).",
+  ),
   cluster: clusterSchema.optional().describe(
     "Resources for `spindrift run --cluster` (partition, time limit, memory, …); flags override them. " +
       "Never part of a hash: results do not depend on where they were computed.",

@@ -1,9 +1,12 @@
 /**
  * Shared fixtures of the filament tests (private): simulation configurations and simple measurements.
  */
-import { FilamentSimulation, type SimulationConfig } from "./simulation.ts";
-import type { Loop } from "./initial.ts";
-import type { VelocityConfig } from "./velocity.ts";
+import { FilamentSimulation, INTEGRATOR_DEFAULTS, type SimulationConfig } from "./simulation.ts";
+import { type Loop, ringCloud } from "./initial.ts";
+import { computeGeometry, Geometry } from "./geometry.ts";
+import { FilamentState, IdCounters } from "./state.ts";
+import { RandomStream } from "../random.ts";
+import { FMM_DEFAULTS, type VelocityConfig } from "./velocity.ts";
 
 /** γ_E. */
 export const GAMMA_E = 0.5772156649015329;
@@ -25,6 +28,7 @@ export function velocityConfig(over: Partial<VelocityConfig> = {}): VelocityConf
     treeThreshold: 1e9,
     theta: 0.4,
     leafSize: 16,
+    fmm: FMM_DEFAULTS,
     boxSize: 0,
     alpha: 0,
     alphaPrime: 0,
@@ -53,6 +57,7 @@ export function simConfig(
     maxDistance: 1e9,
     maxPoints: 1e6,
     minStep: 0,
+    integrator: INTEGRATOR_DEFAULTS,
     ...over,
   };
   return c;
@@ -96,3 +101,42 @@ export function loopCentroid(
 export function runTo(sim: FilamentSimulation, T: number): void {
   while (sim.t < T * (1 - 1e-13)) sim.advance(T - sim.t);
 }
+
+/** A frozen random tangle: a ring cloud with overlapping rings (about 4000 points). */
+export function tangle(rings: number, L = 0): { s: FilamentState; g: Geometry } {
+  const rng = RandomStream.fromState([11, 22, 33, 44]);
+  const cloud = ringCloud(
+    { count: rings, radius: { mean: 1, sd: 0.3 }, cloudRadius: 3, centre: [0, 0, 0] },
+    0.1,
+    0.1,
+    rng,
+  );
+  const s = new FilamentState();
+  const ids = new IdCounters();
+  for (const l of cloud.loops) {
+    if (L > 0) { for (const p of l) for (let c = 0; c < 3; c++) p[c] -= L * Math.floor(p[c] / L + 0.5); }
+    s.appendLoop(l, ids, 6);
+  }
+  const g = new Geometry();
+  computeGeometry(s.n, s.x, s.y, s.z, s.next, s.prev, L, g);
+  return { s, g };
+}
+
+/** Median, 99th percentile and max of |v_tree − v_direct| / v_rms(direct). */
+export function errorStats(n: number, dx: Float64Array[], tx: Float64Array[]) {
+  let rms = 0;
+  for (let i = 0; i < n; i++) rms += dx[0][i] ** 2 + dx[1][i] ** 2 + dx[2][i] ** 2;
+  rms = Math.sqrt(rms / n);
+  const e = new Float64Array(n);
+  for (let i = 0; i < n; i++) {
+    e[i] = Math.hypot(tx[0][i] - dx[0][i], tx[1][i] - dx[1][i], tx[2][i] - dx[2][i]) / rms;
+  }
+  e.sort();
+  return { median: e[n >> 1], p99: e[Math.floor(0.99 * n)], max: e[n - 1] };
+}
+
+export const vec = (n: number): [Float64Array, Float64Array, Float64Array] => [
+  new Float64Array(n),
+  new Float64Array(n),
+  new Float64Array(n),
+];

@@ -43,7 +43,7 @@ import { FILAMENT_STARTER } from "./starter.ts";
 import { SegmentTree } from "./tree.ts";
 import type { NormalFlow } from "./velocity.ts";
 
-const ENGINE_VERSION = "1.0.0";
+const ENGINE_VERSION = "2.0.0";
 
 /** The 3D vortex-filament engine. */
 export const filamentEngine: Engine<FilamentParams> = {
@@ -78,6 +78,8 @@ export const filamentEngine: Engine<FilamentParams> = {
         "(ids: the marker id; data: jump distance, receiver_old_id)",
       "heater-absorption": "a point entered the heater (r < r_h) and was deleted (ids: the point; data: " +
         "length_removed, marker (1 if its track ends), loop)",
+      "accuracy-warning": "the sampled error of the tree/FMM nonlocal sum exceeded numerics.accuracyCheck." +
+        "tolerance between two frames (data: p99 = 99th percentile of |Δv|/v_rms, tolerance, frame)",
     },
     diagnostics: {
       line_length: "total line length L (length)",
@@ -88,6 +90,8 @@ export const filamentEngine: Engine<FilamentParams> = {
       impulse_z: "impulse (κ/2)∮ s×ds, z component (length⁴/time)",
       loop_count: "number of loops",
       reconnections: "cumulative number of reconnections",
+      velocity_error: "99th percentile of |Δv|/v_rms of the tree/FMM nonlocal sum against the exact sum at " +
+        "sampled points since the previous frame (dimensionless; empty when not checked, e.g. direct sum)",
     },
     units: {
       length: "m (units: physical) or ℓ (units: dimensionless)",
@@ -168,6 +172,7 @@ export function simulationConfig(
   p: FilamentParams,
   maxDistance: number,
   sampleInterval: number,
+  threads = 1,
 ): SimulationConfig {
   const r = resolveSettings(p);
   const nm = p.numerics;
@@ -180,6 +185,8 @@ export function simulationConfig(
       treeThreshold: nm.treeThreshold,
       theta: nm.theta,
       leafSize: nm.leafSize,
+      fmm: nm.fmm,
+      threads,
       boxSize: r.boxSize,
       alpha: r.alpha,
       alphaPrime: r.alphaPrime,
@@ -197,6 +204,8 @@ export function simulationConfig(
     maxDistance,
     maxPoints: nm.maxPoints,
     minStep: 1e-12 * sampleInterval,
+    integrator: nm.integrator,
+    accuracyCheck: nm.accuracyCheck,
   };
 }
 
@@ -265,9 +274,25 @@ function runWithLoops(
 ): EngineRunSummary {
   const p = input.params;
   const controls = input.controls;
-  const cfg = simulationConfig(p, controls.maxDistance, controls.sampleInterval);
+  const cfg = simulationConfig(p, controls.maxDistance, controls.sampleInterval, input.threads ?? 1);
   const init = initialLoops(p, input, fileLoops);
   const sim = new FilamentSimulation(cfg, init.loops, (e) => sink.event(e));
+  try {
+    return simulate(input, sink, sim, cfg, init);
+  } finally {
+    sim.field.close();
+  }
+}
+
+/** The frame loop of one realisation (see `runWithLoops`). */
+function simulate(
+  input: EngineRunInput<FilamentParams>,
+  sink: FrameSink,
+  sim: FilamentSimulation,
+  cfg: SimulationConfig,
+  init: ReturnType<typeof initialLoops>,
+): EngineRunSummary {
+  const controls = input.controls;
   const L = cfg.velocity.boxSize;
   const kappa = cfg.velocity.kappa;
 
@@ -279,9 +304,7 @@ function runWithLoops(
   const diag = () => {
     const s = sim.state;
     computeGeometry(s.n, s.x, s.y, s.z, s.next, s.prev, L, sim.geo);
-    const v = cfg.velocity;
-    const useTree = v.summation === "tree" || (v.summation === "auto" && s.n >= v.treeThreshold) ||
-      (L > 0 && s.n > 1500);
+    const useTree = sim.field.usesTree(s.n) || (L > 0 && s.n > 1500);
     const e = s.n === 0 ? 0 : energy(s, sim.geo, {
       kappa,
       coreRadius: cfg.velocity.coreRadius,
@@ -293,8 +316,21 @@ function runWithLoops(
     const imp = impulse(s, sim.geo, kappa, L);
     return { length: lineLength(sim.geo.len, s.n), energy: e, impulse: imp };
   };
+  let velocityError = NaN;
   const emit = (index: number, d: ReturnType<typeof diag>) => {
     const s = sim.state;
+    if (sim.accuracy !== null) {
+      velocityError = sim.accuracy.takeFrameP99();
+      const tol = sim.accuracy.settings.tolerance;
+      if (velocityError > tol) {
+        sink.event({
+          t: sim.t,
+          kind: "accuracy-warning",
+          ids: [],
+          data: { p99: velocityError, tolerance: tol, frame: index },
+        });
+      }
+    }
     if (s.n > cap) {
       cap = Math.max(64, 2 * s.n);
       fx = new Float64Array(cap);
@@ -325,6 +361,7 @@ function runWithLoops(
         impulse_z: d.impulse.z,
         loop_count: s.nLoops,
         reconnections: sim.reconnections,
+        velocity_error: velocityError,
       },
     });
   };
@@ -373,6 +410,12 @@ function runWithLoops(
     alpha: cfg.velocity.alpha,
     alpha_prime: cfg.velocity.alphaPrime,
   };
+  if (sim.accuracy !== null && sim.accuracy.checks > 0) {
+    const a = sim.accuracy.summary();
+    scalars.velocity_error_p99 = a.p99;
+    scalars.velocity_error_max = a.max;
+    scalars.velocity_error_samples = a.samples;
+  }
   const conservative = L === 0 && cfg.velocity.alpha === 0 && cfg.velocity.alphaPrime === 0 &&
     cfg.velocity.normal.kind === "rest";
   if (conservative) {

@@ -23,6 +23,9 @@
  */
 import { z } from "zod";
 import { heliumAt, HeliumRangeError } from "./helium.ts";
+import { FMM_DEFAULTS } from "./velocity.ts";
+import { INTEGRATOR_DEFAULTS } from "./simulation.ts";
+import { ACCURACY_CHECK_DEFAULTS } from "./accuracy.ts";
 
 /** κ of ⁴He, m²/s: h/m₄ from CODATA 2018 h and the ⁴He atomic mass (check-values §0). */
 export const KAPPA_HE4 = 9.9693e-8;
@@ -139,6 +142,56 @@ const domainSchema = z.discriminatedUnion("kind", [
   }).describe("periodic cube: minimum image plus the 26 neighbouring images"),
 ]);
 
+const fmmSchema = z.strictObject({
+  order: z.number().int().min(3).max(6).default(FMM_DEFAULTS.order).describe(
+    "expansion order p of the fast multipole method (dimensionless; error ∝ θ^p)",
+  ),
+  theta: z.number().gt(0).lt(1).default(FMM_DEFAULTS.theta).describe(
+    "FMM opening parameter: cells interact through expansions when r_target + r_source < θ·distance " +
+      "(dimensionless)",
+  ),
+  leafSize: z.number().int().min(1).max(256).default(FMM_DEFAULTS.leafSize).describe(
+    "maximum segments per FMM tree leaf (a count, dimensionless)",
+  ),
+  nearKernel: z.enum(["simd-f32", "f64"]).default(FMM_DEFAULTS.nearKernel).describe(
+    "exact near-field sums: WebAssembly f32x4 SIMD (compiled by the install step) or f64 TypeScript",
+  ),
+}).describe(
+  "fast multipole settings (defaults: 99th-percentile velocity error ≈ 4e-4 v_rms on dense ring tangles)",
+);
+
+const integratorSchema = z.strictObject({
+  kind: z.enum(["multirate", "rk4"]).default(INTEGRATOR_DEFAULTS.kind).describe(
+    "multirate: one nonlocal (far-field) evaluation per step, extrapolated in time, with the local term and " +
+      "the near field in RK4 substeps; rk4: classical RK4 on the whole right-hand side (4 nonlocal " +
+      "evaluations per step). The LIA model always uses rk4",
+  ),
+  order: z.number().int().min(1).max(4).default(INTEGRATOR_DEFAULTS.order).describe(
+    "multirate: order of the time extrapolation of the far field (= order of accuracy; dimensionless)",
+  ),
+  slowFactor: z.number().min(1).max(2).default(INTEGRATOR_DEFAULTS.slowFactor).describe(
+    "multirate: step limit as a multiple of the local term's stable step c·h_min²/(κΛ) (dimensionless; " +
+      "the advective limit applies as well)",
+  ),
+  window: z.number().min(1).max(4).default(INTEGRATOR_DEFAULTS.window).describe(
+    "multirate: near-field window r_w/δ — segments within r_w are integrated with the local term, " +
+      "tapering to none at 2r_w (dimensionless)",
+  ),
+}).describe("time integration (defaults: multirate, order 4)");
+
+const accuracySchema = z.strictObject({
+  every: z.number().int().min(0).default(ACCURACY_CHECK_DEFAULTS.every).describe(
+    "check the tree/FMM sum every this many steps against the exact sum (a count, dimensionless; 0 = off)",
+  ),
+  samples: z.number().int().min(1).max(1024).default(ACCURACY_CHECK_DEFAULTS.samples).describe(
+    "points compared per check (a count, dimensionless)",
+  ),
+  tolerance: z.number().positive().default(ACCURACY_CHECK_DEFAULTS.tolerance).describe(
+    "warn (event accuracy-warning) when the 99th percentile of |Δv|/v_rms between frames exceeds this " +
+      "(dimensionless)",
+  ),
+}).describe("run-time accuracy check of the fast nonlocal sum (stored as diagnostic velocity_error)");
+
 const numericsSchema = z.strictObject({
   minSpacingFactor: z.number().gt(0).lt(1).default(0.5).describe("δ_min/δ (dimensionless)"),
   reconnectionFactor: z.number().gt(0).max(1).default(0.5).describe(
@@ -147,16 +200,20 @@ const numericsSchema = z.strictObject({
   dtFactor: z.number().positive().max(6).default(3).describe(
     "c in dt = c·h_min²/(κΛ), Λ = ln(h_max/a₀) (dimensionless; RK4 stability needs c ≲ 6.7)",
   ),
-  summation: z.enum(["auto", "direct", "tree"]).default("auto").describe(
-    "nonlocal Biot–Savart sum: direct O(N²), Barnes–Hut tree, or tree from treeThreshold points on",
+  summation: z.enum(["auto", "direct", "tree", "fmm"]).default("auto").describe(
+    "nonlocal Biot–Savart sum: direct O(N²), Barnes–Hut tree, fast multipole method (unbounded domain; " +
+      "a periodic box uses the tree), or auto = FMM (periodic: tree) from treeThreshold points on",
   ),
   treeThreshold: z.number().int().min(1).default(2000).describe(
-    "points from which `auto` uses the tree (a count, dimensionless)",
+    "points from which `auto` uses the FMM or tree (a count, dimensionless)",
   ),
   theta: z.number().gt(0).max(1).default(0.4).describe("tree opening parameter θ (dimensionless)"),
   leafSize: z.number().int().min(1).max(64).default(16).describe(
     "maximum segments per tree leaf (a count, dimensionless)",
   ),
+  fmm: fmmSchema.default(FMM_DEFAULTS),
+  integrator: integratorSchema.default(INTEGRATOR_DEFAULTS),
+  accuracyCheck: accuracySchema.default(ACCURACY_CHECK_DEFAULTS),
   markerEvery: z.number().int().min(1).max(64).default(6).describe(
     "one Lagrangian marker every m initial points (a count, dimensionless)",
   ),
@@ -200,6 +257,9 @@ export const filamentParamsSchema = z.strictObject({
     treeThreshold: 2000,
     theta: 0.4,
     leafSize: 16,
+    fmm: FMM_DEFAULTS,
+    integrator: INTEGRATOR_DEFAULTS,
+    accuracyCheck: ACCURACY_CHECK_DEFAULTS,
     markerEvery: 6,
     maxPoints: 200000,
   }),

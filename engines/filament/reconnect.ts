@@ -31,6 +31,7 @@
  */
 import type { Geometry } from "./geometry.ts";
 import type { FilamentState } from "./state.ts";
+import { CellHash } from "./_cell_hash.ts";
 
 export interface ReconnectOptions {
   /** Reconnection distance δ_r (length). */
@@ -74,9 +75,7 @@ export class Reconnector {
   private loopPos = new Int32Array(0);
   private loopIdx = new Int32Array(0);
   private used = new Uint8Array(0);
-  private hashCap = 0;
-  private hKey = new Float64Array(0);
-  private hHead = new Int32Array(0);
+  private readonly cells = new CellHash();
   private pairCap = 0;
   private pa = new Int32Array(0);
   private pb = new Int32Array(0);
@@ -92,13 +91,6 @@ export class Reconnector {
       this.loopIdx = new Int32Array(c);
       this.used = new Uint8Array(c);
       this.cap = c;
-    }
-    let h = 64;
-    while (h < 2 * n) h *= 2;
-    if (h > this.hashCap) {
-      this.hKey = new Float64Array(h);
-      this.hHead = new Int32Array(h);
-      this.hashCap = h;
     }
   }
 
@@ -148,12 +140,12 @@ export class Reconnector {
     // Cell list. Periodic: nc cells per side of size L/nc ≥ δ_r; unbounded: cells of size δ_r, hashed.
     const nc = L > 0 ? Math.max(1, Math.floor(L / dr)) : 0;
     const cs = L > 0 ? L / nc : dr;
-    const hKey = this.hKey, hHead = this.hHead, cellNext = this.cellNext;
-    hHead.fill(-1);
-    this.nc = nc;
+    const cells = this.cells, cellNext = this.cellNext;
+    cells.reset(n, nc);
+    const hHead = cells.head;
     for (let i = n - 1; i >= 0; i--) {
-      const h = this.slot(Math.floor(x[i] / cs), Math.floor(y[i] / cs), Math.floor(z[i] / cs), true);
-      if (hHead[h] === -1) hKey[h] = this.lastKey;
+      const h = cells.slot(Math.floor(x[i] / cs), Math.floor(y[i] / cs), Math.floor(z[i] / cs), true);
+      cells.claim(h);
       cellNext[i] = hHead[h];
       hHead[h] = i;
     }
@@ -164,7 +156,7 @@ export class Reconnector {
       for (let a = -span; a <= span; a++) {
         for (let b = -span; b <= span; b++) {
           for (let c = -span; c <= span; c++) {
-            const h = this.slot(ix + a, iy + b, iz + c, false);
+            const h = cells.slot(ix + a, iy + b, iz + c, false);
             if (h < 0) continue;
             for (let j = hHead[h]; j >= 0; j = cellNext[j]) {
               if (j <= i) continue;
@@ -259,8 +251,6 @@ export class Reconnector {
     return count;
   }
 
-  private nc = 0;
-  private lastKey = 0;
   private order = new Int32Array(0);
   private sortIds = new Int32Array(0);
   private readonly comparePairs = (p: number, q: number): number => {
@@ -271,40 +261,22 @@ export class Reconnector {
     return Math.max(id[pa[p]], id[pb[p]]) - Math.max(id[pa[q]], id[pb[q]]);
   };
 
-  /** Marks point s and its neighbours up to BLOCK_RADIUS links away (both directions) as used this step. */
+  /**
+   * Marks point s and its neighbours up to BLOCK_RADIUS links away (both directions) as used this step, and
+   * clears their integrator memory (their nonlocal velocity jumps with the new connectivity).
+   */
   private block(state: FilamentState, s: number): void {
-    const used = this.used;
+    const used = this.used, hc = state.histCount;
     used[s] = 1;
+    hc[s] = 0;
     let a = s, b = s;
     for (let k = 0; k < BLOCK_RADIUS; k++) {
       a = state.next[a];
       b = state.prev[b];
       used[a] = 1;
       used[b] = 1;
-    }
-  }
-
-  /**
-   * Hash slot of cell (ix, iy, iz) (wrapped modulo nc in a periodic box): the slot holding it, or, if absent,
-   * the empty slot to insert it (insert = true) or −1. The cell key packs 17 bits per axis (exact below 2^51);
-   * distinct cells sharing a key merely share a list, and the distance test keeps the result exact.
-   */
-  private slot(ix: number, iy: number, iz: number, insert: boolean): number {
-    const nc = this.nc;
-    if (nc > 0) {
-      ix = ((ix % nc) + nc) % nc;
-      iy = ((iy % nc) + nc) % nc;
-      iz = ((iz % nc) + nc) % nc;
-    }
-    const a = ix & 0x1ffff, b = iy & 0x1ffff, c = iz & 0x1ffff;
-    const key = (a * 131072 + b) * 131072 + c;
-    this.lastKey = key;
-    const mask = this.hashCap - 1;
-    let h = (Math.imul(a, 73856093) ^ Math.imul(b, 19349663) ^ Math.imul(c, 83492791)) & mask;
-    for (;;) {
-      if (this.hHead[h] === -1) return insert ? h : -1;
-      if (this.hKey[h] === key) return h;
-      h = (h + 1) & mask;
+      hc[a] = 0;
+      hc[b] = 0;
     }
   }
 

@@ -3,11 +3,13 @@
  *
  * Method.
  * 1. Removal: a segment shorter than δ_min loses one end point — the one with the smaller curvature, never a
- *    marker — provided the merged segment stays ≤ δ_max and the point does not sit in a region of curvature
- *    radius < 2δ_max (so sharp features are not cut). Below the hard floor δ_min/2 the curvature and length
- *    conditions are waived (a very short segment would otherwise force a tiny stable time step). If both ends
- *    are markers and the segment is below the hard floor, one marker point is deleted and its marker (id and
- *    history) moves to its nearest surviving non-marker neighbour; the transfer is reported.
+ *    marker — unconditionally, so every segment ends the pass at least δ_min long (for δ_min ≤ δ_max/2): a
+ *    merged segment longer than δ_max is split again by step 2 into pieces of at least δ_max/2. This floor is
+ *    what the time step rests on (dt ∝ h_min², `simulation.ts`); an earlier rule kept short segments in
+ *    sharply curved places and let h_min fall to ≈ δ/4, which cost a factor ≈ 4 in the step. Sharp features
+ *    below δ_min are not resolved either way. If both ends are markers, the marker of the lower-curvature end
+ *    moves to its other neighbour (when that one is not a marker) and the end is deleted; the transfer is
+ *    reported.
  * 2. Insertion: a segment longer than δ_max is split into k = ⌈ℓ/δ_max⌉ pieces by points on the osculating
  *    circle through its ends (curvature vector: mean of the two end points', projected normal to the chord;
  *    for one new point this is s_new = ½(s_i + s_{i+1}) + (√(R² − ℓ²/4) − R) n̂), or on the chord where the
@@ -25,7 +27,7 @@
  * ```
  */
 import type { Geometry } from "./geometry.ts";
-import type { FilamentState, IdCounters } from "./state.ts";
+import { type FilamentState, HIST_STRIDE, type IdCounters } from "./state.ts";
 
 export interface RemeshOptions {
   /** δ_min (length). */
@@ -89,8 +91,6 @@ export function remesh(
 ): RemeshResult {
   const L = opts.boxSize;
   const dmin = opts.minSpacing, dmax = opts.maxSpacing;
-  const hardFloor = 0.5 * dmin;
-  const sharp = 1 / (2 * dmax); // curvature of radius 2δ_max
   const n0 = state.n;
   if (loopIndex.length < n0) loopIndex = new Int32Array(Math.max(n0, 2 * loopIndex.length));
   if (loopCount.length < state.nLoops) {
@@ -111,7 +111,6 @@ export function remesh(
       const j = state.next[i];
       const l = dist(state, i, j, L);
       if (l >= dmin) break;
-      const floor = l < hardFloor;
       const ci = curvature(geo, i), cj = curvature(geo, j);
       const first = ci <= cj ? i : j;
       const second = first === i ? j : i;
@@ -119,15 +118,10 @@ export function remesh(
       for (let q = 0; q < 2; q++) {
         const v = q === 0 ? first : second;
         if (state.marker[v]) continue;
-        if (!floor) {
-          if ((v === i ? ci : cj) > sharp) continue;
-          const merged = dist(state, state.prev[v], state.next[v], L);
-          if (merged > dmax) continue;
-        }
         victim = v;
         break;
       }
-      if (victim < 0 && floor) {
+      if (victim < 0) {
         // Both ends are markers: move the marker of `first` to its other neighbour if that is not a marker.
         const v = first;
         const w = v === i ? state.prev[v] : state.next[v];
@@ -213,6 +207,13 @@ export function remesh(
       state.z[s] = pz;
       state.id[s] = ids.point();
       state.loopOf[s] = state.loopOf[i];
+      // Integrator memory: interpolated along the segment (the slow velocity is smooth along the line).
+      const hc = Math.min(state.histCount[i], state.histCount[j]);
+      state.histCount[s] = hc;
+      if (hc > 0) {
+        const h = state.hist, bs = s * HIST_STRIDE, bi = i * HIST_STRIDE, bj = j * HIST_STRIDE;
+        for (let k = 0; k < HIST_STRIDE; k++) h[bs + k] = (1 - tau) * h[bi + k] + tau * h[bj + k];
+      }
       state.next[last] = s;
       state.prev[s] = last;
       last = s;

@@ -1,11 +1,11 @@
 /**
- * One filament simulation: state, RK4 time stepping, and the topology work done between full steps
- * (heater absorption, remeshing, reconnection, loop removal), with every event reported.
+ * One filament simulation: state, time stepping (classical RK4 or a multirate scheme), and the topology work
+ * done between full steps (heater absorption, remeshing, reconnection, loop removal), with every event reported.
  *
  * Step sequence (one call of `advance`):
  *   1. k₁ = f(s) at the current positions; choose dt = min(dtMax, c·h_min²/(κΛ), δ_r/(2 v_max)) with h_min the
  *      smallest spacing, Λ = max(1, ln(h_max/a₀)) and v_max the largest |k₁|;
- *   2. classical RK4 with fixed topology (stages k₂…k₄);
+ *   2. integration over dt with fixed topology (RK4: stages k₂…k₄; multirate: see below);
  *   3. wrap positions into the periodic box (image counters), NaN and blow-up guards;
  *   4. heater absorption (points with r < r_h deleted) and remeshing, then compaction (tiny loops < 5 points
  *      or < 3δ removed, far loops removed);
@@ -14,12 +14,36 @@
  * Method (dt): linearising the local term about a straight line gives Kelvin waves ω = (κΛ/4π)k²; the 5-point
  * stencil's largest k² is 16/(3h²) (zig-zag mode), and RK4 is stable on the imaginary axis for |ωdt| ≤ 2.83, so
  * dt ≤ 6.7 h²/(κΛ); the default c = 3 keeps a factor ≈ 2 margin for non-uniform stencils (docs/methods.md §2.4,
- * derived there; the zig-zag test checks it). The advective limit keeps approaching lines from passing through
- * each other between reconnection checks.
+ * derived there; the zig-zag test checks it). Remeshing keeps h_min ≥ δ_min (`remesh.ts`). The advective limit
+ * keeps approaching lines from passing through each other between reconnection checks.
+ *
+ * Method (multirate). The right-hand side splits into a cheap, stiff part — the local term, the windowed
+ * near field of segments within 2r_w (`near.ts`), external flow and friction — and the expensive far field
+ * S = v_nonlocal − v_near = Σ_j (1 − φ(r_ij/r_w)) u_j (own segments lie inside the window, so S does not depend
+ * on them: it is smooth along the line and interpolates well onto points inserted by remeshing). Nothing in S
+ * may respond to mesh-scale modes, which oscillate at the fast rate and cannot be extrapolated: an earlier
+ * version that moved the spacing part of the local term into S was unstable at order 4 (the zig-zag Kelvin
+ * modes of a shrinking ring grew ×10³ per time unit). S is evaluated once per step at the step's start
+ * (one tree/FMM sum instead of RK4's four) and stored per point; inside the step each point's S is the
+ * Lagrange extrapolation through its last `order` values (an Adams–Bashforth-type predictor), while the
+ * cheap part is integrated with RK4 substeps of at most the stable step. The global order equals `order`
+ * (checked by the self-convergence test). Memory follows the points: remeshing interpolates it onto new
+ * points; reconnections and heater absorption clear it for the points within 4 links, which restart at
+ * order 1; the first steps are classical RK4 steps until `order` levels exist. Advective limit of the
+ * multirate steps: instead of v_max·dt ≤ δ_r/2 for every point, relative displacements are bounded pairwise —
+ * by δ_r for pairs in the near list that may reconnect (≥ 4 links apart or on different loops) and by the
+ * list's skin (1.5δ) for all — so a fast cusp with no line nearby (the usual recoil after a reconnection)
+ * no longer sets the step of the whole tangle; approaching lines still cannot pass through each other
+ * between reconnection checks. The far field, once the near
+ * window is removed, hardly responds to mesh-scale oscillations, so its extrapolation is stable at the local
+ * term's stable step (and up to 2× it, measured on the zig-zag test); larger ratios alias the fast Kelvin
+ * modes into the extrapolation and grow.
  *
  * References: K.W. Schwarz, Phys. Rev. B 38, 2398 (1988), doi:10.1103/PhysRevB.38.2398; D.R. Durran,
  * Numerical Methods for Fluid Dynamics, 2nd ed. (Springer, 2010), doi:10.1007/978-1-4419-6412-0 (RK4 stability
- * region).
+ * region); E. Hairer, S.P. Nørsett, G. Wanner, Solving Ordinary Differential Equations I, 2nd ed. (Springer,
+ * 1993) §III.1 (Adams methods, variable steps); C.W. Gear, D.R. Wells, "Multirate linear multistep methods",
+ * BIT 24, 484 (1984), doi:10.1007/BF01934907 (multirate stepping).
  *
  * @example
  * ```ts
@@ -35,7 +59,10 @@ import { Reconnector } from "./reconnect.ts";
 import type { ReconnectionRecord, ReconnectOptions } from "./reconnect.ts";
 import { remesh } from "./remesh.ts";
 import type { MarkerTransfer, RemeshOptions } from "./remesh.ts";
-import { compactInto, FilamentState, IdCounters, RemovalReason } from "./state.ts";
+import { compactInto, FilamentState, HIST_LEVELS, HIST_STRIDE, IdCounters, RemovalReason } from "./state.ts";
+import { addLocalTerm } from "./biot_savart.ts";
+import { NearField } from "./near.ts";
+import { type AccuracyCheckSettings, AccuracyMonitor } from "./accuracy.ts";
 import type { CompactOptions, RemovedLoop } from "./state.ts";
 import { type VelocityConfig, VelocityField } from "./velocity.ts";
 
@@ -64,7 +91,34 @@ export interface SimulationConfig {
   readonly maxPoints: number;
   /** EngineFailure("step-underflow") when the chosen step falls below this (time). */
   readonly minStep: number;
+  /** Time integration (see module doc). */
+  readonly integrator: IntegratorConfig;
+  /** Run-time check of the tree/FMM sum against the exact sum (`accuracy.ts`); absent = off. */
+  readonly accuracyCheck?: AccuracyCheckSettings;
 }
+
+/**
+ * Time integrator: classical RK4 on the whole right-hand side, or the multirate scheme (module doc) with
+ * polynomial extrapolation of the given order for the nonlocal velocity and the slow step limited to
+ * `slowFactor` times the local term's stable step.
+ */
+export type IntegratorConfig =
+  | { readonly kind: "rk4" }
+  | {
+    readonly kind: "multirate";
+    readonly order: number;
+    readonly slowFactor: number;
+    /** Near-field window radius r_w in units of δ (the fast part sums segments within 2r_w). */
+    readonly window: number;
+  };
+
+/** Skin of the near-field pair list in units of δ: no pair approaches by more within one step. */
+const NEAR_SKIN = 1.5;
+/** Points fewer links apart on one loop never reconnect (`reconnect.ts`). */
+const RECONNECT_MIN_LINKS = 4;
+
+/** Default integrator: multirate, order 4, steps at the local term's stable step, window 2δ. */
+export const INTEGRATOR_DEFAULTS = { kind: "multirate", order: 4, slowFactor: 1, window: 2 } as const;
 
 /** Filament simulation state and stepper (see module doc). */
 export class FilamentSimulation {
@@ -72,6 +126,8 @@ export class FilamentSimulation {
   state = new FilamentState(64);
   private spare = new FilamentState(64);
   readonly field: VelocityField;
+  /** Sampled errors of the fast nonlocal sum (null when the check is off). */
+  readonly accuracy: AccuracyMonitor | null;
   /** Geometry of the state after the last topology pass. */
   readonly geo = new Geometry();
   readonly ids = new IdCounters();
@@ -112,6 +168,8 @@ export class FilamentSimulation {
     this.config = config;
     this.emit = emit;
     this.field = new VelocityField(config.velocity);
+    const ac = config.accuracyCheck;
+    this.accuracy = ac !== undefined && ac.every > 0 ? new AccuracyMonitor(ac) : null;
     const L = config.velocity.boxSize;
     for (const loop of loops) {
       const s0 = this.state.n;
@@ -189,28 +247,56 @@ export class FilamentSimulation {
       return dtMax;
     }
     this.ensure(n);
-    const { x0, y0, z0, xs, ys, zs, kx, ky, kz, ax, ay, az } = this;
+    if (this.accuracy !== null && this.accuracy.due(this.steps)) this.field.armCheck(this.accuracy);
+    const integ = this.config.integrator;
+    if (integ.kind === "multirate" && this.config.velocity.model === "biot-savart") {
+      return this.advanceMultirate(dtMax, fixedDt, integ.order, integ.slowFactor, integ.window);
+    }
+    const { kx, ky, kz } = this;
     const f = this.field;
     f.evaluate(n, s.x, s.y, s.z, s.next, s.prev, kx, ky, kz);
     let dt = dtMax;
     if (!fixedDt) {
-      let v2 = 0;
-      for (let i = 0; i < n; i++) {
-        const q = kx[i] * kx[i] + ky[i] * ky[i] + kz[i] * kz[i];
-        if (q > v2) v2 = q;
-      }
-      if (Number.isNaN(v2)) throw new EngineFailure("nan", `non-finite velocity at t = ${this.t}`, this.t);
       const stable = this.stableStepFrom(f.geo, n);
-      const advect = v2 > 0 ? 0.5 * this.config.reconnectionDistance / Math.sqrt(v2) : Infinity;
-      dt = Math.min(dtMax, stable, advect);
-      if (!(dt > this.config.minStep) && dt < dtMax) {
-        throw new EngineFailure(
-          "step-underflow",
-          `time step underflow (dt = ${dt}) at t = ${this.t}`,
-          this.t,
-        );
-      }
+      const advect = 0.5 * this.config.reconnectionDistance / Math.sqrt(this.maxSpeed2());
+      dt = this.checkedStep(Math.min(dtMax, stable, advect), dtMax);
     }
+    this.rk4Step(dt, this.t, 0);
+    this.t += dt;
+    this.steps++;
+    this.lastDt = dt;
+    this.wrapAndGuard();
+    this.topology(false);
+    return dt;
+  }
+
+  /** Largest squared speed in (kx, ky, kz); EngineFailure on NaN. */
+  private maxSpeed2(): number {
+    const { kx, ky, kz } = this;
+    let v2 = 0;
+    for (let i = 0; i < this.state.n; i++) {
+      const q = kx[i] * kx[i] + ky[i] * ky[i] + kz[i] * kz[i];
+      if (q > v2) v2 = q;
+    }
+    if (Number.isNaN(v2)) throw new EngineFailure("nan", `non-finite velocity at t = ${this.t}`, this.t);
+    return v2;
+  }
+
+  /** The step dt, or EngineFailure("step-underflow") when it falls below minStep short of dtMax. */
+  private checkedStep(dt: number, dtMax: number): number {
+    if (!(dt > this.config.minStep) && dt < dtMax) {
+      throw new EngineFailure("step-underflow", `time step underflow (dt = ${dt}) at t = ${this.t}`, this.t);
+    }
+    return dt;
+  }
+
+  /**
+   * One classical RK4 step of size h from time tq with k₁ in (kx, ky, kz): stages by the full right-hand side
+   * (order 0) or by the multirate fast right-hand side with far-field extrapolation of the given order.
+   */
+  private rk4Step(h: number, tq: number, order: number): void {
+    const s = this.state, n = s.n, f = this.field;
+    const { x0, y0, z0, xs, ys, zs, kx, ky, kz, ax, ay, az } = this;
     for (let i = 0; i < n; i++) {
       x0[i] = s.x[i];
       y0[i] = s.y[i];
@@ -218,35 +304,212 @@ export class FilamentSimulation {
       ax[i] = kx[i];
       ay[i] = ky[i];
       az[i] = kz[i];
-      xs[i] = x0[i] + 0.5 * dt * kx[i];
-      ys[i] = y0[i] + 0.5 * dt * ky[i];
-      zs[i] = z0[i] + 0.5 * dt * kz[i];
+      xs[i] = x0[i] + 0.5 * h * kx[i];
+      ys[i] = y0[i] + 0.5 * h * ky[i];
+      zs[i] = z0[i] + 0.5 * h * kz[i];
     }
-    f.evaluate(n, xs, ys, zs, s.next, s.prev, kx, ky, kz);
+    for (let stage = 2; stage <= 4; stage++) {
+      if (order === 0) {
+        f.evaluate(n, xs, ys, zs, s.next, s.prev, kx, ky, kz);
+        if (this.config.integrator.kind === "multirate") this.slowEvaluations++;
+      } else this.fastRhs(xs, ys, zs, stage === 4 ? tq + h : tq + 0.5 * h, order, kx, ky, kz);
+      const wgt = stage === 4 ? 1 : 2;
+      const c = stage === 3 ? h : 0.5 * h;
+      for (let i = 0; i < n; i++) {
+        ax[i] += wgt * kx[i];
+        ay[i] += wgt * ky[i];
+        az[i] += wgt * kz[i];
+        xs[i] = x0[i] + c * kx[i];
+        ys[i] = y0[i] + c * ky[i];
+        zs[i] = z0[i] + c * kz[i];
+      }
+    }
+    const h6 = h / 6;
     for (let i = 0; i < n; i++) {
-      ax[i] += 2 * kx[i];
-      ay[i] += 2 * ky[i];
-      az[i] += 2 * kz[i];
-      xs[i] = x0[i] + 0.5 * dt * kx[i];
-      ys[i] = y0[i] + 0.5 * dt * ky[i];
-      zs[i] = z0[i] + 0.5 * dt * kz[i];
+      s.x[i] = x0[i] + h6 * ax[i];
+      s.y[i] = y0[i] + h6 * ay[i];
+      s.z[i] = z0[i] + h6 * az[i];
     }
-    f.evaluate(n, xs, ys, zs, s.next, s.prev, kx, ky, kz);
+  }
+
+  // ---- multirate stepping -------------------------------------------------------------------------------
+  /** Physical history slot of the newest slow level, number of valid global levels, and their times. */
+  private hHead = 0;
+  private hLevels = 0;
+  private readonly hTimes = new Float64Array(HIST_LEVELS);
+  /** Extrapolation weights: row o − 1 (order o = 1…HIST_LEVELS), column j = level j (0 newest). */
+  private readonly hWeights = new Float64Array(HIST_LEVELS * HIST_LEVELS);
+  /** Slot of level j. */
+  private readonly hSlot = new Int32Array(HIST_LEVELS);
+  private readonly near = new NearField();
+  private loopIndex = new Int32Array(0);
+  private loopLength = new Int32Array(0);
+
+  /** Largest relative speed (first-stage velocities kx…) of listed pairs that may reconnect. */
+  private approachSpeed(): number {
+    const s = this.state, n = s.n;
+    if (this.loopIndex.length < n) {
+      this.loopIndex = new Int32Array(this.cap);
+      this.loopLength = new Int32Array(this.cap);
+    }
+    for (let k = 0; k < s.nLoops; k++) {
+      const s0 = s.loopStart[k], m = s.loopLen[k];
+      for (let q = 0; q < m; q++) {
+        this.loopIndex[s0 + q] = q;
+        this.loopLength[s0 + q] = m;
+      }
+    }
+    return this.near.maxApproachSpeed(
+      n,
+      this.kx,
+      this.ky,
+      this.kz,
+      s.loopOf,
+      this.loopIndex,
+      this.loopLength,
+      RECONNECT_MIN_LINKS,
+    );
+  }
+  /** Slow (nonlocal) evaluations and fast substeps of the last step. */
+  lastSubsteps = 0;
+  slowEvaluations = 0;
+
+  /**
+   * Evaluates the slow velocity S = v_nonlocal − v_near (the far field beyond the near window) at the current
+   * positions and pushes it as the newest level of every point's integrator memory (time t).
+   */
+  private pushSlowLevel(window: number): void {
+    const s = this.state, n = s.n, f = this.field, g = f.geo;
+    const v = this.config.velocity;
+    computeGeometry(n, s.x, s.y, s.z, s.next, s.prev, v.boxSize, g);
+    const { kx, ky, kz } = this;
+    for (let i = 0; i < n; i++) kx[i] = ky[i] = kz[i] = 0;
+    f.addNonlocal(n, s.x, s.y, s.z, s.prev, kx, ky, kz);
+    this.slowEvaluations++;
+    const cf = v.kappa / (4 * Math.PI);
+    // Near field (fast part): Verlet list with a skin of NEAR_SKIN·δ (no pair approaches by more within a step).
+    this.near.build(
+      n,
+      s.x,
+      s.y,
+      s.z,
+      s.next,
+      s.prev,
+      v.boxSize,
+      window * this.config.resolution,
+      NEAR_SKIN * this.config.resolution,
+    );
+    this.near.add(n, s.x, s.y, s.z, g.dx, g.dy, g.dz, -cf, kx, ky, kz);
+    this.hHead = (this.hHead + 1) % HIST_LEVELS;
+    this.hTimes[this.hHead] = this.t;
+    this.hLevels = Math.min(this.hLevels + 1, HIST_LEVELS);
+    const h = s.hist, hc = s.histCount;
+    const o = 3 * this.hHead;
     for (let i = 0; i < n; i++) {
-      ax[i] += 2 * kx[i];
-      ay[i] += 2 * ky[i];
-      az[i] += 2 * kz[i];
-      xs[i] = x0[i] + dt * kx[i];
-      ys[i] = y0[i] + dt * ky[i];
-      zs[i] = z0[i] + dt * kz[i];
+      const b = i * HIST_STRIDE + o;
+      h[b] = kx[i];
+      h[b + 1] = ky[i];
+      h[b + 2] = kz[i];
+      hc[i] = Math.min(hc[i] + 1, HIST_LEVELS);
     }
-    f.evaluate(n, xs, ys, zs, s.next, s.prev, kx, ky, kz);
-    const h6 = dt / 6;
+  }
+
+  /** Lagrange extrapolation weights of the slow levels at time tau, for every order ≤ hLevels. */
+  private extrapolationWeights(tau: number): void {
+    const K = HIST_LEVELS, w = this.hWeights, T = this.hTimes, slot = this.hSlot;
+    for (let j = 0; j < K; j++) slot[j] = (this.hHead - j + K) % K;
+    for (let o = 1; o <= this.hLevels; o++) {
+      for (let j = 0; j < o; j++) {
+        let p = 1;
+        const tj = T[slot[j]];
+        for (let m = 0; m < o; m++) if (m !== j) p *= (tau - T[slot[m]]) / (tj - T[slot[m]]);
+        w[(o - 1) * K + j] = p;
+      }
+    }
+  }
+
+  /**
+   * Fast right-hand side at positions (px, py, pz) and time tau: the local term, the windowed near field and
+   * each point's extrapolated far field, then external flow and friction.
+   */
+  private fastRhs(
+    px: Float64Array,
+    py: Float64Array,
+    pz: Float64Array,
+    tau: number,
+    order: number,
+    vx: Float64Array,
+    vy: Float64Array,
+    vz: Float64Array,
+  ): void {
+    const s = this.state, n = s.n, f = this.field, g = f.geo;
+    const v = this.config.velocity;
+    computeGeometry(n, px, py, pz, s.next, s.prev, v.boxSize, g);
+    this.extrapolationWeights(tau);
+    const cf = v.kappa / (4 * Math.PI);
+    const h = s.hist, hc = s.histCount, w = this.hWeights, slot = this.hSlot;
+    const K = HIST_LEVELS;
+    for (let i = 0; i < n; i++) vx[i] = vy[i] = vz[i] = 0;
+    addLocalTerm(n, s.prev, g.tx, g.ty, g.tz, g.cx, g.cy, g.cz, g.len, cf, v.coreRadius, vx, vy, vz);
+    this.near.add(n, px, py, pz, g.dx, g.dy, g.dz, cf, vx, vy, vz);
     for (let i = 0; i < n; i++) {
-      s.x[i] = x0[i] + h6 * (ax[i] + kx[i]);
-      s.y[i] = y0[i] + h6 * (ay[i] + ky[i]);
-      s.z[i] = z0[i] + h6 * (az[i] + kz[i]);
+      const o = Math.min(hc[i], order);
+      let sx = 0, sy = 0, sz = 0;
+      const b = i * HIST_STRIDE;
+      for (let j = 0; j < o; j++) {
+        const wj = w[(o - 1) * K + j];
+        const q = b + 3 * slot[j];
+        sx += wj * h[q];
+        sy += wj * h[q + 1];
+        sz += wj * h[q + 2];
+      }
+      vx[i] += sx;
+      vy[i] += sy;
+      vz[i] += sz;
     }
+    f.finish(n, px, py, vx, vy, vz);
+  }
+
+  /**
+   * One multirate step (module doc): one slow evaluation, then RK4 substeps of the fast system. While fewer
+   * than `order` slow levels exist (start), the step is a classical RK4 step with full evaluations.
+   */
+  private advanceMultirate(
+    dtMax: number,
+    fixedDt: boolean,
+    order: number,
+    slowFactor: number,
+    window: number,
+  ): number {
+    const s = this.state;
+    const n = s.n;
+    const f = this.field;
+    const { kx, ky, kz } = this;
+    this.pushSlowLevel(window);
+    const starting = this.hLevels < order;
+    // First stage (t_n): the full right-hand side, equal to the classical one.
+    this.fastRhs(s.x, s.y, s.z, this.t, order, kx, ky, kz);
+    const fast = this.stableStepFrom(f.geo, n);
+    let dt = dtMax;
+    if (!fixedDt) {
+      // Advective limits (module doc): no pair may approach by more than the near list's skin (so the list
+      // stays complete), and no pair that could reconnect by more than δ_r (so none passes through another
+      // between reconnection checks).
+      const skin = this.config.resolution * NEAR_SKIN;
+      const list = 0.5 * skin / Math.sqrt(this.maxSpeed2());
+      const w = this.approachSpeed();
+      const approach = w > 0 ? this.config.reconnectionDistance / w : Infinity;
+      dt = this.checkedStep(Math.min(dtMax, starting ? fast : slowFactor * fast, list, approach), dtMax);
+    }
+    const m = starting ? 1 : Math.max(1, Math.ceil(dt / fast * (1 - 1e-12)));
+    const h = dt / m;
+    const t0 = this.t;
+    for (let q = 0; q < m; q++) {
+      const tq = t0 + q * h;
+      if (q > 0) this.fastRhs(s.x, s.y, s.z, tq, order, kx, ky, kz);
+      this.rk4Step(h, tq, starting ? 0 : order);
+    }
+    this.lastSubsteps = m;
     this.t += dt;
     this.steps++;
     this.lastDt = dt;
@@ -433,6 +696,7 @@ export class FilamentSimulation {
       s.next[p] = q;
       s.prev[q] = p;
       s.alive[i] = 0;
+      s.histCount[p] = s.histCount[q] = 0; // their own segments changed: integrator memory restarts
       this.lengthRemoved += removed;
       this.emit({
         t: this.t,

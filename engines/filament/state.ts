@@ -19,6 +19,11 @@
  * ```
  */
 
+/** Levels of integrator memory per point (past slow velocities, 3 components each). */
+export const HIST_LEVELS = 4;
+/** Doubles of integrator memory per point. */
+export const HIST_STRIDE = 3 * HIST_LEVELS;
+
 /** Monotone id sources for points and loops (persistent ids in frames and events). */
 export class IdCounters {
   nextPoint = 0;
@@ -55,6 +60,12 @@ export class FilamentState {
   imx = new Int32Array(0);
   imy = new Int32Array(0);
   imz = new Int32Array(0);
+  /**
+   * Integrator memory per point (multirate stepping, `simulation.ts`): HIST_STRIDE slots of past slow
+   * velocities, and how many of the newest levels are valid for this point.
+   */
+  hist = new Float64Array(0);
+  histCount = new Uint8Array(0);
 
   nLoops = 0;
   loopCapacity = 0;
@@ -99,6 +110,10 @@ export class FilamentState {
     this.imx = i(this.imx);
     this.imy = i(this.imy);
     this.imz = i(this.imz);
+    const h = new Float64Array(c * HIST_STRIDE);
+    h.set(this.hist.subarray(0, this.n * HIST_STRIDE));
+    this.hist = h;
+    this.histCount = u(this.histCount);
     this.capacity = c;
   }
 
@@ -146,6 +161,7 @@ export class FilamentState {
       this.imx[s] = 0;
       this.imy[s] = 0;
       this.imz[s] = 0;
+      this.histCount[s] = 0;
     }
     this.loopStart[this.nLoops] = s0;
     this.loopLen[this.nLoops] = m;
@@ -164,6 +180,7 @@ export class FilamentState {
     this.imx[s] = 0;
     this.imy[s] = 0;
     this.imz[s] = 0;
+    this.histCount[s] = 0;
     return s;
   }
 
@@ -178,6 +195,9 @@ export class FilamentState {
     this.imy[d] = src.imy[s];
     this.imz[d] = src.imz[s];
     this.alive[d] = 1;
+    const c = src.histCount[s];
+    this.histCount[d] = c;
+    if (c > 0) this.hist.set(src.hist.subarray(s * HIST_STRIDE, (s + 1) * HIST_STRIDE), d * HIST_STRIDE);
   }
 }
 

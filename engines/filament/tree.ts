@@ -84,53 +84,79 @@ function addQuad(
   qd[qb + 17] += p22 * ez;
 }
 
+/** Allocates typed arrays (plain, or on a SharedArrayBuffer for threads). */
+export interface ArrayAllocator {
+  f64(n: number): Float64Array;
+  i32(n: number): Int32Array;
+}
+
+/** Plain allocation. */
+export const PLAIN: ArrayAllocator = { f64: (n) => new Float64Array(n), i32: (n) => new Int32Array(n) };
+
+/** Allocation on SharedArrayBuffers (arrays that worker threads read or write). */
+export const SHARED: ArrayAllocator = {
+  f64: (n) => new Float64Array(new SharedArrayBuffer(8 * n)),
+  i32: (n) => new Int32Array(new SharedArrayBuffer(4 * n)),
+};
+
 /** Octree over segments with monopole, dipole and quadrupole moments (see module doc). */
 export class SegmentTree {
+  /** How arrays are allocated (SHARED when threads read the tree); see `useAllocator`. */
+  alloc: ArrayAllocator = PLAIN;
+
+  /** Switches the allocator; the next build reallocates every array with it. */
+  useAllocator(a: ArrayAllocator): void {
+    if (a === this.alloc) return;
+    this.alloc = a;
+    this.segCap = 0;
+    this.cellCap = 0;
+    this.nCell = 0;
+  }
   // Segments in tree order.
   nSeg = 0;
   segCap = 0;
-  perm = new Int32Array(0);
+  perm: Int32Array = new Int32Array(0);
   /** Position of segment j in tree order. */
-  pos = new Int32Array(0);
-  smx = new Float64Array(0);
-  smy = new Float64Array(0);
-  smz = new Float64Array(0);
-  sdx = new Float64Array(0);
-  sdy = new Float64Array(0);
-  sdz = new Float64Array(0);
-  slen = new Float64Array(0);
-  tmp = new Int32Array(0);
+  pos: Int32Array = new Int32Array(0);
+  smx: Float64Array = new Float64Array(0);
+  smy: Float64Array = new Float64Array(0);
+  smz: Float64Array = new Float64Array(0);
+  sdx: Float64Array = new Float64Array(0);
+  sdy: Float64Array = new Float64Array(0);
+  sdz: Float64Array = new Float64Array(0);
+  slen: Float64Array = new Float64Array(0);
+  tmp: Int32Array = new Int32Array(0);
   /** Leaf cell holding tree position k. */
-  leafOf = new Int32Array(0);
-  oct = new Uint8Array(0);
+  leafOf: Int32Array = new Int32Array(0);
+  oct: Uint8Array = new Uint8Array(0);
   // Cells.
   nCell = 0;
   cellCap = 0;
-  ccx = new Float64Array(0);
-  ccy = new Float64Array(0);
-  ccz = new Float64Array(0);
-  half = new Float64Array(0);
-  start = new Int32Array(0);
-  count = new Int32Array(0);
-  child0 = new Int32Array(0);
-  parent = new Int32Array(0);
+  ccx: Float64Array = new Float64Array(0);
+  ccy: Float64Array = new Float64Array(0);
+  ccz: Float64Array = new Float64Array(0);
+  half: Float64Array = new Float64Array(0);
+  start: Int32Array = new Int32Array(0);
+  count: Int32Array = new Int32Array(0);
+  child0: Int32Array = new Int32Array(0);
+  parent: Int32Array = new Int32Array(0);
   /** Group stamp per cell (cells holding an own segment of the current target group). */
-  stamp = new Int32Array(0);
-  nchild = new Int32Array(0);
-  ox = new Float64Array(0);
-  oy = new Float64Array(0);
-  oz = new Float64Array(0);
-  gx = new Float64Array(0);
-  gy = new Float64Array(0);
-  gz = new Float64Array(0);
+  stamp: Int32Array = new Int32Array(0);
+  nchild: Int32Array = new Int32Array(0);
+  ox: Float64Array = new Float64Array(0);
+  oy: Float64Array = new Float64Array(0);
+  oz: Float64Array = new Float64Array(0);
+  gx: Float64Array = new Float64Array(0);
+  gy: Float64Array = new Float64Array(0);
+  gz: Float64Array = new Float64Array(0);
   /** First-moment tensor, 9 per cell (row-major M_ab). */
-  mom = new Float64Array(0);
+  mom: Float64Array = new Float64Array(0);
   /** Second-moment tensor Q_abc, 18 per cell: symmetric pair (a,b) ∈ {00,01,02,11,12,22} × c. */
-  quad = new Float64Array(0);
+  quad: Float64Array = new Float64Array(0);
   /** Radius about X_c of the sphere holding every source segment of the cell. */
-  bmax = new Float64Array(0);
-  lsum = new Float64Array(0);
-  stack = new Int32Array(8 * MAX_DEPTH + 16);
+  bmax: Float64Array = new Float64Array(0);
+  lsum: Float64Array = new Float64Array(0);
+  stack: Int32Array = new Int32Array(8 * MAX_DEPTH + 16);
   readonly splitScratch = new Int32Array(24 * (MAX_DEPTH + 1));
   boxSize = 0;
   /** Walk accumulator. */
@@ -140,15 +166,16 @@ export class SegmentTree {
     if (n <= this.segCap) return;
     let c = Math.max(64, this.segCap);
     while (c < n) c *= 2;
-    this.perm = new Int32Array(c);
-    this.pos = new Int32Array(c);
-    this.smx = new Float64Array(c);
-    this.smy = new Float64Array(c);
-    this.smz = new Float64Array(c);
-    this.sdx = new Float64Array(c);
-    this.sdy = new Float64Array(c);
-    this.sdz = new Float64Array(c);
-    this.slen = new Float64Array(c);
+    const A = this.alloc;
+    this.perm = A.i32(c);
+    this.pos = A.i32(c);
+    this.smx = A.f64(c);
+    this.smy = A.f64(c);
+    this.smz = A.f64(c);
+    this.sdx = A.f64(c);
+    this.sdy = A.f64(c);
+    this.sdz = A.f64(c);
+    this.slen = A.f64(c);
     this.tmp = new Int32Array(c);
     this.leafOf = new Int32Array(c);
     this.oct = new Uint8Array(c);
@@ -159,13 +186,14 @@ export class SegmentTree {
     if (need <= this.cellCap) return;
     let c = Math.max(256, this.cellCap);
     while (c < need) c *= 2;
+    const A = this.alloc;
     const f = (a: Float64Array, k = 1) => {
-      const b = new Float64Array(c * k);
+      const b = A.f64(c * k);
       b.set(a.subarray(0, this.nCell * k));
       return b;
     };
     const g = (a: Int32Array) => {
-      const b = new Int32Array(c);
+      const b = A.i32(c);
       b.set(a.subarray(0, this.nCell));
       return b;
     };

@@ -2,46 +2,11 @@ import assert from "node:assert/strict";
 import { nonlocalDirect, nonlocalDirectPeriodic } from "./biot_savart.ts";
 import { energy, EnergyWork } from "./diagnostics.ts";
 import { computeGeometry, Geometry } from "./geometry.ts";
-import { ringCloud, ringPoints } from "./initial.ts";
+import { ringPoints } from "./initial.ts";
 import { FilamentState, IdCounters } from "./state.ts";
 import { SegmentTree } from "./tree.ts";
-import { RandomStream } from "../random.ts";
 import { assertBelow, assertRelClose } from "./_assert.ts";
-
-/** A frozen random tangle: a ring cloud with overlapping rings (about 4000 points). */
-function tangle(rings: number, L = 0): { s: FilamentState; g: Geometry } {
-  const rng = RandomStream.fromState([11, 22, 33, 44]);
-  const cloud = ringCloud(
-    { count: rings, radius: { mean: 1, sd: 0.3 }, cloudRadius: 3, centre: [0, 0, 0] },
-    0.1,
-    0.1,
-    rng,
-  );
-  const s = new FilamentState();
-  const ids = new IdCounters();
-  for (const l of cloud.loops) {
-    if (L > 0) { for (const p of l) for (let c = 0; c < 3; c++) p[c] -= L * Math.floor(p[c] / L + 0.5); }
-    s.appendLoop(l, ids, 6);
-  }
-  const g = new Geometry();
-  computeGeometry(s.n, s.x, s.y, s.z, s.next, s.prev, L, g);
-  return { s, g };
-}
-
-/** Median, 99th percentile and max of |v_tree − v_direct| / v_rms(direct). */
-function errorStats(n: number, dx: Float64Array[], tx: Float64Array[]) {
-  let rms = 0;
-  for (let i = 0; i < n; i++) rms += dx[0][i] ** 2 + dx[1][i] ** 2 + dx[2][i] ** 2;
-  rms = Math.sqrt(rms / n);
-  const e = new Float64Array(n);
-  for (let i = 0; i < n; i++) {
-    e[i] = Math.hypot(tx[0][i] - dx[0][i], tx[1][i] - dx[1][i], tx[2][i] - dx[2][i]) / rms;
-  }
-  e.sort();
-  return { median: e[n >> 1], p99: e[Math.floor(0.99 * n)], max: e[n - 1] };
-}
-
-const vec = (n: number) => [new Float64Array(n), new Float64Array(n), new Float64Array(n)];
+import { errorStats, tangle, vec } from "./_testing.ts";
 
 Deno.test("SegmentTree: 99th-percentile nonlocal velocity error < 1e-3 v_rms at θ = 0.4 on a random tangle", () => {
   // Acceptance criterion of docs/methods.md §2.9 (Barnes & Hut, Nature 324, 446 (1986); Salmon & Warren, J. Comput.

@@ -4,17 +4,22 @@
  * (robust to other processes on a shared machine) and the median are printed.
  */
 import { benchCloud } from "./_bench_setup.ts";
-import { velocityPeriodic } from "./periodic.ts";
+import { velocityPeriodic, velocityPeriodicImageSeries } from "./periodic.ts";
 import { velocityDisk, velocityUnbounded } from "./velocity.ts";
 
 type Kernel = (c: ReturnType<typeof benchCloud>) => number;
 const kernels: [string, Kernel, number[]][] = [
   ["unbounded", (c) => velocityUnbounded(c.n, c.x, c.y, c.g, c.u, c.v), [1000, 4000]],
   ["disk", (c) => velocityDisk(c.n, c.x, c.y, c.g, Math.sqrt(c.n), c.u, c.v), [1000, 4000]],
-  ["periodic", (c) => velocityPeriodic(c.n, c.x, c.y, c.g, 1.2 * Math.sqrt(c.n), c.u, c.v), [1000]],
+  ["periodic", (c) => velocityPeriodic(c.n, c.x, c.y, c.g, 1.2 * Math.sqrt(c.n), c.u, c.v), [1000, 4000]],
+  [
+    "periodic-image-series",
+    (c) => velocityPeriodicImageSeries(c.n, c.x, c.y, c.g, 1.2 * Math.sqrt(c.n), c.u, c.v),
+    [1000],
+  ],
 ];
 let sink = 0;
-console.log("kernel         N   best pairs/s  median pairs/s  best ms/call");
+console.log("kernel                    N   best pairs/s  median pairs/s  best ms/call");
 for (const [name, kernel, sizes] of kernels) {
   for (const n of sizes) {
     const c = benchCloud(n);
@@ -35,7 +40,7 @@ for (const [name, kernel, sizes] of kernels) {
     const pairs = n * (n - 1) / 2;
     const rate = (ms: number) => (pairs / (ms / 1000)).toExponential(2);
     console.log(
-      `${name.padEnd(10)} ${String(n).padStart(5)}   ${rate(perCall[0]).padStart(12)}  ${
+      `${name.padEnd(21)} ${String(n).padStart(5)}   ${rate(perCall[0]).padStart(12)}  ${
         rate(perCall[7]).padStart(14)
       }` +
         `  ${perCall[0].toFixed(3).padStart(12)}`,

@@ -19,7 +19,7 @@ import { simulate } from "./simulate.ts";
 
 export const pointVortexEngine: Engine<PointVortexParams> = {
   id: "point-vortex-2d",
-  version: "1.0.0",
+  version: "1.1.0",
   title: "2D point vortices (direct sum, Dormand–Prince 5(4), images / periodic box, mutual friction)",
   capabilities: {
     dimension: 2,

@@ -6,7 +6,7 @@ import { pointVortexEngine } from "./mod.ts";
 
 Deno.test("pointVortexEngine is registered under point-vortex-2d with its declared capabilities", () => {
   assert.equal(findEngine("point-vortex-2d"), pointVortexEngine);
-  assert.equal(pointVortexEngine.version, "1.0.0");
+  assert.equal(pointVortexEngine.version, "1.1.0");
   const c = pointVortexEngine.capabilities;
   assert.equal(c.dimension, 2);
   assert.deepEqual(c.fields, ["circulation"]);
