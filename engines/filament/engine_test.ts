@@ -256,7 +256,7 @@ Deno.test("filamentEngine: the run-time accuracy check stores the sampled FMM er
   // check must see errors above a tight tolerance and emit accuracy-warning events.
   const params = (fmm: Record<string, number>, tolerance: number) => ({
     ...dimless,
-    initial: { kind: "ring-cloud", count: 6, radius: 0.6, cloudRadius: 0.8 },
+    initial: { kind: "ring-ball", count: 6, radius: 0.6, cloudRadius: 0.8 },
     numerics: { summation: "fmm", fmm, accuracyCheck: { every: 2, samples: 16, tolerance } },
   });
   const good = await run(params({}, 1e-3), { duration: 0.006, sampleInterval: 0.003 });
@@ -274,7 +274,7 @@ Deno.test("filamentEngine: threads inside a realisation give bit-identical frame
   // Run controls that do not enter hashes must not change results (engine contract, `threads`).
   const params = {
     ...dimless,
-    initial: { kind: "ring-cloud", count: 8, radius: 0.6, cloudRadius: 0.9 },
+    initial: { kind: "ring-ball", count: 8, radius: 0.6, cloudRadius: 0.9 },
     numerics: { summation: "fmm" },
   };
   const controls = { duration: 0.004, sampleInterval: 0.002 };
