@@ -37,6 +37,7 @@ import { newStudyCommand } from "./new.ts";
 import { checkReport } from "./check.ts";
 import { statusCommand } from "./status.ts";
 import { describeUnits } from "../study/units.ts";
+import { MIN_REALISATIONS } from "../analysis/estimators/bootstrap.ts";
 
 const REPO = new URL("../", import.meta.url);
 /** The bundled demo studies; `decay` is a homogeneous-decay study run first to calibrate χ₂ (Vinen fit). */
@@ -47,8 +48,6 @@ const DEMOS: Readonly<Record<string, { readonly study: URL; readonly decay?: URL
   },
   "ring-burst": { study: new URL("examples/ring-burst.yaml", REPO) },
 };
-/** Realisations per point below which the MSD fit warns that its intervals are unreliable (msd_fit.ts). */
-const ANALYSIS_MIN_REALISATIONS = 20;
 /** The launcher cluster array tasks call (absolute path). */
 const LAUNCHER = new URL("spindrift", REPO).pathname;
 
@@ -652,10 +651,10 @@ Typical session:
         const dbPath = join(o.out, `${study.name}.sqlite`);
         out(`${role}: ${path}`);
         out(`  ${study.description.trim().split("\n")[0]}`);
-        if (role === "demo study" && study.realisations < ANALYSIS_MIN_REALISATIONS) {
+        if (role === "demo study" && study.realisations < MIN_REALISATIONS) {
           out(
             `  note: a short illustration: ${study.realisations} realisations per point, below the ` +
-              `${ANALYSIS_MIN_REALISATIONS} the analysis needs for trustworthy intervals; read its numbers as a demo`,
+              `${MIN_REALISATIONS} the analysis needs for trustworthy intervals; read its numbers as a demo`,
           );
         }
         const { report, exitCode } = await runWithSignals(study, dbPath, {
