@@ -56,6 +56,23 @@ export function diffusionHeading(units: UnitLabels | undefined, symbol: string, 
   return unit === null ? `${symbol}/κ (${how})` : `${symbol} (${how}, ${unit})`;
 }
 
+/**
+ * κ in a study's units as recorded with it (`units.kappa`, written since κ was recorded at run time): 1 for
+ * studies in κ units (time unit length²/κ) whether recorded or not, the recorded value otherwise, undefined
+ * when an older database did not record it.
+ *
+ * @example
+ * ```ts
+ * recordedKappa({ length: "m", time: "s", kappa: "9.9693e-8" }); // 9.9693e-8
+ * recordedKappa({ length: "ℓ", time: "ℓ²/κ" }); // 1
+ * ```
+ */
+export function recordedKappa(units: Readonly<Record<string, string | undefined>>): number | undefined {
+  if (units.time !== undefined && timeInKappaUnits(units.time)) return 1;
+  const k = units.kappa === undefined ? Number.NaN : Number(units.kappa);
+  return Number.isFinite(k) && k > 0 ? k : undefined;
+}
+
 /** Metres in one `length` when it is a plain metric length (`µm`, `2.5 um`, `nm`), else undefined. */
 export function metresIn(length: string): number | undefined {
   const m = /^\s*(\d+(?:\.\d+)?(?:e[+-]?\d+)?)?\s*(m|cm|mm|µm|μm|um|nm)\s*$/.exec(length);
