@@ -339,10 +339,10 @@ export function formatSummary(s: AnalysisSummary, dbPath: string, units?: UnitLa
 export async function analyseAndReport(
   dbPath: string,
   o: AnalyseCommandOptions & { readonly out?: string },
-): Promise<{ lines: string[]; errors: string[]; html: string; svgDir: string }> {
+): Promise<{ lines: string[]; errors: string[]; html: string; figuresDir: string }> {
   const { lines, errors } = await analyseCommand(dbPath, o);
   const res = await writeReport(dbPath, { out: o.out, studyId: o.study });
-  return { lines, errors, html: res.html, svgDir: res.svgDir };
+  return { lines, errors, html: res.html, figuresDir: res.figuresDir };
 }
 
 /** Parser of a bootstrap replicate count: 0 (no interval) or a whole number ≥ 2. */

@@ -16,7 +16,6 @@ import { salvageHint, StoreError } from "../store/db.ts";
 import { salvageDatabase } from "../store/salvage.ts";
 import { verifyDatabase } from "../store/verify.ts";
 import { StoreReadError } from "../store/reads.ts";
-import { writeReport } from "../reports/mod.ts";
 import { provenance, TOOL_VERSION } from "./provenance.ts";
 import { UserError } from "./errors.ts";
 import {
@@ -30,6 +29,7 @@ import {
 import { describeTarget, type ExportFormat, exportProvenance, exportRealisation } from "./export.ts";
 import { analyseAndReport, analyseCommand, replicateCount } from "./analyse.ts";
 import { compareCommand } from "./compare.ts";
+import { positiveNumber, reportCommand } from "./report.ts";
 import { isSignalExit, SIGNAL_EXIT, withStopSignals } from "./signals.ts";
 import * as cluster from "../study/executors/mod.ts";
 import { starterEngines } from "../study/starter.ts";
@@ -409,14 +409,46 @@ Typical session:
     });
 
   program.command("report")
-    .description("write the study's report page (self-contained HTML, works offline) and SVG charts")
+    .description(
+      "write the study's report page (self-contained HTML, works offline) and each chart as a figure (SVG, " +
+        "the plotted data as CSV, PNG on request); during a run, a provisional page of the done realisations",
+    )
     .argument("<database>", "study database written by 'spindrift run'")
     .option("-o, --out <file>", "HTML file to write (default: next to the database)")
+    .option("--png", "also write every chart as PNG (for papers; see --figure-width, --font-scale)", false)
+    .addOption(
+      new Option(
+        "--figure-width <px>",
+        "width of the exported figures' plots in pixels (default: as on the page)",
+      )
+        .argParser(positiveInt("--figure-width")),
+    )
+    .addOption(
+      new Option("--figure-height <px>", "height of the exported figures' plots in pixels")
+        .argParser(positiveInt("--figure-height")),
+    )
+    .addOption(
+      new Option("--font-scale <x>", "multiply the figures' font sizes by x (default 1)")
+        .argParser(positiveNumber("--font-scale", 5)),
+    )
+    .addOption(
+      new Option("--png-scale <x>", "PNG pixels per figure pixel (default 2)").argParser(
+        positiveNumber("--png-scale", 16),
+      ),
+    )
+    .option("--no-live", "for an unfinished run, show only what is stored (no provisional analysis)")
     .action(async (dbPath, o) => {
       openReadOnly(dbPath).close();
-      const res = await writeReport(dbPath, { out: o.out ?? defaultReportPath(dbPath) });
-      out(`report: ${res.html}`);
-      out(`charts as SVG: ${res.svgDir}`);
+      const lines = await reportCommand(dbPath, {
+        out: o.out ?? defaultReportPath(dbPath),
+        live: o.live,
+        png: o.png,
+        width: o.figureWidth,
+        height: o.figureHeight,
+        fontScale: o.fontScale,
+        pngScale: o.pngScale,
+      });
+      for (const l of lines) out(l);
     });
 
   program.command("analyse")
@@ -679,7 +711,7 @@ Typical session:
       for (const line of res.lines.filter((l) => !l.startsWith("next:"))) out(line);
       if (res.errors.length > 0) Deno.exitCode = 1;
       out(`report: ${res.html}`);
-      out(`charts as SVG: ${res.svgDir}`);
+      out(`figures (SVG and the plotted data as CSV): ${res.figuresDir}`);
     });
 
   return program;
