@@ -97,10 +97,12 @@ function dataSets(
 /** Field → unit from the axis and legend titles of the spec ("time t [ms]" gives t → ms). */
 function fieldUnits(spec: Json, out = new Map<string, string>()): Map<string, string> {
   if (spec === null || typeof spec !== "object") return out;
-  for (const ch of Object.values(spec.encoding ?? {}) as Json[]) {
-    const title = typeof ch?.title === "string" ? ch.title : "";
-    const m = /\[([^\]]+)\]\s*$/.exec(title);
-    if (m && typeof ch.field === "string" && !out.has(ch.field)) out.set(ch.field, m[1]);
+  const enc: Record<string, Json> = spec.encoding ?? {};
+  const unitOf = (ch: Json) => /\[([^\]]+)\]\s*$/.exec(typeof ch?.title === "string" ? ch.title : "")?.[1];
+  for (const [name, ch] of Object.entries(enc)) {
+    // x2 and y2 share the axis (and the unit) of x and y.
+    const unit = unitOf(ch) ?? (name === "x2" || name === "y2" ? unitOf(enc[name[0]]) : undefined);
+    if (unit && typeof ch?.field === "string" && !out.has(ch.field)) out.set(ch.field, unit);
   }
   for (const l of spec.layer ?? []) fieldUnits(l, out);
   if (spec.spec) fieldUnits(spec.spec, out);

@@ -94,7 +94,7 @@ Deno.test({
       }
       const brow = /<tr data-study="ballistic-tracks"[^]*?<\/tr>/.exec(cmp.dom)?.[0] ?? "";
       assert(brow.includes("no diffusive regime"), "ballistic study: no diffusive regime shown");
-      const svg = await Deno.readTextFile(`${page.svgDir}/compare-msd.svg`);
+      const svg = await Deno.readTextFile(`${page.figuresDir}/compare-msd.svg`);
       assert(svg.startsWith("<svg"), "compare-msd.svg exported");
     } finally {
       await Deno.remove(dir, { recursive: true });
