@@ -30,6 +30,7 @@ import { describeTarget, type ExportFormat, exportProvenance, exportRealisation 
 import { analyseAndReport, analyseCommand, replicateCount } from "./analyse.ts";
 import { compareCommand } from "./compare.ts";
 import { positiveNumber, reportCommand } from "./report.ts";
+import { ensembleCsv, type EnsembleTable } from "./ensemble_export.ts";
 import { isSignalExit, SIGNAL_EXIT, withStopSignals } from "./signals.ts";
 import * as cluster from "../study/executors/mod.ts";
 import { starterEngines } from "../study/starter.ts";
@@ -487,6 +488,11 @@ Typical session:
       new Option("--study <id>", "study revision id (default: the latest)").argParser(positiveInt("--study")),
     )
     .option("-v, --verbose", "print progress", false)
+    .option(
+      "--json",
+      "print the results as one JSON object (shape in README: Machine-readable output)",
+      false,
+    )
     .action(async (dbPath, o) => {
       openReadOnly(dbPath).close();
       const { lines, errors } = await analyseCommand(dbPath, o);
@@ -561,7 +567,25 @@ Typical session:
       "also write where the export came from (study, point, index, seed) as JSON",
     )
     .addOption(new Option("-r, --realisation <id>", "deprecated: the database row id, now --id").hideHelp())
+    .addOption(
+      new Option(
+        "--ensemble <table>",
+        "instead of frames, the ensemble level as CSV: 'results' (every stored result with its interval and " +
+          "unit) or 'series' (per point and frame: n, mean, sd and interval of each series)",
+      ).choices(["results", "series"]),
+    )
     .action(async (dbPath, o) => {
+      if (o.ensemble !== undefined) {
+        openReadOnly(dbPath).close();
+        const output = lazyOutput(o.out);
+        try {
+          await output.write(new TextEncoder().encode(ensembleCsv(dbPath, o.ensemble as EnsembleTable)));
+        } finally {
+          output.close();
+        }
+        if (o.out) out(`ensemble ${o.ensemble} written to ${o.out}`);
+        return;
+      }
       let id = o.id;
       if (o.realisation !== undefined) {
         console.error(
