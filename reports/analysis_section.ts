@@ -462,7 +462,7 @@ function evaporationTable(ctx: Ctx): string {
     `t½, the time by which half of them had left; the rate while that first half left (count/(2t½)); and the ` +
     `fraction of the ${lostOf} gone by the end by any channel (annihilation, friction, removed loops; ` +
     `negative when it grew, as line length can by stretching). Intervals: bootstrap over realisations ` +
-    `(docs/methods.md §5.3).</p>` +
+    `(docs/methods.md §5.6).</p>` +
     `<table class="analysis" id="evaporation-table"><thead>${head}</thead><tbody>${body}</tbody></table>`;
 }
 
