@@ -482,7 +482,8 @@ export const BOOT = `(function () {
       var col = el.parentElement.closest("main, header, nav").getBoundingClientRect();
       var wide = r.right > Math.min(width, col.right) + 1 || r.left < -1;
       var cut = el.scrollWidth > el.clientWidth + 1 && getComputedStyle(el).overflowX !== "visible";
-      if (wide || cut) bad.push((el.id ? "#" + el.id : el.tagName.toLowerCase()) + (wide ? ">page" : ">cut"));
+      var where = el.id ? "#" + el.id : el.tagName.toLowerCase() + "@" + ((el.closest("[id]") || {}).id || "?");
+      if (wide || cut) bad.push(where + (wide ? ">page" : ">cut"));
     });
     if (document.documentElement.scrollWidth > width + 1) bad.push("page>window");
     body.setAttribute("data-overflow", String(bad.length));
@@ -569,6 +570,13 @@ table.analysis td span[data-role="lower"], table.analysis td span[data-role="upp
 td.status .warn { color: var(--warn); font-weight: 600; }
 .dk { font-size: 13px; }
 .errors-inline { background: #fff8e1; border: 1px solid #f0d48a; padding: 8px 12px; border-radius: 6px; }
+@media (max-width: 760px) {
+  header, nav, main, footer, .errors { padding: 0 10px; }
+  th, td { overflow-wrap: anywhere; padding: 4px 4px; }
+  td.num { white-space: normal; }
+  table { font-size: 12px; }
+  figure.chart { padding: 8px; }
+}
 @media print { nav { display: none; } figure.chart { break-inside: avoid; } }
 `;
 

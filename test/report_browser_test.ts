@@ -6,7 +6,7 @@
 import assert from "node:assert/strict";
 import { syntheticStudy, writeFixtureDb } from "../reports/_fixture.ts";
 import { writeReport } from "../reports/mod.ts";
-import { dumpDom, findChromium } from "./_chromium.ts";
+import { dumpDom, findChromium, legendLabels } from "./_chromium.ts";
 
 const chromium = findChromium();
 const skipReason = "Chromium not found (looked at $SPINDRIFT_CHROMIUM, /usr/bin/chromium, …); " +
@@ -51,6 +51,36 @@ Deno.test({
         const inner = dom.slice(start, end);
         assert.match(inner, /<svg[^>]*class="marks"/, `view-${id} holds a rendered Vega SVG`);
         assert.match(inner, /<path /, `view-${id} draws marks`);
+      }
+    } finally {
+      await Deno.remove(dir, { recursive: true });
+    }
+  },
+});
+
+Deno.test({
+  name: chromium === null
+    ? `report page fits the window at 1400 px and at 420 px (SKIPPED: ${skipReason})`
+    : "report page: no element wider than the page or cut by overflow at 1400 px and at 420 px; legends drawn",
+  ignore: chromium === null,
+  fn: async () => {
+    const dir = await Deno.makeTempDir({ prefix: "spindrift-browser-" });
+    try {
+      writeFixtureDb(`${dir}/film.sqlite`, syntheticStudy({ hostile: true }));
+      const { html } = await writeReport(`${dir}/film.sqlite`, { out: `${dir}/report.html` });
+      for (const width of [1400, 420]) {
+        const { dom } = await dumpDom(html, { chromium: chromium!, virtualTimeBudgetMs: 5000, width });
+        assert.equal(bodyAttr(dom, "data-state"), "ready", `${width} px: ready`);
+        assert.equal(
+          bodyAttr(dom, "data-overflow"),
+          "0",
+          `${width} px: elements overflowing: ${bodyAttr(dom, "data-overflow-list")}`,
+        );
+        // Every chart with several points has its legend, naming the points in words.
+        for (const id of ["msd", "cluster-rms-radius", "evaporated-count"]) {
+          const labels = legendLabels(dom, id);
+          assert.ok(labels.some((l) => l.startsWith("initial count = 32")), `${width} px ${id}: ${labels}`);
+        }
       }
     } finally {
       await Deno.remove(dir, { recursive: true });
