@@ -36,6 +36,17 @@ function studyDb(): Promise<string> {
   return db;
 }
 
+/** A copy of the database at `dest` with the `sql` statements applied; returns `dest`. */
+function copyOf(path: string, dest: string, sql: readonly string[]): string {
+  const src = new DatabaseSync(path, { readOnly: true });
+  src.exec(`VACUUM INTO '${dest}'`);
+  src.close();
+  const w = new DatabaseSync(dest);
+  for (const q of sql) w.exec(q);
+  w.close();
+  return dest;
+}
+
 /** Numbers in the JSON are finite or null (never NaN strings or Infinity). */
 function finiteEverywhere(v: unknown, path = "$"): void {
   if (typeof v === "number") assert(Number.isFinite(v), `${path} is finite`);
@@ -185,16 +196,12 @@ Deno.test("report: during a run, a provisional analysis marked unfinished and no
   const path = await studyDb();
   const dir = tempDir("spindrift-live-");
   // A copy in the middle of its run: point 1 misses one realisation and has one still running.
-  const live = `${dir}/live.sqlite`;
-  const src = new DatabaseSync(path, { readOnly: true });
-  src.exec(`VACUUM INTO '${live}'`);
-  src.close();
-  const w = new DatabaseSync(live);
-  w.exec("DELETE FROM ensemble_results");
   const point1 = "(SELECT point_hash FROM study_points WHERE point_index = 1)";
-  w.exec(`DELETE FROM realisations WHERE point_hash = ${point1} AND idx = 3`);
-  w.exec(`UPDATE realisations SET status = 'running' WHERE point_hash = ${point1} AND idx = 2`);
-  w.close();
+  const live = copyOf(path, `${dir}/live.sqlite`, [
+    "DELETE FROM ensemble_results",
+    `DELETE FROM realisations WHERE point_hash = ${point1} AND idx = 3`,
+    `UPDATE realisations SET status = 'running' WHERE point_hash = ${point1} AND idx = 2`,
+  ]);
   const lines = await reportCommand(live, { out: `${dir}/live.html`, liveReplicates: 40 });
   assert(lines[0].startsWith("the run is unfinished (6 of 8 realisations done)"), lines[0]);
   const page = await Deno.readTextFile(`${dir}/live.html`);
@@ -208,13 +215,7 @@ Deno.test("report: during a run, a provisional analysis marked unfinished and no
   check.close();
   assertEquals(n.n, 0, "nothing stored by the report");
   // A finished study without analysis: the terminal says to run analyse first.
-  const bare = `${dir}/bare.sqlite`;
-  const src2 = new DatabaseSync(path, { readOnly: true });
-  src2.exec(`VACUUM INTO '${bare}'`);
-  src2.close();
-  const b = new DatabaseSync(bare);
-  b.exec("DELETE FROM ensemble_results");
-  b.close();
+  const bare = copyOf(path, `${dir}/bare.sqlite`, ["DELETE FROM ensemble_results"]);
   const bareLines = await reportCommand(bare, { out: `${dir}/bare.html` });
   assert(
     bareLines[0].includes("no analysis is stored") && bareLines[0].includes("spindrift analyse"),

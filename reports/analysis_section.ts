@@ -529,15 +529,22 @@ function timeAxis(
 function windowBars(
   ctx: Ctx,
   windows: readonly { point: string; t1: number; t2: number }[],
-  height: number,
-  label = "fit window",
+  o: { readonly height: number; readonly time: Scale; readonly label?: string },
 ) {
   if (windows.length === 0) return [];
+  const label = o.label ?? "fit window";
   const row = new Map(ctx.view.names.map((n, i) => [n, i]));
   const first = windows.reduce((a, w) => (w.t1 < a.t1 ? w : a), windows[0]);
   const values = windows.map((w) => {
     const i = row.get(w.point) ?? 0;
-    return { ...w, y: height - 4 - 7 * i, y2: height - 9 - 7 * i, label: w === first ? label : "" };
+    return {
+      point: w.point,
+      t1: w.t1 * o.time.factor,
+      t2: w.t2 * o.time.factor,
+      y: o.height - 4 - 7 * i,
+      y2: o.height - 9 - 7 * i,
+      label: w === first ? label : "",
+    };
   });
   return [{
     data: { name: label === "fit window" ? "fit windows" : label, values },
@@ -742,11 +749,7 @@ function msdFitChart(ctx: Ctx): ChartSpec {
       ...curveStyle([...new Set(lines.map((r) => r.curve))]),
     },
   }];
-  layers.push(...windowBars(
-    ctx,
-    windows.map((w) => ({ ...w, t1: w.t1 * tx.s.factor, t2: w.t2 * tx.s.factor })),
-    height,
-  ));
+  layers.push(...windowBars(ctx, windows, { height, time: tx.s }));
   const spec = {
     $schema: SCHEMA,
     width: ctx.width,
@@ -821,11 +824,7 @@ function localSlopeChart(ctx: Ctx): ChartSpec {
       color: pointColourEncoding(ctx.view, true),
     },
   });
-  layers.push(...windowBars(
-    ctx,
-    windows.map((w) => ({ ...w, t1: w.t1 * tx.s.factor, t2: w.t2 * tx.s.factor })),
-    height,
-  ));
+  layers.push(...windowBars(ctx, windows, { height, time: tx.s }));
   const spec = {
     $schema: SCHEMA,
     width: ctx.width,
@@ -898,12 +897,7 @@ function lagChart(ctx: Ctx): ChartSpec {
       ...curveStyle([...new Set(rows.map((r) => r.curve))]),
     },
   }];
-  layers.push(...windowBars(
-    ctx,
-    ranges.map((w) => ({ ...w, t1: w.t1 * tx.s.factor, t2: w.t2 * tx.s.factor })),
-    height,
-    "lags judged",
-  ));
+  layers.push(...windowBars(ctx, ranges, { height, time: tx.s, label: "lags judged" }));
   const spec = {
     $schema: SCHEMA,
     width: ctx.width,
