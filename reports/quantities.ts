@@ -21,7 +21,7 @@ import {
   type UnitLabels,
   unitSentences,
 } from "../engines/units.ts";
-import { escapeHtml, formatNumber } from "./format.ts";
+import { escapeHtml } from "./format.ts";
 
 /** What the report knows of a study's units. */
 export interface ReportUnits {
@@ -115,12 +115,12 @@ export function unitsSection(u: ReportUnits): string {
       "units: not recorded with this study (a database from an early version): lengths and times are in the " +
       "study's own units; D is labelled D/κ on the assumption that circulation is measured in κ",
     ]
-    : unitSentences(u.labels, u.kappaUnits ? undefined : u.kappa);
+    : unitSentences(u.labels); // κ of a physical-unit study gets its own line below
   const extra: string[] = [];
   if (!u.kappaUnits) {
     extra.push(
       u.kappa !== undefined
-        ? `κ = ${formatNumber(u.kappa)} ${u.labels?.circulation ?? ""} (recorded with the study): D/κ is ` +
+        ? `κ = ${String(u.kappa)} ${u.labels?.circulation ?? ""} (recorded with the study): D/κ is ` +
           `shown beside D, and the charts show D/κ`
         : "κ was not recorded with this study (a database written before this version): D/κ cannot be " +
           "shown. Run the study once more with this version (nothing is recomputed) to record it",

@@ -109,7 +109,7 @@ Deno.test("summary: physical units show D/κ big (stored D over the recorded κ)
   // The units section on the page, and D headed with its unit in the answers table.
   const units = /<section id="units">[^]*?<\/section>/.exec(html)?.[0] ?? "";
   assert.ok(units.includes("lengths in m, times in s"), units);
-  assert.ok(units.includes("κ = 9.969e-8 m²/s (recorded with the study)"), units);
+  assert.ok(units.includes("κ = 9.9693e-8 m²/s (recorded with the study)"), units);
   assert.ok(html.includes("<th>D (m²/s), the answer [95 % CI]</th>"), "answers table headed D (m²/s)");
   assert.ok(html.includes(`<span class="dk">D/κ = ${formatNumber(D / KAPPA)}`), "D/κ beside D in the table");
   // The unfinished and failed realisations of the fixture are said too.
