@@ -99,6 +99,8 @@ export interface AnalysisSummary {
   /** Where the Vinen fit's χ₂ came from, one line. */
   readonly chi2Source: string;
   readonly rowsWritten: number;
+  /** The rows computed, when the options asked not to store them (`store: false`). */
+  readonly rows?: readonly EnsembleResultInput[];
 }
 
 /**
@@ -145,13 +147,15 @@ export async function analyseStudy(dbPath: string, opts: AnalyseOptions = {}): P
   const study = setup.study;
   const dimension = setup.dimension;
   const B = setup.B;
-  progress("writing results");
-  const store = StudyStore.open(dbPath, { command: "analyse" });
-  let written: number;
-  try {
-    written = replaceEnsembleResults(store, study.id, rows);
-  } finally {
-    store.close();
+  let written = 0;
+  if (opts.store !== false) {
+    progress("writing results");
+    const store = StudyStore.open(dbPath, { command: "analyse" });
+    try {
+      written = replaceEnsembleResults(store, study.id, rows);
+    } finally {
+      store.close();
+    }
   }
   return {
     studyId: study.id,
@@ -163,6 +167,7 @@ export async function analyseStudy(dbPath: string, opts: AnalyseOptions = {}): P
     question,
     chi2Source: chi2SourceText(opts.vinenLoss ?? { mode: "free" }, opts.chi2Source),
     rowsWritten: written,
+    ...(opts.store === false ? { rows } : {}),
   };
 }
 

@@ -43,6 +43,13 @@ export interface AnalyseOptions {
   readonly sensitivityReplicates?: number;
   /** Velocity correlations where the engine provides a velocity field (default true). */
   readonly correlations?: boolean;
+  /** The Vinen-equation fit (default true; false stores a "not requested" row). */
+  readonly vinen?: boolean;
+  /**
+   * Store the rows in `ensemble_results` (default true). False computes them only and returns them in the
+   * summary's `rows` (a provisional look at an unfinished run, which cannot take the writer lock).
+   */
+  readonly store?: boolean;
   /** Points analysed in parallel (module workers; default: the number of cores, at most the points). */
   readonly workers?: number;
   /** Progress messages (one line each). */

@@ -25,10 +25,11 @@ import type { EvaporationEstimate } from "../analysis/estimators/mod.ts";
 import { openStoreReadOnly, readStudy, StoreReadError } from "../store/reads.ts";
 import { diffusionHeading, diffusionUnit, timeInKappaUnits, type UnitLabels } from "../engines/units.ts";
 import { StudyStore } from "../store/db.ts";
-import { PartialResultsError } from "../store/ensemble.ts";
+import { PartialResultsError, readEnsembleResults } from "../store/ensemble.ts";
 import { writeReport } from "../reports/mod.ts";
 import { formatNumber } from "../reports/html.ts";
 import { UserError } from "./errors.ts";
+import { analysisJson } from "./analyse_json.ts";
 
 /** Option values as the command line gives them (strings are parsed here). */
 export interface AnalyseCommandOptions {
@@ -45,6 +46,8 @@ export interface AnalyseCommandOptions {
   readonly workers?: number;
   /** Progress lines on standard error (default false). */
   readonly verbose?: boolean;
+  /** Print the summary as one JSON object (`analyse_json.ts`) instead of the text lines. */
+  readonly json?: boolean;
 }
 
 function parseChi2(v: string | undefined): number | undefined {
@@ -142,7 +145,17 @@ export async function analyseCommand(
     store.close();
   }
   const errors = analysisErrors(summary);
-  const lines = [...head, ...formatSummary(summary, dbPath, studyUnits(dbPath, o.study))];
+  const recorded = studyUnits(dbPath, o.study);
+  if (o.json) {
+    return {
+      lines: [JSON.stringify(analysisJson(summary, { database: dbPath, units: recorded, errors }), null, 2)],
+      errors,
+    };
+  }
+  const labels = recorded.length && recorded.time
+    ? { length: recorded.length, time: recorded.time }
+    : undefined;
+  const lines = [...head, ...formatSummary(summary, dbPath, labels)];
   if (errors.length > 0) {
     lines.push(`analysis errors (${errors.length}); the rows above marked error are stored as such:`);
     for (const e of errors) lines.push(`  ${e}`);
@@ -150,12 +163,16 @@ export async function analyseCommand(
   return { lines, errors };
 }
 
-/** The units recorded with the study revision, when complete (labels D as D/κ or in m²/s). */
-function studyUnits(dbPath: string, studyId: number | undefined): UnitLabels | undefined {
+/** The units recorded with the study revision (labels D as D/κ or in m²/s; κ when recorded). */
+function studyUnits(dbPath: string, studyId: number | undefined): Readonly<Record<string, string>> {
   const db = openStoreReadOnly(dbPath);
   try {
-    const u = readStudy(db, { studyId }).units;
-    return u.length && u.time ? { length: u.length, time: u.time } : undefined;
+    const study = readStudy(db, { studyId });
+    if (study.units.kappa !== undefined) return study.units;
+    // Databases run before κ was recorded with the units: the analysis stores the κ it used with the Vinen fit.
+    const kappa = readEnsembleResults(db, study.id, { analysis: "vinen" })
+      .map((r) => r.detail.kappa).find((k): k is number => typeof k === "number");
+    return kappa === undefined ? study.units : { ...study.units, kappa: String(kappa) };
   } finally {
     db.close();
   }
@@ -339,10 +356,10 @@ export function formatSummary(s: AnalysisSummary, dbPath: string, units?: UnitLa
 export async function analyseAndReport(
   dbPath: string,
   o: AnalyseCommandOptions & { readonly out?: string },
-): Promise<{ lines: string[]; errors: string[]; html: string; svgDir: string }> {
+): Promise<{ lines: string[]; errors: string[]; html: string; figuresDir: string }> {
   const { lines, errors } = await analyseCommand(dbPath, o);
   const res = await writeReport(dbPath, { out: o.out, studyId: o.study });
-  return { lines, errors, html: res.html, svgDir: res.svgDir };
+  return { lines, errors, html: res.html, figuresDir: res.figuresDir };
 }
 
 /** Parser of a bootstrap replicate count: 0 (no interval) or a whole number ≥ 2. */

@@ -24,7 +24,11 @@ export async function compareCommand(
   }
   try {
     const res = await writeComparePage(dbPaths, { out: o.out });
-    return [`comparison: ${res.html}`, `charts as SVG: ${res.svgDir}`];
+    return [
+      ...res.warnings.map((w) => `warning: ${w}`),
+      `comparison: ${res.html}`,
+      `figures (SVG and the plotted data as CSV): ${res.figuresDir}`,
+    ];
   } catch (e) {
     const path = e instanceof StoreReadError
       ? (dbPaths.find((p) => e.message.includes(p)) ?? dbPaths[0])

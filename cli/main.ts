@@ -16,7 +16,6 @@ import { salvageHint, StoreError } from "../store/db.ts";
 import { salvageDatabase } from "../store/salvage.ts";
 import { verifyDatabase } from "../store/verify.ts";
 import { StoreReadError } from "../store/reads.ts";
-import { writeReport } from "../reports/mod.ts";
 import { provenance, TOOL_VERSION } from "./provenance.ts";
 import { UserError } from "./errors.ts";
 import {
@@ -30,6 +29,8 @@ import {
 import { describeTarget, type ExportFormat, exportProvenance, exportRealisation } from "./export.ts";
 import { analyseAndReport, analyseCommand, replicateCount } from "./analyse.ts";
 import { compareCommand } from "./compare.ts";
+import { positiveNumber, reportCommand } from "./report.ts";
+import { ensembleCsv, type EnsembleTable } from "./ensemble_export.ts";
 import { isSignalExit, SIGNAL_EXIT, withStopSignals } from "./signals.ts";
 import * as cluster from "../study/executors/mod.ts";
 import { starterEngines } from "../study/starter.ts";
@@ -37,6 +38,7 @@ import { newStudyCommand } from "./new.ts";
 import { checkReport } from "./check.ts";
 import { statusCommand } from "./status.ts";
 import { describeUnits } from "../study/units.ts";
+import { MIN_REALISATIONS } from "../analysis/estimators/bootstrap.ts";
 
 const REPO = new URL("../", import.meta.url);
 /** The bundled demo studies; `decay` is a homogeneous-decay study run first to calibrate χ₂ (Vinen fit). */
@@ -47,8 +49,6 @@ const DEMOS: Readonly<Record<string, { readonly study: URL; readonly decay?: URL
   },
   "ring-burst": { study: new URL("examples/ring-burst.yaml", REPO) },
 };
-/** Realisations per point below which the MSD fit warns that its intervals are unreliable (msd_fit.ts). */
-const ANALYSIS_MIN_REALISATIONS = 20;
 /** The launcher cluster array tasks call (absolute path). */
 const LAUNCHER = new URL("spindrift", REPO).pathname;
 
@@ -410,14 +410,46 @@ Typical session:
     });
 
   program.command("report")
-    .description("write the study's report page (self-contained HTML, works offline) and SVG charts")
+    .description(
+      "write the study's report page (self-contained HTML, works offline) and each chart as a figure (SVG, " +
+        "the plotted data as CSV, PNG on request); during a run, a provisional page of the done realisations",
+    )
     .argument("<database>", "study database written by 'spindrift run'")
     .option("-o, --out <file>", "HTML file to write (default: next to the database)")
+    .option("--png", "also write every chart as PNG (for papers; see --figure-width, --font-scale)", false)
+    .addOption(
+      new Option(
+        "--figure-width <px>",
+        "width of the exported figures' plots in pixels (default: as on the page)",
+      )
+        .argParser(positiveInt("--figure-width")),
+    )
+    .addOption(
+      new Option("--figure-height <px>", "height of the exported figures' plots in pixels")
+        .argParser(positiveInt("--figure-height")),
+    )
+    .addOption(
+      new Option("--font-scale <x>", "multiply the figures' font sizes by x (default 1)")
+        .argParser(positiveNumber("--font-scale", 5)),
+    )
+    .addOption(
+      new Option("--png-scale <x>", "PNG pixels per figure pixel (default 2)").argParser(
+        positiveNumber("--png-scale", 16),
+      ),
+    )
+    .option("--no-live", "for an unfinished run, show only what is stored (no provisional analysis)")
     .action(async (dbPath, o) => {
       openReadOnly(dbPath).close();
-      const res = await writeReport(dbPath, { out: o.out ?? defaultReportPath(dbPath) });
-      out(`report: ${res.html}`);
-      out(`charts as SVG: ${res.svgDir}`);
+      const lines = await reportCommand(dbPath, {
+        out: o.out ?? defaultReportPath(dbPath),
+        live: o.live,
+        png: o.png,
+        width: o.figureWidth,
+        height: o.figureHeight,
+        fontScale: o.fontScale,
+        pngScale: o.pngScale,
+      });
+      for (const l of lines) out(l);
     });
 
   program.command("analyse")
@@ -456,6 +488,11 @@ Typical session:
       new Option("--study <id>", "study revision id (default: the latest)").argParser(positiveInt("--study")),
     )
     .option("-v, --verbose", "print progress", false)
+    .option(
+      "--json",
+      "print the results as one JSON object (shape in README: Machine-readable output)",
+      false,
+    )
     .action(async (dbPath, o) => {
       openReadOnly(dbPath).close();
       const { lines, errors } = await analyseCommand(dbPath, o);
@@ -530,7 +567,25 @@ Typical session:
       "also write where the export came from (study, point, index, seed) as JSON",
     )
     .addOption(new Option("-r, --realisation <id>", "deprecated: the database row id, now --id").hideHelp())
+    .addOption(
+      new Option(
+        "--ensemble <table>",
+        "instead of frames, the ensemble level as CSV: 'results' (every stored result with its interval and " +
+          "unit) or 'series' (per point and frame: n, mean, sd and interval of each series)",
+      ).choices(["results", "series"]),
+    )
     .action(async (dbPath, o) => {
+      if (o.ensemble !== undefined) {
+        openReadOnly(dbPath).close();
+        const output = lazyOutput(o.out);
+        try {
+          await output.write(new TextEncoder().encode(ensembleCsv(dbPath, o.ensemble as EnsembleTable)));
+        } finally {
+          output.close();
+        }
+        if (o.out) out(`ensemble ${o.ensemble} written to ${o.out}`);
+        return;
+      }
       let id = o.id;
       if (o.realisation !== undefined) {
         console.error(
@@ -652,10 +707,10 @@ Typical session:
         const dbPath = join(o.out, `${study.name}.sqlite`);
         out(`${role}: ${path}`);
         out(`  ${study.description.trim().split("\n")[0]}`);
-        if (role === "demo study" && study.realisations < ANALYSIS_MIN_REALISATIONS) {
+        if (role === "demo study" && study.realisations < MIN_REALISATIONS) {
           out(
             `  note: a short illustration: ${study.realisations} realisations per point, below the ` +
-              `${ANALYSIS_MIN_REALISATIONS} the analysis needs for trustworthy intervals; read its numbers as a demo`,
+              `${MIN_REALISATIONS} the analysis needs for trustworthy intervals; read its numbers as a demo`,
           );
         }
         const { report, exitCode } = await runWithSignals(study, dbPath, {
@@ -680,7 +735,7 @@ Typical session:
       for (const line of res.lines.filter((l) => !l.startsWith("next:"))) out(line);
       if (res.errors.length > 0) Deno.exitCode = 1;
       out(`report: ${res.html}`);
-      out(`charts as SVG: ${res.svgDir}`);
+      out(`figures (SVG and the plotted data as CSV): ${res.figuresDir}`);
     });
 
   return program;

@@ -178,7 +178,7 @@ export function writeFixtureDb(path: string, study: FixtureStudy): number {
 
 /**
  * A small two-point study. Realisation r of point p has, at t = k·Δt (Δt = 0.5, k = 0..frames−1):
- * msd = 4·D·[t − τ(1 − e^{−t/τ})] (the 2D Ornstein–Uhlenbeck form, check-values §6.1) with D = D_p·(1 + 0.1·(r − 1)),
+ * msd = 4·D·[t − τ(1 − e^{−t/τ})] (the 2D Ornstein–Uhlenbeck form, docs/check-values.md §6.1) with D = D_p·(1 + 0.1·(r − 1)),
  * R_rms = √(R₀² + 4Dt), evaporated = ⌊c·(1 − e^{−t/5})⌋. Point 0 has a failed and point 1 an unfinished
  * realisation.
  */

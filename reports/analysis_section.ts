@@ -1,27 +1,67 @@
 /**
  * The report's "Answers" section, built from the stored ensemble results (`ensemble_results`, written by
- * `spindrift analyse`): first the study's question answered (differences and trend of D between points), then
- * per point the answer D/κ with its interval or "no diffusive regime" with the reasons, the three estimators'
- * exponent evidence and values side by side, D versus the swept parameter, the MSD on log–log axes with guide
- * lines and the window, the local slope α(t), the lag estimator's D(τ), the threshold-sensitivity table, the
- * Vinen fit against the measured profiles with its goodness of fit and where χ₂ came from, and the velocity
- * correlations.
+ * `spindrift analyse`): the study's question answered (differences and trend of D between points), then per
+ * point the answer with its interval or "no diffusive regime" with the reasons, the three estimators' exponent
+ * evidence, D per point, the MSD on log–log axes with guide lines and the window, the local slope α(t), the lag
+ * estimator's D(τ), the threshold-sensitivity table (collapsed when there is no regime to be sensitive), the
+ * evaporation table, the Vinen fit against the measured profiles with its goodness of fit and where χ₂ came
+ * from, and the velocity correlations. The answer-first summary at the top of the page is `summary.ts`.
  *
  * Every number shown comes from a stored row: table cells carry the stored value in `data-value` (full
- * precision) and show it with `formatNumber`, so a test can compare the page with the database.
+ * precision, stored units) and show it with `formatNumber`, so a test can compare the page with the database.
+ * D is shown in the stored unit and, for physical-unit studies with a recorded κ, as D/κ beside it; charts show
+ * D/κ whenever κ is known.
  *
  * @example
  * ```ts
  * const section = buildAnalysisSection(agg, readEnsembleResults(db, agg.study.id), { units });
- * // section.parts: HTML blocks and charts in page order; section.charts: the chart specs (for SVG export)
+ * // section.parts: HTML blocks and charts in page order; section.charts: the chart specs (for the figures)
  * ```
  */
 import type { TopLevelSpec } from "vega-lite";
 import type { EnsembleResult } from "../store/ensemble.ts";
 import type { StudyAggregate } from "./aggregate.ts";
-import { escapeHtml, formatNumber } from "./html.ts";
-import { type ChartOptions, type ChartSpec, CONFIG, DECADE_LABELS, estimateLayers, SCHEMA } from "./specs.ts";
-import { diffusionUnit } from "../engines/units.ts";
+import { escapeHtml, formatNumber } from "./format.ts";
+import { thresholdChange } from "./labels.ts";
+import {
+  axisTitle,
+  dDisplay,
+  lengthScale,
+  type ReportUnits,
+  type Scale,
+  squaredUnit,
+  timeScale,
+} from "./quantities.ts";
+import {
+  arr,
+  ciText,
+  estimateCell,
+  groupResults,
+  levelOf,
+  num,
+  numCell,
+  pct,
+  percentCell,
+  type PointRows,
+  rec,
+  str,
+  strings,
+  valueSpan,
+  withNames,
+} from "./_results.ts";
+import {
+  type ChartOptions,
+  type ChartSpec,
+  chartUnits,
+  CONFIG,
+  DECADE_LABELS,
+  estimateLayers,
+  numberFormat,
+  pointColourEncoding,
+  type PointView,
+  pointView,
+  SCHEMA,
+} from "./specs.ts";
 
 /** A piece of the section: HTML (already escaped) or a chart. */
 export type AnalysisPart = { readonly html: string } | { readonly chart: ChartSpec };
@@ -32,29 +72,16 @@ export interface AnalysisSection {
   readonly charts: readonly ChartSpec[];
   /** True when the database holds ensemble results for this study revision. */
   readonly present: boolean;
-  /** The answer in brief for the top of the page (escaped HTML; empty without stored results). */
-  readonly headline: string;
   /** Lines for the page's provenance table: when the analysis ran, its seeds, where χ₂ came from. */
   readonly provenance: readonly (readonly [string, string])[];
 }
 
-type Detail = Readonly<Record<string, unknown>>;
-
-interface PointRows {
-  readonly label: string;
-  readonly key: string;
-  readonly index: number;
-  readonly varied: Readonly<Record<string, unknown>>;
-  readonly done: number;
-  readonly rows: ReadonlyMap<string, EnsembleResult>;
-}
-
 const ESTIMATORS = [
-  { analysis: "diffusion", name: "D", label: "answer (fixed cohort)" },
-  { analysis: "diffusion", name: "D_origin", label: "survivor average from t₀" },
-  { analysis: "diffusion", name: "D_lag", label: "lag increments" },
-  { analysis: "diffusion", name: "D_R", label: "cohort spread (D_R)" },
-  { analysis: "vinen", name: "D", label: "Vinen-equation fit" },
+  { analysis: "diffusion", name: "D", label: "answer (fixed cohort)", shape: "circle" },
+  { analysis: "diffusion", name: "D_origin", label: "survivor average from t₀", shape: "triangle-up" },
+  { analysis: "diffusion", name: "D_lag", label: "lag increments", shape: "diamond" },
+  { analysis: "diffusion", name: "D_R", label: "cohort spread (D_R)", shape: "square" },
+  { analysis: "vinen", name: "D", label: "Vinen-equation fit", shape: "cross" },
 ] as const;
 
 /**
@@ -70,7 +97,6 @@ export function buildAnalysisSection(
     const cmd = `spindrift analyse ${opts.dbPath ?? "DATABASE"}`;
     return {
       present: false,
-      headline: "",
       provenance: [],
       charts: [],
       parts: [{
@@ -81,23 +107,20 @@ export function buildAnalysisSection(
       }],
     };
   }
-  const labels = agg.points.map((p) => p.point.label);
-  const unique = new Set(labels).size === labels.length;
-  const points: PointRows[] = agg.points.map((p) => {
-    const rows = new Map<string, EnsembleResult>();
-    for (const r of results) if (r.pointHash === p.point.pointHash) rows.set(`${r.analysis}/${r.name}`, r);
-    return {
-      label: p.point.label,
-      key: unique ? p.point.label : `P${p.point.index}: ${p.point.label}`,
-      index: p.point.index,
-      varied: p.point.varied,
-      done: p.counts.done,
-      rows,
-    };
-  });
-  const ctx: Ctx = { points, opts, width: opts.width ?? 640, level: levelOf(points) };
+  const view = pointView(agg);
+  const points = groupResults(agg, results, view);
+  const units = chartUnits(opts);
+  const ctx: Ctx = {
+    points,
+    view,
+    units,
+    d: dDisplay(units),
+    width: opts.width ?? 800,
+    level: levelOf(points),
+    classification: rec(agg.overview.observables?.classification),
+  };
   const charts = [
-    dVsParameterChart(ctx),
+    dPerPointChart(ctx),
     msdFitChart(ctx),
     localSlopeChart(ctx),
     lagChart(ctx),
@@ -117,67 +140,18 @@ export function buildAnalysisSection(
     { chart: vChart },
     { chart: cChart },
   ];
-  return { present: true, parts, charts, headline: headline(ctx), provenance: provenance(ctx) };
+  return { present: true, parts, charts, provenance: provenance(ctx) };
 }
 
 interface Ctx {
   readonly points: readonly PointRows[];
-  readonly opts: ChartOptions;
+  readonly view: PointView;
+  readonly units: ReportUnits;
+  /** How D is shown on charts (D/κ when κ is known). */
+  readonly d: { readonly factor: number; readonly title: string };
   readonly width: number;
   readonly level: number;
-}
-
-function levelOf(points: readonly PointRows[]): number {
-  for (const p of points) {
-    const l = p.rows.get("diffusion/D")?.detail.level;
-    if (typeof l === "number") return l;
-  }
-  return 0.95;
-}
-
-function pct(level: number): string {
-  return `${Math.round(level * 1000) / 10} %`;
-}
-
-function str(v: unknown): string | null {
-  return typeof v === "string" ? v : null;
-}
-
-function num(v: unknown): number | null {
-  return typeof v === "number" && Number.isFinite(v) ? v : null;
-}
-
-function rec(v: unknown): Detail | null {
-  return typeof v === "object" && v !== null && !Array.isArray(v) ? v as Detail : null;
-}
-
-function arr(v: unknown): unknown[] {
-  return Array.isArray(v) ? v : [];
-}
-
-/** A table cell showing a stored number; `data-value` holds it at full precision. */
-function numCell(v: number | null, cls = "num"): string {
-  if (v === null) return `<td class="${cls}">—</td>`;
-  return `<td class="${cls}" data-value="${String(v)}">${escapeHtml(formatNumber(v))}</td>`;
-}
-
-/** "0.2229 [0.1941, 0.2694]" with each number in its own data-bearing span. */
-function estimateCell(r: EnsembleResult | undefined, field: string): string {
-  if (r === undefined) return `<td>—</td>`;
-  if (r.value === null) {
-    const status = str(r.detail.status) ?? "not available";
-    const reason = str(r.detail.reason);
-    const text = status === "no-diffusive-regime" ? "no diffusive regime" : status;
-    return `<td class="status" data-field="${field}" data-status="${escapeHtml(status)}"><span class="warn">${
-      escapeHtml(text)
-    }</span>${reason ? `<br><span class="note">${escapeHtml(reason)}</span>` : ""}</td>`;
-  }
-  const span = (role: string, v: number) =>
-    `<span data-role="${role}" data-value="${String(v)}">${escapeHtml(formatNumber(v))}</span>`;
-  const ci = r.lower !== null && r.upper !== null
-    ? ` [${span("lower", r.lower)}, ${span("upper", r.upper)}]`
-    : ` <span class="note">(no interval)</span>`;
-  return `<td data-field="${field}">${span("value", r.value)}${ci}</td>`;
+  readonly classification: Readonly<Record<string, unknown>> | null;
 }
 
 function staleNote(ctx: Ctx): string {
@@ -187,7 +161,7 @@ function staleNote(ctx: Ctx): string {
   });
   if (stale.length === 0) return "";
   return `<p class="errors-inline warn" id="analysis-stale">The analysis is out of date for ${
-    stale.map((p) => escapeHtml(p.label)).join(", ")
+    stale.map((p) => escapeHtml(p.name)).join(", ")
   }: it used a different number of done realisations than the database now holds. Run ` +
     `<code>spindrift analyse</code> again.</p>`;
 }
@@ -228,66 +202,36 @@ function provenance(ctx: Ctx): (readonly [string, string])[] {
   return out;
 }
 
-/** The answer in brief, for the top of the page: the question's verdict and each point's D or why none. */
-function headline(ctx: Ctx): string {
-  const verdict = ctx.points.map((p) => p.rows.get("question/verdict")).find((r) => r !== undefined);
-  const lines = arr(verdict?.detail.lines).filter((l): l is string => typeof l === "string");
-  const items = ctx.points.map((p) => {
-    const d = p.rows.get("diffusion/D");
-    if (!d) return "";
-    const text = d.value !== null
-      ? `ν′ = D/κ = ${formatNumber(d.value)}${
-        d.lower !== null && d.upper !== null ? ` [${formatNumber(d.lower)}, ${formatNumber(d.upper)}]` : ""
-      } (${pct(ctx.level)} interval)`
-      : `${
-        str(d.detail.status) === "no-diffusive-regime" ? "no diffusive regime" : str(d.detail.status) ?? "—"
-      }${str(d.detail.reason) ? `: ${str(d.detail.reason)}` : ""}`;
-    return `<li data-point="${escapeHtml(p.label)}"><strong>${escapeHtml(p.label)}</strong>: ${
-      escapeHtml(text)
-    }</li>`;
-  }).join("");
-  return `<div class="answer-box" id="answer-headline"><p><strong>Answer</strong> (from <code>spindrift ` +
-    `analyse</code>; the evidence is under <a href="#answers">Answers</a>)</p>${
-      lines.map((l) => `<p class="answer">${escapeHtml(l)}</p>`).join("")
-    }<ul>${items}</ul></div>`;
-}
-
 /** The study's question answered, first (stored `question/verdict` lines, differences and trend). */
 function questionBlock(ctx: Ctx): string {
   const verdict = ctx.points.map((p) => p.rows.get("question/verdict")).find((r) => r !== undefined);
   if (!verdict) return "";
-  const lines = arr(verdict.detail.lines).filter((l): l is string => typeof l === "string");
+  const lines = strings(verdict.detail.lines).map((l) => withNames(l, ctx.points));
   const diffs = ctx.points.filter((p) => p.rows.has("question/difference"));
   const trend = ctx.points.map((p) => p.rows.get("question/trend_slope")).find((r) => r !== undefined);
+  const dh = escapeHtml(ctx.units.dHeader);
   let table = "";
   if (diffs.length > 0) {
-    const head = `<tr><th>point</th><th>D − D(base) [${
-      pct(ctx.level)
-    } CI]</th><th>D / D(base) [CI]</th></tr>`;
+    const head = `<tr><th>point</th><th>${dh} − ${dh}(base) [${pct(ctx.level)} CI]</th>` +
+      `<th>${dh} / ${dh}(base) [CI]</th></tr>`;
     const body = diffs.map((p) =>
-      `<tr data-point="${escapeHtml(p.label)}"><td>${escapeHtml(p.label)}</td>` +
+      `<tr data-point="${escapeHtml(p.label)}"><td>${escapeHtml(p.name)}</td>` +
       estimateCell(p.rows.get("question/difference"), "difference") +
       estimateCell(p.rows.get("question/ratio"), "ratio") + `</tr>`
     ).join("");
-    const base = str(rec(diffs[0].rows.get("question/difference")?.detail.base)?.label);
-    table =
-      `<p class="note">Base: ${
-        escapeHtml(base ?? "the first point")
-      }. Intervals: bootstrap of each point's ` +
-      `realisations separately (the points are independent), window fixed as for the point's own interval.</p>` +
-      `<div class="scroll"><table class="analysis" id="question-table"><thead>${head}</thead><tbody>${body}` +
-      `</tbody></table></div>`;
+    const baseLabel = str(rec(diffs[0].rows.get("question/difference")?.detail.base)?.label);
+    const base = ctx.points.find((p) => p.label === baseLabel)?.name ?? baseLabel;
+    table = `<p class="note">Base: ${escapeHtml(base ?? "the first point")}. Intervals: bootstrap of each ` +
+      `point's realisations separately (the points are independent), window fixed as for the point's own ` +
+      `interval.</p><table class="analysis" id="question-table"><thead>${head}</thead><tbody>${body}</tbody>` +
+      `</table>`;
   }
   const trendText = trend
     ? `<p class="note" id="question-trend">Trend: weighted least squares of D against ${
       escapeHtml(str(trend.detail.parameter) ?? "the swept parameter")
-    } (weights 1/se²), slope <span data-role="value" data-value="${String(trend.value)}">${
-      escapeHtml(formatNumber(trend.value ?? Number.NaN))
-    }</span>${
-      trend.lower !== null && trend.upper !== null
-        ? ` [${formatNumber(trend.lower)}, ${formatNumber(trend.upper)}]`
-        : ""
-    } per unit.</p>`
+    } (weights 1/se²), slope ${trend.value === null ? "—" : valueSpan("value", trend.value)}${
+      ciText(trend.lower, trend.upper)
+    } per unit of the parameter.</p>`
     : "";
   return `<div id="question-answered"><h3>The question answered</h3>${
     lines.map((l) => `<p class="answer">${escapeHtml(l)}</p>`).join("")
@@ -298,78 +242,90 @@ function intro(ctx: Ctx): string {
   const first = ctx.points.find((p) => p.rows.has("diffusion/D"))?.rows.get("diffusion/D");
   const d = first?.detail ?? {};
   const B = num(d.replicates);
-  const computed = first?.computedAt ?? "";
-  const units = ctx.opts.units;
   const rule = str(d.rule);
-  return `<p class="note">D/κ (ν′) of the main cluster from three estimators of the mean-square displacement, ` +
-    `each from pairwise relative displacements (the cluster's drift cancels; no (1 − 1/N) bias): the survivor ` +
-    `average from t₀, a fixed cohort (objects in the main cluster throughout the window, displacements from ` +
-    `t₁) and lag increments from many start times, D(τ) = MSD(τ)/(2dτ). The answer is the cohort's D, given ` +
-    `only when the evidence agrees: ${escapeHtml(rule ?? "")}. ${
+  const unit = ctx.units.dUnit;
+  return `<p class="note">ν′ = D/κ of the main cluster from three estimators of the mean-square ` +
+    `displacement, each from pairwise relative displacements (the cluster's drift cancels; no (1 − 1/N) bias): ` +
+    `the survivor average from t₀, a fixed cohort (objects in the main cluster throughout the window, ` +
+    `displacements from t₁) and lag increments from many start times, D(τ) = MSD(τ)/(2dτ). The answer is the ` +
+    `cohort's D, given only when the evidence agrees: ${escapeHtml(rule ?? "")}. ${
       pct(ctx.level)
-    } intervals by bootstrap over ` +
-    `realisations${
-      B !== null ? ` (B = ${B})` : ""
-    } with the window fixed; the window's support (share of replicates that find one) is shown beside it. ` +
-    `D is in length²/time of the study's units${
-      units ? ` (${escapeHtml(units.length)}²/(${escapeHtml(units.time)}))` : ""
-    }, ${
-      diffusionUnit(units).unit === null
-        ? "i.e. D/κ, since time is measured in ℓ²/κ"
-        : `i.e. in ${escapeHtml(diffusionUnit(units).unit!)}: divide by κ for D/κ`
-    }. Computed ${escapeHtml(computed)}.</p>`;
+    } intervals ` +
+    `by bootstrap over realisations${B !== null ? ` (B = ${B})` : ""} with the window fixed; the window's ` +
+    `support (share of replicates that find one) is shown beside it. ${
+      unit === null
+        ? "D is in length²/time of the study's units, i.e. D/κ (time is measured in ℓ²/κ)."
+        : `D is in ${escapeHtml(unit)}${
+          ctx.units.kappa !== undefined ? "; D/κ (dimensionless) is shown beside it" : ""
+        }.`
+    } Method: docs/methods.md §5.1.</p>`;
 }
 
 /** The fit's advice (few realisations, a marginal regime), one line each. */
 function warningNotes(warnings: unknown): string {
-  return arr(warnings).filter((w): w is string => typeof w === "string")
-    .map((w) => `<br><span class="fit-warning">warning: ${escapeHtml(w)}</span>`).join("");
+  return strings(warnings).map((w) => `<br><span class="fit-warning">warning: ${escapeHtml(w)}</span>`)
+    .join("");
 }
 
-/** The answer cell: the value with its interval, or "no diffusive regime" with every reason. */
-function answerCell(r: EnsembleResult | undefined): string {
-  if (r === undefined || r.value !== null) return estimateCell(r, "diffusion-D");
+/** The answer cell: the value with its interval (and D/κ in physical units), or the status with every reason. */
+function answerCell(ctx: Ctx, r: EnsembleResult | undefined): string {
+  if (r === undefined) return `<td>—</td>`;
+  const warnings = warningNotes(r.detail.warnings);
+  if (r.value !== null) {
+    const ci = r.lower !== null && r.upper !== null
+      ? ` [${valueSpan("lower", r.lower)}, ${valueSpan("upper", r.upper)}]`
+      : ` <span class="note">(no interval)</span>`;
+    const kappa = !ctx.units.kappaUnits && ctx.units.kappa !== undefined
+      ? `<br><span class="dk">D/κ = ${formatNumber(r.value / ctx.units.kappa)}${
+        ciText(r.lower, r.upper, 1 / ctx.units.kappa)
+      }</span>`
+      : "";
+    return `<td data-field="diffusion-D">${valueSpan("value", r.value)}${ci}${kappa}${warnings}</td>`;
+  }
   const status = str(r.detail.status) ?? "not available";
-  const reasons = arr(r.detail.reasons).filter((x): x is string => typeof x === "string");
+  const reasons = strings(r.detail.reasons);
   const text = status === "no-diffusive-regime" ? "no diffusive regime" : status;
   return `<td class="status" data-field="diffusion-D" data-status="${
     escapeHtml(status)
   }"><span class="warn">${escapeHtml(text)}</span>${
     reasons.map((x) => `<br><span class="note reason">${escapeHtml(x)}</span>`).join("")
-  }</td>`;
+  }${warnings}</td>`;
 }
 
 function diffusionTable(ctx: Ctx): string {
+  const tu = ctx.units.labels?.time;
   const head =
-    `<tr><th>point</th><th class="num">n</th><th>${
-      escapeHtml(diffusionUnit(ctx.opts.units).header)
-    }, the answer [${pct(ctx.level)} CI]</th>` +
-    `<th class="num">τ_c</th><th class="num">window t₁</th><th class="num">window t₂</th>` +
-    `<th class="num">support</th><th class="num">loss in window</th><th>interval, seed</th></tr>`;
+    `<tr><th>point</th><th class="num">n</th><th>${escapeHtml(ctx.units.dHeader)}, the answer [${
+      pct(ctx.level)
+    } CI]</th>` +
+    `<th class="num">τ_c${tu ? ` [${escapeHtml(tu)}]` : ""}</th><th class="num">window t₁</th>` +
+    `<th class="num">window t₂</th><th class="num">support</th><th class="num">lost in window</th></tr>`;
   const body = ctx.points.map((p) => {
     const d = p.rows.get("diffusion/D");
-    const det = d?.detail ?? {};
-    const seed = str(det.seed);
-    const method = str(det.interval);
-    return `<tr data-point="${escapeHtml(p.label)}"><td>${escapeHtml(p.label)}</td>` +
-      `${numCell(num(det.realisations))}` + answerCell(d) +
+    return `<tr data-point="${escapeHtml(p.label)}"><td>${escapeHtml(p.name)}</td>` +
+      numCell(num(d?.detail.realisations)) + answerCell(ctx, d) +
       numCell(p.rows.get("diffusion/tau_c")?.value ?? null) +
       numCell(p.rows.get("diffusion/window_start")?.value ?? null) +
       numCell(p.rows.get("diffusion/window_end")?.value ?? null) +
-      numCell(p.rows.get("diffusion/support")?.value ?? null) +
-      numCell(p.rows.get("diffusion/loss_in_window")?.value ?? null) +
-      `<td class="note">${escapeHtml(method ?? "—")}${
-        num(det.replicates) ? `, B = ${num(det.replicates)}` : ""
-      }${warningNotes(det.warnings)}${
-        seed
-          ? `<br><code class="seed" title="${escapeHtml(seed)}" data-seed="${escapeHtml(seed)}">${
-            escapeHtml(seed.length > 20 ? `${seed.slice(0, 8)}…${seed.slice(-12)}` : seed)
-          }</code>`
-          : ""
-      }</td></tr>`;
+      percentCell(p.rows.get("diffusion/support")?.value ?? null) +
+      percentCell(p.rows.get("diffusion/loss_in_window")?.value ?? null) + `</tr>`;
   }).join("");
-  return `<div class="scroll"><table class="analysis" id="diffusion-table"><thead>${head}</thead><tbody>${body}` +
-    `</tbody></table></div>`;
+  const seeds = ctx.points.map((p) => {
+    const det = p.rows.get("diffusion/D")?.detail ?? {};
+    const seed = str(det.seed);
+    return seed
+      ? `<li>${escapeHtml(p.name)}: ${escapeHtml(str(det.interval) ?? "—")}${
+        num(det.replicates) ? `, B = ${num(det.replicates)}` : ""
+      }, seed <code class="seed" data-seed="${escapeHtml(seed)}">${escapeHtml(seed)}</code></li>`
+      : "";
+  }).join("");
+  return `<table class="analysis" id="diffusion-table"><thead>${head}</thead><tbody>${body}</tbody></table>` +
+    `<p class="note">Support: share of bootstrap replicates whose own window passes (a warning below 90 %). ` +
+    `Lost in window: share of the objects in the main cluster at t₁ gone from it by t₂.</p>` +
+    (seeds
+      ? `<details class="note"><summary>Interval method and bootstrap seeds</summary><ul>${seeds}</ul>` +
+        `</details>`
+      : "");
 }
 
 const EVIDENCE = [
@@ -380,14 +336,14 @@ const EVIDENCE = [
 
 /** Per point and estimator: the window-mean exponent with its interval, pass/fail, and the fitted D. */
 function evidenceTable(ctx: Ctx): string {
-  const head = `<tr><th>point</th><th>estimator</th><th>exponent over its range [${pct(ctx.level)} CI]</th>` +
-    `<th>range</th><th>verdict</th><th>D/κ [CI]</th></tr>`;
+  const head = `<tr><th>point</th><th>estimator</th><th>exponent [${pct(ctx.level)} CI] over its range</th>` +
+    `<th>verdict</th><th>${escapeHtml(ctx.units.dHeader)} [CI]</th></tr>`;
   const body = ctx.points.flatMap((p) =>
     EVIDENCE.map((e) => {
       const r = p.rows.get(`diffusion/${e.name}`);
       const ex = rec(r?.detail.exponent);
       if (!r || !ex) return "";
-      const v = num(ex.value), lo = num(ex.lower), hi = num(ex.upper);
+      const v = num(ex.value);
       const pass = ex.pass === true;
       const fitted = rec(r.detail.fitted);
       const dCell = r.value !== null
@@ -396,26 +352,26 @@ function evidenceTable(ctx: Ctx): string {
           formatNumber(num(fitted?.D) ?? Number.NaN)
         } (not a diffusion coefficient)</td>`;
       return `<tr data-point="${escapeHtml(p.label)}" data-estimator="${e.name}"><td>${
-        escapeHtml(p.label)
+        escapeHtml(p.name)
       }</td>` +
         `<td>${escapeHtml(e.label)}</td><td data-value="${v ?? ""}">${
           v === null ? "—" : escapeHtml(formatNumber(v))
-        }${lo !== null && hi !== null ? ` [${formatNumber(lo)}, ${formatNumber(hi)}]` : ""}</td>` +
-        `<td>${escapeHtml(e.x)} = ${formatNumber(num(ex.from) ?? Number.NaN)}–${
-          formatNumber(num(ex.to) ?? Number.NaN)
-        }</td><td class="${pass ? "" : "warn"}">${
+        }${ciText(num(ex.lower), num(ex.upper))}<br><span class="note">${escapeHtml(e.x)} = ${
+          formatNumber(num(ex.from) ?? Number.NaN)
+        }–${formatNumber(num(ex.to) ?? Number.NaN)}</span></td><td class="${pass ? "" : "warn"}">${
           pass ? "consistent with diffusion" : escapeHtml(str(ex.reason) ?? "fails")
         }</td>${dCell}</tr>`;
     })
   ).join("");
   if (body === "") return "";
-  return `<h3>Evidence for a diffusive regime</h3><p class="note">Diffusion has exponent 1 for every estimator; ` +
-    `accepted [0.85, 1.15] for the window mean, and at each point of the log grid the bootstrap interval of the ` +
-    `local exponent must reach into that band. Where the regime is not declared, the fitted slopes are shown ` +
-    `for reference only.</p><div class="scroll"><table class="analysis" id="evidence-table"><thead>${head}` +
-    `</thead><tbody>${body}</tbody></table></div>`;
+  return `<h3>Evidence for a diffusive regime</h3><p class="note">Diffusion has exponent 1 for every ` +
+    `estimator; accepted [0.85, 1.15] for the window mean, and at each point of the log grid the bootstrap ` +
+    `interval of the local exponent must reach into that band. Where the regime is not declared, the fitted ` +
+    `slopes are shown for reference only.</p><table class="analysis" id="evidence-table"><thead>${head}` +
+    `</thead><tbody>${body}</tbody></table>`;
 }
 
+/** The sensitivity table: readable threshold changes, D and ΔD/D in %; collapsed when no base has a regime. */
 function sensitivityTable(ctx: Ctx): string {
   const names = [
     ...new Set(
@@ -424,37 +380,61 @@ function sensitivityTable(ctx: Ctx): string {
       ),
     ),
   ];
-  const title = `<h3>Sensitivity of D to the classification thresholds</h3>`;
-  if (names.length === 0) return title + `<p class="note">No sensitivity rows stored.</p>`;
+  const title = `<h3 id="sensitivity-title">Sensitivity of D to the classification thresholds</h3>`;
+  if (names.length === 0) {
+    return title + `<p class="note">Not computed (run <code>spindrift analyse</code> without ` +
+      `<code>--no-sensitivity</code>).</p>`;
+  }
   const order = (n: string) => (n === "base" ? "" : n);
   names.sort((a, b) => order(a).localeCompare(order(b)));
   const head = `<tr><th>classification</th>${
     ctx.points.map((p) =>
-      `<th>${escapeHtml(p.label)}: ${
-        escapeHtml(diffusionUnit(ctx.opts.units).header)
-      }</th><th class="num">ΔD/D</th>`
+      `<th>${escapeHtml(p.name)}: ${escapeHtml(ctx.units.dHeader)}</th><th class="num">ΔD/D</th>`
     ).join("")
   }</tr>`;
+  const baseReason = (p: PointRows) => str(p.rows.get("sensitivity/base")?.detail.reason);
   const body = names.map((n) => {
     const cells = ctx.points.map((p) => {
       const r = p.rows.get(`sensitivity/${n}`);
       if (r === undefined) return `<td>—</td><td>—</td>`;
       const rel = num(r.detail.relativeDelta);
-      return estimateCell(r, `sens-${n}`) + (n === "base" ? `<td class="num">—</td>` : numCell(rel));
+      let cell: string;
+      if (r.value === null && n !== "base" && str(r.detail.reason) === baseReason(p)) {
+        // The same verdict as the study's thresholds: say so briefly instead of repeating the reasons.
+        cell = `<td class="status" data-field="sens-${escapeHtml(n)}" data-status="${
+          escapeHtml(str(r.detail.status) ?? "")
+        }"><span class="warn">no diffusive regime</span> <span class="note">(same reason)</span></td>`;
+      } else cell = estimateCell(r, `sens-${n}`);
+      const delta = n === "base" || rel === null
+        ? `<td class="num">—</td>`
+        : `<td class="num" data-value="${String(rel)}">${rel > 0 ? "+" : ""}${
+          escapeHtml(formatNumber(100 * rel))
+        } %</td>`;
+      return cell + delta;
     }).join("");
     const any = ctx.points.map((p) => p.rows.get(`sensitivity/${n}`)).find((r) => r !== undefined);
-    const tv = num(any?.detail.thresholdValue);
+    const threshold = n.split("*")[0];
     const label = n === "base"
       ? "study thresholds (replayed)"
-      : `${n.replace("*", " × ")}${tv !== null ? ` (= ${formatNumber(tv)})` : ""}`;
+      : thresholdChange(n, num(ctx.classification?.[threshold]), num(any?.detail.thresholdValue));
     return `<tr data-row="${escapeHtml(n)}"><th scope="row">${escapeHtml(label)}</th>${cells}</tr>`;
   }).join("");
-  return title +
-    `<p class="note">The stored frames are replayed through the classifier with each threshold halved and ` +
-    `doubled (the others at the study's values) and D is refitted with the same rules; outwardCosine is ` +
-    `varied through its angle. The base row reproduces the stored-series fit.</p>` +
-    `<div class="scroll"><table class="analysis" id="sensitivity-table"><thead>${head}</thead><tbody>${body}` +
-    `</tbody></table></div>`;
+  const note = `<p class="note">The stored frames are replayed through the classifier with each threshold ` +
+    `halved and doubled (the others at the study's values) and D is refitted with the same rules; the outward ` +
+    `criterion is varied through its angle. The base row reproduces the stored-series fit.</p>`;
+  const table =
+    `<table class="analysis" id="sensitivity-table"><thead>${head}</thead><tbody>${body}</tbody>` +
+    `</table>`;
+  const noBase = ctx.points.every((p) => p.rows.get("sensitivity/base")?.value == null);
+  if (!noBase) return title + note + table;
+  const rows = names.filter((n) => n !== "base");
+  const found = rows.filter((n) => ctx.points.some((p) => p.rows.get(`sensitivity/${n}`)?.value != null));
+  return title + `<p class="note" id="sensitivity-collapsed">The study's own thresholds give no diffusive ` +
+    `regime, so there is no D whose sensitivity could be measured. ${
+      found.length === 0
+        ? `None of the ${rows.length} varied thresholds finds one either.`
+        : `${found.length} of the ${rows.length} varied thresholds find one (open the table).`
+    }</p><details><summary>The table (${rows.length} threshold changes)</summary>${note}${table}</details>`;
 }
 
 function evaporationTable(ctx: Ctx): string {
@@ -462,16 +442,18 @@ function evaporationTable(ctx: Ctx): string {
   if (withE.length === 0) return "";
   const objects = str(withE[0].rows.get("evaporation/evaporated")!.detail.objects) ?? "objects";
   const lostOf = objects === "loops" ? "line length" : "vortices";
+  const tu = ctx.units.labels?.time;
   const head =
     `<tr><th>point</th><th>${escapeHtml(objects)} evaporated by the end [${pct(ctx.level)} CI]</th>` +
-    `<th>t½ [CI]</th><th>rate, ${escapeHtml(objects)} per unit time [CI]</th>` +
-    `<th>fraction of the ${lostOf} lost [CI]</th></tr>`;
+    `<th>t½${tu ? ` [${escapeHtml(tu)}]` : ""} [CI]</th><th>rate, ${escapeHtml(objects)} per ${
+      escapeHtml(tu ?? "unit time")
+    } [CI]</th><th>${lostOf} lost by the end [CI]</th></tr>`;
   const body = withE.map((p) =>
-    `<tr data-point="${escapeHtml(p.label)}"><td>${escapeHtml(p.label)}</td>` +
+    `<tr data-point="${escapeHtml(p.label)}"><td>${escapeHtml(p.name)}</td>` +
     estimateCell(p.rows.get("evaporation/evaporated"), "evaporated") +
     estimateCell(p.rows.get("evaporation/t_half"), "t-half") +
     estimateCell(p.rows.get("evaporation/rate"), "evaporation-rate") +
-    estimateCell(p.rows.get("evaporation/lost_fraction"), "lost-fraction") + `</tr>`
+    estimateCell(p.rows.get("evaporation/lost_fraction"), "lost-fraction", 100, " %") + `</tr>`
   ).join("");
   return `<h3 id="evaporation-title">Evaporation and losses</h3>` +
     `<p class="note">Ensemble-mean number of ${
@@ -479,10 +461,9 @@ function evaporationTable(ctx: Ctx): string {
     } labelled evaporated by the end of the run; ` +
     `t½, the time by which half of them had left; the rate while that first half left (count/(2t½)); and the ` +
     `fraction of the ${lostOf} gone by the end by any channel (annihilation, friction, removed loops; ` +
-    `negative when it grew, as line length can by stretching). ` +
-    `Intervals: bootstrap over realisations.</p>` +
-    `<div class="scroll"><table class="analysis" id="evaporation-table"><thead>${head}</thead><tbody>${body}` +
-    `</tbody></table></div>`;
+    `negative when it grew, as line length can by stretching). Intervals: bootstrap over realisations ` +
+    `(docs/methods.md §5.6).</p>` +
+    `<table class="analysis" id="evaporation-table"><thead>${head}</thead><tbody>${body}</tbody></table>`;
 }
 
 function vinenTable(ctx: Ctx): string {
@@ -495,151 +476,213 @@ function vinenTable(ctx: Ctx): string {
     const reason = str(any?.detail.reason);
     return title + sourceNote + (reason ? `<p class="note">No Vinen fit: ${escapeHtml(reason)}.</p>` : "");
   }
-  const head = `<tr><th>point</th><th>D/κ [${pct(ctx.level)} CI]</th><th>χ₂ [CI]</th>` +
-    `<th class="num">reduced χ²</th><th class="num">terms</th><th>loss: observed [CI] / model</th><th>notes</th></tr>`;
+  const head = `<tr><th>point</th><th>${escapeHtml(ctx.units.dHeader)} [${pct(ctx.level)} CI]</th>` +
+    `<th>χ₂ [CI]</th><th class="num">reduced χ²</th><th class="num">terms</th>` +
+    `<th>lost over the fit: observed [CI] / model</th></tr>`;
+  const notes: string[] = [];
   const body = withV.map((p) => {
     const d = p.rows.get("vinen/D");
     const lossObs = p.rows.get("vinen/loss_observed");
     const lossModel = p.rows.get("vinen/loss_model");
-    const reasons = arr(d?.detail.reasons).concat(arr(d?.detail.warnings))
-      .filter((x): x is string => typeof x === "string");
-    return `<tr data-point="${escapeHtml(p.label)}"><td>${escapeHtml(p.label)}</td>` +
-      (d && d.value === null
-        ? `<td class="status" data-field="vinen-D" data-status="${escapeHtml(str(d.detail.status) ?? "")}">` +
-          `<span class="warn">${
-            escapeHtml(str(d.detail.status) === "rejected" ? "rejected: no D" : str(d.detail.status) ?? "—")
-          }` +
-          `</span></td>`
-        : estimateCell(d, "vinen-D")) +
-      estimateCell(p.rows.get("vinen/chi2"), "vinen-chi2") +
+    // The first reason of a fit without D is in its cell already.
+    const reasons = [
+      ...strings(d?.detail.reasons).slice(d?.value === null ? 1 : 0),
+      ...strings(d?.detail.warnings),
+    ];
+    if (reasons.length > 0) {
+      notes.push(`<li><strong>${escapeHtml(p.name)}</strong>: ${reasons.map(escapeHtml).join("; ")}</li>`);
+    }
+    const pctOf = (v: number | null | undefined) => (v == null ? "—" : `${formatNumber(100 * v)} %`);
+    return `<tr data-point="${escapeHtml(p.label)}"><td>${escapeHtml(p.name)}</td>` +
+      estimateCell(d, "vinen-D") + estimateCell(p.rows.get("vinen/chi2"), "vinen-chi2") +
       numCell(p.rows.get("vinen/reduced_chi2")?.value ?? null) + numCell(num(d?.detail.terms)) +
-      `<td>${lossObs?.value !== null && lossObs ? escapeHtml(formatNumber(lossObs.value!)) : "—"}${
+      `<td>${pctOf(lossObs?.value)}${
         lossObs && lossObs.lower !== null && lossObs.upper !== null
-          ? ` [${formatNumber(lossObs.lower)}, ${formatNumber(lossObs.upper)}]`
+          ? ` [${formatNumber(100 * lossObs.lower)}, ${formatNumber(100 * lossObs.upper)}] %`
           : ""
-      } / ${lossModel?.value !== null && lossModel ? escapeHtml(formatNumber(lossModel.value!)) : "—"}</td>` +
-      `<td class="note">${reasons.map((x) => escapeHtml(x)).join("<br>")}</td></tr>`;
+      } / ${pctOf(lossModel?.value)}</td></tr>`;
   }).join("");
   return title + sourceNote +
     `<p class="note">∂L/∂t = D∇²L − χ₂(κ/2π)L² fitted to the radial profiles (D and χ₂ together; χ₂ fixed ` +
     `only when given with --chi2), quasi-Poisson weights from the model; a fit with reduced χ² above 2 is ` +
-    `rejected and gives no D. The loss is the fraction of the profiles' content gone over the fitted times.</p>` +
-    `<div class="scroll"><table class="analysis" id="vinen-table"><thead>${head}</thead><tbody>${body}` +
-    `</tbody></table></div>`;
+    `rejected and gives no D (docs/methods.md §5.2). The loss is the fraction of the profiles' content gone ` +
+    `over the fitted times.</p><table class="analysis" id="vinen-table"><thead>${head}</thead><tbody>${body}` +
+    `</tbody></table>${notes.length > 0 ? `<ul class="note vinen-notes">${notes.join("")}</ul>` : ""}`;
 }
 
 // --- charts --------------------------------------------------------------------------------------------------
 
-function colour(ctx: Ctx, field = "point", title = "parameter point") {
-  const keys = ctx.points.map((p) => p.key);
-  return {
-    field,
-    type: "nominal" as const,
-    title,
-    scale: { domain: keys, scheme: keys.length > 10 ? "category20" : "tableau10" },
-    legend: { columns: keys.length > 6 ? 2 : 1 },
-  };
+/** The time axis of the analysis charts: display scale from the largest time drawn. */
+function timeAxis(
+  ctx: Ctx,
+  tMax: number,
+  what = "time since the first frame t",
+): { s: Scale; title: string } {
+  const s = timeScale(ctx.units, tMax);
+  return { s, title: axisTitle(what, s.unit) };
 }
 
-function timeTitle(ctx: Ctx): string {
-  const tu = ctx.opts.units?.time;
-  return tu ? `time since the first frame t [${tu}]` : "time since the first frame t";
+/**
+ * Each point's window [t₁, t₂] as a bar in its colour along the bottom of a plot of height `height` (pixel
+ * positions, one row per point), so windows of several points never hide each other or the data.
+ */
+function windowBars(
+  ctx: Ctx,
+  windows: readonly { point: string; t1: number; t2: number }[],
+  o: { readonly height: number; readonly time: Scale; readonly label?: string },
+) {
+  if (windows.length === 0) return [];
+  const label = o.label ?? "fit window";
+  const row = new Map(ctx.view.names.map((n, i) => [n, i]));
+  const first = windows.reduce((a, w) => (w.t1 < a.t1 ? w : a), windows[0]);
+  const values = windows.map((w) => {
+    const i = row.get(w.point) ?? 0;
+    return {
+      point: w.point,
+      t1: w.t1 * o.time.factor,
+      t2: w.t2 * o.time.factor,
+      y: o.height - 4 - 7 * i,
+      y2: o.height - 9 - 7 * i,
+      label: w === first ? label : "",
+    };
+  });
+  return [{
+    data: { name: label === "fit window" ? "fit windows" : label, values },
+    layer: [
+      { mark: { type: "rect", opacity: 0.85, tooltip: true } },
+      {
+        mark: { type: "text", align: "right", baseline: "middle", dx: -4, fontSize: 11, color: "#444444" },
+        encoding: { text: { field: "label" }, x: { field: "t1", type: "quantitative" } },
+      },
+    ],
+    encoding: {
+      x: { field: "t1", type: "quantitative" },
+      x2: { field: "t2" },
+      y: { field: "y", type: "quantitative", scale: null },
+      y2: { field: "y2" },
+      color: pointColourEncoding(ctx.view, true),
+    },
+  }];
 }
 
-/** The single numeric swept parameter, if there is exactly one; else null (points on a nominal axis). */
-function sweptAxis(ctx: Ctx): { path: string } | null {
-  const paths = new Set(ctx.points.flatMap((p) => Object.keys(p.varied)));
-  if (paths.size !== 1) return null;
-  const [path] = [...paths];
-  return ctx.points.every((p) => typeof p.varied[path] === "number") ? { path } : null;
-}
-
-function dVsParameterChart(ctx: Ctx): ChartSpec {
-  const swept = sweptAxis(ctx);
+/** D per point and estimator: points on a categorical axis, estimators side by side (shape), point colours. */
+function dPerPointChart(ctx: Ctx): ChartSpec {
   const rows: Record<string, unknown>[] = [];
   for (const p of ctx.points) {
     for (const e of ESTIMATORS) {
       const r = p.rows.get(`${e.analysis}/${e.name}`);
       if (!r || r.value === null) continue;
+      const f = ctx.d.factor;
       rows.push({
-        point: p.key,
-        x: swept ? p.varied[swept.path] : p.key,
+        point: p.name,
         estimator: e.label,
-        D: r.value,
-        lower: r.lower,
-        upper: r.upper,
+        D: r.value * f,
+        lower: r.lower === null ? null : r.lower * f,
+        upper: r.upper === null ? null : r.upper * f,
       });
     }
   }
   const id = "d-vs-parameter";
-  const title = `${diffusionUnit(ctx.opts.units).header} per parameter point, three estimates`;
-  const caption = `Each estimate with its ${pct(ctx.level)} bootstrap interval (error bars; none drawn ` +
-    `when no interval was computed). Points without a diffusive regime have no MSD or D_R value.`;
+  const title = `${ctx.d.title} per parameter point`;
+  const caption =
+    `Each estimate with its ${pct(ctx.level)} bootstrap interval (error bars; none drawn when no ` +
+    `interval was computed), estimators side by side. Only estimates with a value are drawn: points without ` +
+    `a diffusive regime have no MSD-based D.${
+      ctx.d.title === "D/κ" && !ctx.units.kappaUnits ? " Physical-unit D divided by the recorded κ." : ""
+    }`;
   if (rows.length === 0) {
     return {
       id,
       title,
       caption,
       spec: null,
-      emptyReason: "No parameter point has a D estimate (see the reasons in the table above).",
+      emptyReason: "No parameter point has a D estimate (the reasons are in the table above).",
     };
   }
-  const x = swept
-    ? { field: "x", type: "quantitative", title: swept.path, scale: { zero: false, padding: 20 } }
-    : { field: "x", type: "nominal", title: "parameter point", sort: ctx.points.map((p) => p.key) };
+  const labelLimit = Math.max(80, Math.floor(ctx.width / Math.max(1, ctx.points.length)) - 8);
+  const used = ESTIMATORS.filter((e) => rows.some((r) => r.estimator === e.label));
   const spec = {
     $schema: SCHEMA,
     width: ctx.width,
     height: 300,
-    data: { values: rows },
+    data: { name: "estimates", values: rows },
     encoding: {
-      x,
-      xOffset: swept ? undefined : { field: "estimator", type: "nominal" },
-      color: { field: "estimator", type: "nominal", title: "estimator" },
+      x: {
+        field: "point",
+        type: "nominal",
+        title: "parameter point",
+        sort: ctx.view.names,
+        axis: { labelAngle: ctx.points.length > 4 ? -30 : 0, labelLimit },
+      },
+      xOffset: { field: "estimator", type: "nominal", sort: used.map((e) => e.label) },
+      color: { ...pointColourEncoding(ctx.view, false), legend: null },
+      shape: {
+        field: "estimator",
+        type: "nominal",
+        title: "estimator",
+        scale: { domain: used.map((e) => e.label), range: used.map((e) => e.shape) },
+      },
     },
-    layer: estimateLayers(70, [
+    layer: estimateLayers(80, [
       { field: "point", type: "nominal" },
       { field: "estimator", type: "nominal" },
-      { field: "D", type: "quantitative", format: ".4g" },
+      { field: "D", type: "quantitative", format: ".4g", title: ctx.d.title },
       { field: "lower", type: "quantitative", title: "CI low", format: ".4g" },
       { field: "upper", type: "quantitative", title: "CI high", format: ".4g" },
-    ], diffusionUnit(ctx.opts.units).header),
+    ], ctx.d.title),
     config: CONFIG,
   } as unknown as TopLevelSpec;
   return { id, title, caption, spec, emptyReason: null };
 }
 
-/** The fit windows [t₁, t₂] as shaded bands on a log time axis, one colour per point (none: no layer). */
-function windowLayers(ctx: Ctx, windows: readonly Record<string, unknown>[], opacity: number): unknown[] {
-  if (windows.length === 0) return [];
-  return [{
-    data: { values: windows },
-    mark: { type: "rect", opacity },
-    encoding: {
-      x: { field: "t1", type: "quantitative", scale: { type: "log", nice: false }, title: timeTitle(ctx) },
-      x2: { field: "t2" },
-      color: colour(ctx),
+const CURVE_STYLE: Readonly<Record<string, readonly [number[], number]>> = {
+  "ensemble MSD (survivors)": [[1, 0], 2],
+  "guide ∝ t² (ballistic)": [[6, 4], 1.3],
+  "guide ∝ t (diffusive)": [[2, 3], 1.3],
+  "fit 2dDt + b over the window": [[10, 3, 2, 3], 3],
+  "D(τ) = ⟨|Δr|²⟩/(2dτ)": [[1, 0], 2],
+  "lag-estimator D": [[6, 4], 1.5],
+};
+
+/** strokeDash and strokeWidth encodings for the curve kinds present (legend: line styles). */
+function curveStyle(kinds: readonly string[]) {
+  const domain = Object.keys(CURVE_STYLE).filter((k) => kinds.includes(k));
+  return {
+    strokeDash: {
+      field: "curve",
+      type: "nominal",
+      title: "line",
+      scale: { domain, range: domain.map((k) => CURVE_STYLE[k][0]) },
+      legend: domain.length < 2
+        ? null
+        : { symbolType: "stroke", symbolStrokeWidth: 2, symbolSize: 400, symbolStrokeColor: "#333" },
     },
-  }];
+    strokeWidth: {
+      field: "curve",
+      type: "ordinal",
+      scale: { domain, range: domain.map((k) => CURVE_STYLE[k][1]) },
+      legend: null,
+    },
+  };
 }
 
 function msdFitChart(ctx: Ctx): ChartSpec {
   const id = "msd-fit";
   const title = "MSD with guide lines and the fit window";
-  const data: Record<string, unknown>[] = [];
-  const guides: Record<string, unknown>[] = [];
-  const windows: Record<string, unknown>[] = [];
-  const fits: Record<string, unknown>[] = [];
+  type Row = { point: string; t: number; msd: number; curve: string; seg: string };
+  const lines: Row[] = [];
+  const windows: { point: string; t1: number; t2: number }[] = [];
   for (const p of ctx.points) {
     const r = p.rows.get("diffusion/D");
     const s = rec(rec(r?.detail.origin)?.curve);
     if (!r || !s) continue;
     const t = arr(s.x), m = arr(s.msd);
     let tMin = Infinity, tMax = 0;
+    const data = "ensemble MSD (survivors)";
     t.forEach((tk, k) => {
       const v = m[k];
       if (typeof tk === "number" && tk > 0 && typeof v === "number" && v > 0) {
-        data.push({ point: p.key, t: tk, msd: v });
+        lines.push({ point: p.name, t: tk, msd: v, curve: data, seg: `${p.name}|data` });
         tMin = Math.min(tMin, tk);
         tMax = Math.max(tMax, tk);
       }
@@ -650,19 +693,15 @@ function msdFitChart(ctx: Ctx): ChartSpec {
     const bt = num(b?.t), bm = num(b?.msd), dt = num(dfu?.t), dm = num(dfu?.msd);
     if (bt !== null && bm !== null) {
       const t2 = Math.min(tMax, bt * 10);
-      guides.push({ point: p.key, guide: "∝ t² (ballistic)", t: bt, msd: bm, seg: `${p.key} b` });
-      guides.push({
-        point: p.key,
-        guide: "∝ t² (ballistic)",
-        t: t2,
-        msd: bm * (t2 / bt) ** 2,
-        seg: `${p.key} b`,
-      });
+      const c = "guide ∝ t² (ballistic)";
+      lines.push({ point: p.name, t: bt, msd: bm, curve: c, seg: `${p.name}|b` });
+      lines.push({ point: p.name, t: t2, msd: bm * (t2 / bt) ** 2, curve: c, seg: `${p.name}|b` });
     }
     if (dt !== null && dm !== null) {
       const ta = Math.max(tMin, dt / 10), tb = Math.min(tMax, dt * 10);
-      guides.push({ point: p.key, guide: "∝ t (diffusive)", t: ta, msd: dm * (ta / dt), seg: `${p.key} d` });
-      guides.push({ point: p.key, guide: "∝ t (diffusive)", t: tb, msd: dm * (tb / dt), seg: `${p.key} d` });
+      const c = "guide ∝ t (diffusive)";
+      lines.push({ point: p.name, t: ta, msd: dm * (ta / dt), curve: c, seg: `${p.name}|d` });
+      lines.push({ point: p.name, t: tb, msd: dm * (tb / dt), curve: c, seg: `${p.name}|d` });
     }
     const w = rec(r.detail.window);
     const t1 = num(w?.t1), t2 = num(w?.t2);
@@ -670,49 +709,51 @@ function msdFitChart(ctx: Ctx): ChartSpec {
     const D = o?.value ?? null, bIntercept = num(rec(o?.detail.fitted)?.intercept);
     const d = num(r.detail.dimension) ?? 2;
     if (t1 !== null && t2 !== null) {
-      windows.push({ point: p.key, t1, t2 });
+      windows.push({ point: p.name, t1, t2 });
       if (D !== null && bIntercept !== null) {
         for (const tt of [t1, Math.sqrt(t1 * t2), t2]) {
-          fits.push({ point: p.key, t: tt, msd: 2 * d * D * tt + bIntercept });
+          const c = "fit 2dDt + b over the window";
+          lines.push({
+            point: p.name,
+            t: tt,
+            msd: 2 * d * D * tt + bIntercept,
+            curve: c,
+            seg: `${p.name}|fit`,
+          });
         }
       }
     }
   }
-  const caption =
-    "Survivor-average MSD from t₀ (pairwise relative displacements, log–log). Dashed: ∝ t² through the first " +
-    "value and ∝ t at the window's centre; shaded: the window [t₁, t₂]; thick line: the fit 2dDt + b (only " +
-    "where the evidence shows a diffusive regime).";
-  if (data.length === 0) {
-    return { id, title, caption, spec: null, emptyReason: "No stored MSD fit with positive values." };
+  const caption = "Survivor-average MSD from t₀ (pairwise relative displacements, log–log), one colour per " +
+    "point; line styles in the legend: the ∝ t² guide through the first value, the ∝ t guide at the window's " +
+    "centre, and the fit 2dDt + b (only where the evidence shows a diffusive regime). Bars along the bottom: " +
+    "each point's window [t₁, t₂] in its colour.";
+  if (lines.length === 0) {
+    return { id, title, caption, spec: null, emptyReason: "No stored MSD curve with positive values." };
   }
-  const lu = ctx.opts.units?.length;
-  const yTitle = lu ? `MSD [${lu}²]` : "MSD (length²)";
-  const x = { field: "t", type: "quantitative", title: timeTitle(ctx), scale: { type: "log", nice: false } };
-  const y = { field: "msd", type: "quantitative", title: yTitle, scale: { type: "log" } };
-  const layers: unknown[] = windowLayers(ctx, windows, 0.1);
-  layers.push({
-    data: { values: data },
-    mark: { type: "line", strokeWidth: 1.5 },
-    encoding: { x, y, color: colour(ctx) },
-  });
-  if (guides.length > 0) {
-    layers.push({
-      data: { values: guides },
-      mark: { type: "line", strokeDash: [5, 4], strokeWidth: 1.2 },
-      encoding: { x, y, color: colour(ctx), detail: { field: "seg", type: "nominal" } },
-    });
-  }
-  if (fits.length > 0) {
-    layers.push({
-      data: { values: fits },
-      mark: { type: "line", strokeWidth: 4, opacity: 0.6 },
-      encoding: { x, y, color: colour(ctx) },
-    });
-  }
+  const height = 340;
+  const tx = timeAxis(ctx, Math.max(...lines.map((r) => r.t)));
+  const ls = lengthScale(ctx.units, Math.sqrt(Math.max(...lines.map((r) => r.msd))));
+  const f2 = ls.factor * ls.factor;
+  const yUnit = squaredUnit(ls.unit) || "length²";
+  const shown = lines.map((r) => ({ ...r, t: r.t * tx.s.factor, msd: r.msd * f2 }));
+  const x = { field: "t", type: "quantitative", title: tx.title, scale: { type: "log", nice: false } };
+  const layers: unknown[] = [{
+    data: { name: "curves", values: shown },
+    mark: { type: "line", tooltip: true },
+    encoding: {
+      x,
+      y: { field: "msd", type: "quantitative", title: axisTitle("MSD", yUnit), scale: { type: "log" } },
+      color: pointColourEncoding(ctx.view, true),
+      detail: { field: "seg", type: "nominal" },
+      ...curveStyle([...new Set(lines.map((r) => r.curve))]),
+    },
+  }];
+  layers.push(...windowBars(ctx, windows, { height, time: tx.s }));
   const spec = {
     $schema: SCHEMA,
     width: ctx.width,
-    height: 340,
+    height,
     layer: layers,
     config: { ...CONFIG, axisY: { labelExpr: DECADE_LABELS } },
   } as unknown as TopLevelSpec;
@@ -723,7 +764,7 @@ function localSlopeChart(ctx: Ctx): ChartSpec {
   const id = "local-slope";
   const title = "Local slope α(t) = d ln MSD / d ln t";
   const rows: Record<string, unknown>[] = [];
-  const windows: Record<string, unknown>[] = [];
+  const windows: { point: string; t1: number; t2: number }[] = [];
   let band: [number, number] = [0.85, 1.15];
   for (const p of ctx.points) {
     const r = p.rows.get("diffusion/D");
@@ -734,44 +775,60 @@ function localSlopeChart(ctx: Ctx): ChartSpec {
     const t = arr(s.x), a = arr(s.alpha);
     t.forEach((tk, k) => {
       if (typeof tk === "number" && tk > 0 && typeof a[k] === "number") {
-        rows.push({ point: p.key, t: tk, alpha: a[k] });
+        rows.push({ point: p.name, t: tk, alpha: a[k] });
       }
     });
     const w = rec(r.detail.window);
-    if (num(w?.t1) !== null && num(w?.t2) !== null) windows.push({ point: p.key, t1: w!.t1, t2: w!.t2 });
+    const t1 = num(w?.t1), t2 = num(w?.t2);
+    if (t1 !== null && t2 !== null) windows.push({ point: p.name, t1, t2 });
   }
-  const caption =
-    "Smoothed local exponent of the survivor-average MSD on a log grid: 2 = ballistic, 1 = diffusive (grey " +
-    `lines). Band: the accepted range [${band[0]}, ${band[1]}]; shaded per point: the window chosen from ` +
-    "this curve (the cohort and lag exponents are in the evidence table and the D(τ) chart).";
+  const caption = "Smoothed local exponent of the survivor-average MSD on a log grid: 2 = ballistic, " +
+    `1 = diffusive (labelled grey lines). Grey band: the accepted range [${band[0]}, ${
+      band[1]
+    }]. Bars along ` +
+    "the bottom: each point's window chosen from this curve (the cohort and lag exponents are in the evidence " +
+    "table and the D(τ) chart).";
   if (rows.length === 0) return { id, title, caption, spec: null, emptyReason: "No stored local slope." };
-  const x = { field: "t", type: "quantitative", title: timeTitle(ctx), scale: { type: "log", nice: false } };
+  const height = 280;
+  const tMax = Math.max(...rows.map((r) => r.t as number));
+  const tx = timeAxis(ctx, tMax);
+  const shown = rows.map((r) => ({ ...r, t: (r.t as number) * tx.s.factor }));
+  const x = { field: "t", type: "quantitative", title: tx.title, scale: { type: "log", nice: false } };
   const layers: unknown[] = [
     {
-      data: { values: [{ lo: band[0], hi: band[1] }] },
+      data: { name: "accepted band", values: [{ lo: band[0], hi: band[1] }] },
       mark: { type: "rect", color: "#999999", opacity: 0.15 },
       encoding: { y: { field: "lo", type: "quantitative" }, y2: { field: "hi" } },
     },
     {
-      data: { values: [{ a: 1 }, { a: 2 }] },
-      mark: { type: "rule", color: "#888888", strokeDash: [4, 3] },
+      data: {
+        name: "reference exponents",
+        values: [{ a: 1, text: "diffusive" }, { a: 2, text: "ballistic" }],
+      },
+      layer: [
+        { mark: { type: "rule", color: "#888888", strokeDash: [4, 3] } },
+        {
+          mark: { type: "text", align: "left", dx: 4, dy: -7, color: "#555555", fontSize: 11 },
+          encoding: { text: { field: "text" }, x: { value: 0 } },
+        },
+      ],
       encoding: { y: { field: "a", type: "quantitative" } },
     },
   ];
-  layers.push(...windowLayers(ctx, windows, 0.08));
   layers.push({
-    data: { values: rows },
+    data: { name: "local exponent", values: shown },
     mark: { type: "line", strokeWidth: 2, point: { filled: true, size: 20 }, tooltip: true },
     encoding: {
       x,
       y: { field: "alpha", type: "quantitative", title: "α(t)", scale: { domain: [0, 2.5], clamp: true } },
-      color: colour(ctx),
+      color: pointColourEncoding(ctx.view, true),
     },
   });
+  layers.push(...windowBars(ctx, windows, { height, time: tx.s }));
   const spec = {
     $schema: SCHEMA,
     width: ctx.width,
-    height: 280,
+    height,
     layer: layers,
     config: CONFIG,
   } as unknown as TopLevelSpec;
@@ -782,68 +839,94 @@ function localSlopeChart(ctx: Ctx): ChartSpec {
 function lagChart(ctx: Ctx): ChartSpec {
   const id = "lag-d";
   const title = "Lag increments: D(τ) = ⟨|Δr(τ)|²⟩/(2dτ)";
-  const rows: Record<string, unknown>[] = [];
-  const ranges: Record<string, unknown>[] = [];
+  const rows: { point: string; tau: number; D: number; curve: string; seg: string }[] = [];
+  const ranges: { point: string; t1: number; t2: number }[] = [];
   for (const p of ctx.points) {
     const r = p.rows.get("diffusion/D_lag");
     const dx = rec(r?.detail.Dx);
     if (!r || !dx) continue;
     const x = arr(dx.x), D = arr(dx.D);
+    const c = "D(τ) = ⟨|Δr|²⟩/(2dτ)";
     x.forEach((tau, q) => {
       if (typeof tau === "number" && tau > 0 && typeof D[q] === "number") {
-        rows.push({ point: p.key, tau, D: D[q] });
+        rows.push({ point: p.name, tau, D: (D[q] as number) * ctx.d.factor, curve: c, seg: `${p.name}|D` });
       }
     });
     const ex = rec(r.detail.exponent);
-    if (num(ex?.from) !== null && num(ex?.to) !== null) {
-      ranges.push({ point: p.key, t1: ex!.from, t2: ex!.to });
+    const from = num(ex?.from), to = num(ex?.to);
+    if (from !== null && to !== null) {
+      ranges.push({ point: p.name, t1: from, t2: to });
+      if (r.value !== null) {
+        const c2 = "lag-estimator D";
+        for (const tau of [from, to]) {
+          rows.push({ point: p.name, tau, D: r.value * ctx.d.factor, curve: c2, seg: `${p.name}|fit` });
+        }
+      }
     }
   }
   const caption =
     "For diffusion D(τ) is flat beyond the correlation time; growth with τ means displacements " +
-    "grow faster than the lag (superdiffusion), whatever a fit from t₀ says. Shaded: the lags judged " +
-    "(3τ_c to ½(t₂ − t₁)).";
+    "grow faster than the lag (superdiffusion), whatever a fit from t₀ says. Bars along the bottom: the lags " +
+    "judged for each point (3τ_c to ½(t₂ − t₁)); dashed: the lag estimator's D where the regime is declared.";
   if (rows.length === 0) {
     return {
       id,
       title,
       caption,
       spec: null,
-      emptyReason: "No lag estimator is stored (no window, or unequal frames).",
+      emptyReason: "No lag estimator is stored (no window was found, or the frames are unequal in time).",
     };
   }
-  const x = { field: "tau", type: "quantitative", title: "lag τ", scale: { type: "log", nice: false } };
-  const layers: unknown[] = ranges.length > 0
-    ? [{
-      data: { values: ranges },
-      mark: { type: "rect", opacity: 0.08 },
-      encoding: {
-        x: { field: "t1", type: "quantitative", scale: { type: "log", nice: false }, title: "lag τ" },
-        x2: { field: "t2" },
-        color: colour(ctx),
+  const height = 260;
+  const tx = timeAxis(ctx, Math.max(...rows.map((r) => r.tau)), "lag τ");
+  const shown = rows.map((r) => ({ ...r, tau: r.tau * tx.s.factor }));
+  const yTitle = ctx.d.title === "D/κ" ? "D(τ)/κ" : ctx.d.title.replace(/^D/, "D(τ)");
+  const layers: unknown[] = [{
+    data: { name: "lag D", values: shown },
+    mark: { type: "line", point: { filled: true, size: 18 }, tooltip: true },
+    encoding: {
+      x: { field: "tau", type: "quantitative", title: tx.title, scale: { type: "log", nice: false } },
+      y: {
+        field: "D",
+        type: "quantitative",
+        title: yTitle,
+        axis: numberFormat(Math.max(...shown.map((r) => Math.abs(r.D)))),
       },
-    }]
-    : [];
-  layers.push({
-    data: { values: rows },
-    mark: { type: "line", strokeWidth: 2, point: { filled: true, size: 18 }, tooltip: true },
-    encoding: { x, y: { field: "D", type: "quantitative", title: "D(τ)" }, color: colour(ctx) },
-  });
+      color: pointColourEncoding(ctx.view, true),
+      detail: { field: "seg", type: "nominal" },
+      ...curveStyle([...new Set(rows.map((r) => r.curve))]),
+    },
+  }];
+  layers.push(...windowBars(ctx, ranges, { height, time: tx.s, label: "lags judged" }));
   const spec = {
     $schema: SCHEMA,
     width: ctx.width,
-    height: 260,
+    height,
     layer: layers,
     config: CONFIG,
   } as unknown as TopLevelSpec;
   return { id, title, caption, spec, emptyReason: null };
 }
 
+/** Bins beyond the last one holding ≥ 2 % of the peak density (data or model) are not drawn. */
+const PROFILE_TAIL = 0.02;
+
 function vinenChart(ctx: Ctx): ChartSpec {
   const id = "vinen-fit";
   const title = "Vinen-equation fit against the radial profiles";
-  const rows: Record<string, unknown>[] = [];
+  const rows: {
+    panel: string;
+    t: number;
+    r: number;
+    data: number | null;
+    model: number | null;
+    fit: string | null;
+  }[] = [];
+  const panels: string[] = [];
   let reason = "No Vinen fit is stored (run spindrift analyse).";
+  let dimension = 2;
+  let cut = 0;
+  let fromWindow = true;
   for (const p of ctx.points) {
     const r = p.rows.get("vinen/D");
     if (!r) continue;
@@ -852,44 +935,94 @@ function vinenChart(ctx: Ctx): ChartSpec {
       reason = `No Vinen fit: ${str(r.detail.reason) ?? "not available"}.`;
       continue;
     }
-    const rr = arr(prof?.r);
-    for (const c of arr(prof?.curves)) {
-      const cc = rec(c);
-      const t = num(cc?.t);
-      if (!cc || t === null) continue;
-      const mean = arr(cc.mean), model = arr(cc.model);
+    dimension = num(p.rows.get("diffusion/D")?.detail.dimension) ?? dimension;
+    if (rec(r.detail.window)?.fromDiffusionWindow === false) fromWindow = false;
+    const chi = num(r.detail.reducedChi2);
+    const panel = p.name;
+    const fit = `reduced χ² = ${chi === null ? "—" : formatNumber(chi)}${
+      str(r.detail.status) === "rejected" ? ": rejected" : str(r.detail.status) === "ok" ? ": fits" : ""
+    }`;
+    panels.push(panel);
+    const rr = arr(prof.r);
+    const curves = arr(prof.curves).map(rec).filter((c): c is NonNullable<typeof c> => c !== null);
+    let peak = 0;
+    for (const c of curves) {
+      for (const v of [...arr(c.mean), ...arr(c.model)]) if (typeof v === "number") peak = Math.max(peak, v);
+    }
+    let last = 0;
+    rr.forEach((_, k) => {
+      for (const c of curves) {
+        const a = arr(c.mean)[k], b = arr(c.model)[k];
+        if (
+          (typeof a === "number" && a >= PROFILE_TAIL * peak) ||
+          (typeof b === "number" && b >= PROFILE_TAIL * peak)
+        ) {
+          last = Math.max(last, k);
+        }
+      }
+    });
+    cut = Math.max(cut, rr.length - 1 - (last + 1));
+    for (const c of curves) {
+      const t = num(c.t);
+      if (t === null) continue;
+      const mean = arr(c.mean), model = arr(c.model);
       rr.forEach((rk, k) => {
+        if (typeof rk !== "number" || k > last + 1) return;
         rows.push({
-          point: p.key,
+          panel,
           t,
           r: rk,
-          data: typeof mean[k] === "number" ? mean[k] : null,
-          model: typeof model[k] === "number" ? model[k] : null,
+          data: typeof mean[k] === "number" ? mean[k] as number : null,
+          model: typeof model[k] === "number" ? model[k] as number : null,
+          // The goodness of fit, drawn once per panel (on its first row).
+          fit: rows.some((x) => x.panel === panel) ? null : fit,
         });
       });
     }
   }
-  const caption = "Dots: ensemble-mean radial density (main cluster, common bins) at the first time (the " +
-    "initial condition), a third, two thirds and the end of the fit window; lines: the fitted Vinen-equation " +
-    "model at the same times (also for rejected fits, to show where the model fails). One panel per point.";
+  const caption = "Dots: ensemble-mean radial density of the main cluster (common bins); lines: the fitted " +
+    "Vinen-equation model at the same times. The earliest time is the start of the fit (the window's t₁" +
+    `${fromWindow ? "" : ", or the first frame where no window was found"}), whose measured profile is the ` +
+    "model's initial condition; then a third, two thirds and the end of the fit. Each panel shows its reduced " +
+    "χ² (the fit is rejected above 2; the model is drawn for rejected fits too, to show where it fails)." +
+    (cut > 0
+      ? ` Outer bins holding less than ${100 * PROFILE_TAIL} % of the peak density are not drawn.`
+      : "");
   if (rows.length === 0) return { id, title, caption, spec: null, emptyReason: reason };
-  const lu = ctx.opts.units?.length;
+  const ls = lengthScale(ctx.units, Math.max(...rows.map((r) => r.r)));
+  const tx = timeAxis(ctx, Math.max(...rows.map((r) => r.t)), "time");
+  // Density: 2D vortices per area, 3D line length per volume; both length⁻² (scaled with the length unit).
+  const dScale = 1 / (ls.factor * ls.factor);
+  const lu = ls.unit === "" ? "length" : ls.unit;
+  const yTitle = `${dimension === 3 ? "line density L" : "vortex density n"} [${
+    /^[^\s()]+$/.test(lu) ? lu : `(${lu})`
+  }⁻²]`;
+  const shown = rows.map((r) => ({
+    ...r,
+    t: r.t * tx.s.factor,
+    r: r.r * ls.factor,
+    data: r.data === null ? null : r.data * dScale,
+    model: r.model === null ? null : r.model * dScale,
+  }));
+  const yMax = Math.max(...shown.map((r) => Math.max(r.data ?? 0, r.model ?? 0)));
+  const n = panels.length;
+  const panelWidth = Math.max(200, Math.floor((ctx.width - 40 * (Math.min(3, n) - 1)) / Math.min(3, n)));
   const spec = {
     $schema: SCHEMA,
-    data: { values: rows },
-    facet: { field: "point", type: "nominal", title: null, sort: ctx.points.map((p) => p.key) },
-    columns: 3,
+    data: { name: "profiles", values: shown },
+    facet: { field: "panel", type: "nominal", title: null, sort: panels },
+    columns: Math.min(3, n),
     spec: {
-      width: Math.max(180, Math.floor((ctx.width - 60) / Math.min(3, ctx.points.length))),
+      width: panelWidth,
       height: 220,
       encoding: {
-        x: { field: "r", type: "quantitative", title: lu ? `r [${lu}]` : "r (length)" },
-        // Time as a sequential colour (points of a sweep have different fit windows, so a shared
-        // ordinal legend would pair unrelated times).
+        x: { field: "r", type: "quantitative", title: axisTitle("r", lu) },
+        // Time as a sequential colour (points of a sweep have different fit windows, so a shared ordinal legend
+        // would pair unrelated times).
         color: {
           field: "t",
           type: "quantitative",
-          title: "time",
+          title: tx.title,
           scale: { scheme: "viridis", reverse: true },
         },
         detail: { field: "t", type: "quantitative" },
@@ -897,11 +1030,21 @@ function vinenChart(ctx: Ctx): ChartSpec {
       layer: [
         {
           mark: { type: "point", filled: true, size: 28 },
-          encoding: { y: { field: "data", type: "quantitative", title: "density" } },
+          encoding: { y: { field: "data", type: "quantitative", title: yTitle, axis: numberFormat(yMax) } },
         },
         {
           mark: { type: "line", strokeWidth: 2, invalid: "break-paths-filter-domains" },
-          encoding: { y: { field: "model", type: "quantitative", title: "density" } },
+          encoding: { y: { field: "model", type: "quantitative", title: yTitle } },
+        },
+        {
+          transform: [{ filter: "datum.fit != null" }],
+          mark: { type: "text", align: "right", baseline: "top", fontSize: 12, fontWeight: 600 },
+          encoding: {
+            text: { field: "fit" },
+            x: { value: panelWidth - 6 },
+            y: { value: 6 },
+            color: { value: "#333333" },
+          },
         },
       ],
     },
@@ -913,7 +1056,7 @@ function vinenChart(ctx: Ctx): ChartSpec {
 function corrChart(ctx: Ctx): ChartSpec {
   const id = "velocity-correlations";
   const title = "Velocity correlations f(r), g(r)";
-  const rows: Record<string, unknown>[] = [];
+  const rows: { point: string; r: number; value: number; curve: string }[] = [];
   let reason = "No velocity correlations are stored.";
   for (const p of ctx.points) {
     const r = p.rows.get("correlations/f_integral");
@@ -925,40 +1068,54 @@ function corrChart(ctx: Ctx): ChartSpec {
     const rm = arr(r.detail.rMean), f = arr(r.detail.f), g = arr(r.detail.g);
     rm.forEach((x, k) => {
       if (typeof x !== "number") return;
-      if (typeof f[k] === "number") rows.push({ point: p.key, r: x, value: f[k], curve: "f (longitudinal)" });
-      if (typeof g[k] === "number") rows.push({ point: p.key, r: x, value: g[k], curve: "g (transverse)" });
+      if (typeof f[k] === "number") {
+        rows.push({ point: p.name, r: x, value: f[k] as number, curve: CURVES[0] });
+      }
+      if (typeof g[k] === "number") {
+        rows.push({ point: p.name, r: x, value: g[k] as number, curve: CURVES[1] });
+      }
     });
     const fg = rec(r.detail.fFromG);
     const fr = arr(fg?.r), ff = arr(fg?.f);
     fr.forEach((x, k) => {
       if (typeof x === "number" && typeof ff[k] === "number") {
-        rows.push({ point: p.key, r: x, value: ff[k], curve: "f implied by g (isotropy)" });
+        rows.push({ point: p.name, r: x, value: ff[k] as number, curve: CURVES[2] });
       }
     });
   }
   const caption = "Two-point correlations of the velocity at probe points in the main cluster (probes near " +
-    "vortex cores excluded), normalised by u′²; the dashed curve is the f that g implies for an isotropic " +
-    "incompressible field (g = f + r f′ in 2D). Point-vortex fields have heavy velocity tails, so values " +
-    "above 1 at small r are expected.";
+    "vortex cores excluded), normalised by u′²: f longitudinal (solid), g transverse (dashed), and the f that " +
+    "g implies for an isotropic incompressible field (g = f + r f′ in 2D; dotted). Point-vortex fields have " +
+    "heavy velocity tails, so values above 1 at small r are expected.";
   if (rows.length === 0) return { id, title, caption, spec: null, emptyReason: reason };
-  const lu = ctx.opts.units?.length;
+  const ls = lengthScale(ctx.units, Math.max(...rows.map((r) => r.r)));
+  const shown = rows.map((r) => ({ ...r, r: r.r * ls.factor }));
+  const panels = ctx.view.names.filter((n) => rows.some((r) => r.point === n));
+  const n = panels.length;
+  // Colour and dash both encode the curve under the same title, so Vega-Lite draws one legend with both.
+  const curve = { field: "curve", type: "nominal", title: "curve", scale: { domain: [...CURVES] } };
   const spec = {
     $schema: SCHEMA,
-    data: { values: rows },
-    facet: { field: "point", type: "nominal", title: null, sort: ctx.points.map((p) => p.key) },
-    columns: 3,
+    data: { name: "correlations", values: shown },
+    facet: { field: "point", type: "nominal", title: null, sort: panels },
+    columns: Math.min(3, n),
     spec: {
-      width: Math.max(180, Math.floor((ctx.width - 60) / Math.min(3, ctx.points.length))),
+      width: Math.max(200, Math.floor((ctx.width - 40 * (Math.min(3, n) - 1)) / Math.min(3, n))),
       height: 220,
       mark: { type: "line", strokeWidth: 2, point: { size: 16 } },
       encoding: {
-        x: { field: "r", type: "quantitative", title: lu ? `r [${lu}]` : "r (length)" },
+        x: { field: "r", type: "quantitative", title: axisTitle("r", ls.unit || "length") },
         y: { field: "value", type: "quantitative", title: "correlation" },
-        color: { field: "curve", type: "nominal", title: "curve" },
-        strokeDash: { field: "curve", type: "nominal", legend: null },
+        color: { ...curve, scale: { ...curve.scale, range: ["#1f4e79", "#c0504d", "#6b6b6b"] } },
+        strokeDash: { ...curve, scale: { ...curve.scale, range: [[1, 0], [6, 4], [2, 2]] } },
       },
     },
-    config: CONFIG,
+    config: {
+      ...CONFIG,
+      legend: { ...CONFIG.legend, symbolType: "stroke", symbolStrokeWidth: 2, symbolSize: 400 },
+    },
   } as unknown as TopLevelSpec;
   return { id, title, caption, spec, emptyReason: null };
 }
+
+const CURVES = ["f (longitudinal)", "g (transverse)", "f implied by g (isotropy)"] as const;

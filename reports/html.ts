@@ -19,8 +19,12 @@
  * ```
  */
 import type * as vega from "vega";
+export { escapeHtml, formatInterval, formatNumber } from "./format.ts";
 import type { StudyAggregate } from "./aggregate.ts";
-import type { MeanInterval } from "./intervals.ts";
+import { escapeHtml, formatInterval, formatNumber } from "./format.ts";
+import { dimUnit, type ReportUnits, reportUnits, scalarInfo } from "./quantities.ts";
+import { countTotals } from "./summary.ts";
+import { pointView } from "./specs.ts";
 import type { ChartSpec } from "./specs.ts";
 
 /** A chart with its compiled Vega spec (null when the chart has no data). */
@@ -38,8 +42,13 @@ export interface ReportPageInput {
   readonly dbPath: string;
   /** ISO time the page was generated. */
   readonly generatedAt: string;
-  /** Folder (relative to the page) holding `<chart id>.svg`; links are omitted when absent. */
+  /**
+   * Folder (relative to the page) holding each chart's figure files (`<chart id>.svg`, `.csv` and, when
+   * `figureFormats` lists it, `.png`); links are omitted when absent.
+   */
   readonly svgDirName?: string;
+  /** Figure files written per chart, linked under each chart (default SVG and CSV). */
+  readonly figureFormats?: readonly ("svg" | "png" | "csv")[];
   /**
    * The "Answers" section (ensemble analysis: D/κ with intervals, fit window, sensitivity, …) as HTML blocks
    * and charts in page order; omitted → no such section.
@@ -47,11 +56,21 @@ export interface ReportPageInput {
   readonly analysis?: readonly PagePart[];
   /**
    * Self-contained sections placed after "Results" (already escaped HTML, each a `<section id=…>`), with a nav
-   * link and optional style rules; e.g. the condensate images of field_snapshots_section.ts.
+   * link and optional style rules; e.g. the condensate images of field_snapshots_section.ts or a section of
+   * numerical checks.
    */
   readonly sections?: readonly ExtraSection[];
-  /** The answer in brief (already escaped HTML), shown under the question; omitted → nothing. */
-  readonly headline?: string;
+  /** The answer-first summary (`summary.ts`, escaped HTML); omitted → the question with the counts only. */
+  readonly summary?: string;
+  /** The units section (`quantities.ts` `unitsSection`, escaped HTML); omitted → none. */
+  readonly unitsHtml?: string;
+  /** The study's units, for the unit column of the scalar tables; omitted → read from the study record. */
+  readonly units?: ReportUnits;
+  /**
+   * True when the analysis stores evaporation with bootstrap intervals: the page then shows that number only
+   * (one number, one interval) and leaves the Student-t mean of `evaporated_final` out.
+   */
+  readonly analysisHasEvaporation?: boolean;
   /** Extra provenance lines of the analysis (e.g. where χ₂ came from), as [label, text]. */
   readonly analysisProvenance?: readonly (readonly [string, string])[];
 }
@@ -66,19 +85,6 @@ export interface ExtraSection {
 
 /** A block of the page: HTML that is already escaped, or a chart. */
 export type PagePart = { readonly html: string } | { readonly rendered: RenderedChart };
-
-/** Escapes text for HTML element content and quoted attribute values. */
-export function escapeHtml(text: string): string {
-  return text.replace(/[&<>"']/g, (c) => ESCAPES[c]);
-}
-
-const ESCAPES: Record<string, string> = {
-  "&": "&amp;",
-  "<": "&lt;",
-  ">": "&gt;",
-  '"': "&quot;",
-  "'": "&#39;",
-};
 
 /** JSON that is safe inside `<script type="application/json">` (and parses back to the same value). */
 export function jsonForScript(value: unknown): string {
@@ -104,7 +110,26 @@ export function renderReportHtml(input: ReportPageInput): string {
   const drawn = [...analysisCharts, ...input.charts].filter((c) => c.vega !== null);
   const title = `${s.name} — spindrift report`;
   const specs = drawn.map((c) => ({ id: c.chart.id, spec: c.vega }));
-  const totals = studyTotals(agg);
+  const totals = countTotals(agg);
+  const units = input.units ?? reportUnits(s.units);
+  const results = input.charts.filter((c) => c.chart.section !== "diagnostics");
+  const diagnostics = input.charts.filter((c) => c.chart.section === "diagnostics");
+  const fig = (c: RenderedChart) => figure(c, input.svgDirName, input.figureFormats);
+  const nav: (readonly [string, string])[] = [
+    ["summary", input.summary ? "Summary" : "Question"],
+    ...(input.unitsHtml ? [["units", "Units"] as const] : []),
+    ...(input.analysis ? [["answers", "Answers"] as const] : []),
+    ["results", "Results"],
+    ...(input.sections ?? []).map((x) => [x.id, x.title] as const),
+    ["diagnostics", "Diagnostics"],
+    ["parameters", "Parameters"],
+    [
+      "failures",
+      `Failures${totals.failed + totals.running > 0 ? ` (${totals.failed + totals.running})` : ""}`,
+    ],
+    ["study-file", "Study file"],
+    ["provenance", "Provenance"],
+  ];
   return `<!doctype html>
 <html lang="en">
 <head>
@@ -123,46 +148,42 @@ export function renderReportHtml(input: ReportPageInput): string {
     escapeHtml(s.engineVersion)
   } · created ${escapeHtml(s.createdAt)} · report generated ${escapeHtml(input.generatedAt)}</p>
 </header>
-<nav><a href="#question">Question</a> <a href="#parameters">Parameters</a>${
-    input.analysis ? ' <a href="#answers">Answers</a>' : ""
-  } <a href="#results">Results</a>${
-    (input.sections ?? []).map((x) => ` <a href="#${escapeHtml(x.id)}">${escapeHtml(x.title)}</a>`).join("")
-  } <a href="#failures">Failures${
-    totals.failed + totals.running > 0 ? ` (${totals.failed + totals.running})` : ""
-  }</a> <a href="#study-file">Study file</a> <a href="#provenance">Provenance</a></nav>
+<nav>${nav.map(([id, t]) => `<a href="#${escapeHtml(id)}">${escapeHtml(t)}</a>`).join(" ")}</nav>
 <div id="page-errors" class="errors" hidden></div>
 <main>
-<section id="question">
-<h2>Question</h2>
-<p class="description">${escapeHtml(s.description.trim()) || "<em>(the study gives no description)</em>"}</p>
-${input.headline ?? ""}<div class="tiles">
-${tile(String(agg.points.length), agg.points.length === 1 ? "parameter point" : "parameter points")}
-${tile(`${totals.done}${totals.planned !== null ? ` / ${totals.planned}` : ""}`, "realisations done")}
-${tile(String(totals.failed), "failed", totals.failed > 0 ? "bad" : "")}
-${tile(String(totals.running), "unfinished", totals.running > 0 ? "warn" : "")}
-${totals.missing ? tile(String(totals.missing), "not run yet", "warn") : ""}
-</div>
+${input.summary ?? questionOnly(agg, totals)}${input.unitsHtml ?? ""}${
+    input.analysis ? answersSection(input.analysis, fig) : ""
+  }<section id="results">
+<h2>Results</h2>
+${notesList(s.notes)}
+${results.map(fig).join("\n")}
+<h3>Physical quantities per point</h3>
+<p class="note">Mean over done realisations with the ${
+    pct(agg.level)
+  } Student-t confidence interval [low, high] and the number of realisations n.${
+    input.analysisHasEvaporation
+      ? " The number evaporated is under Answers, with its bootstrap interval (one number, one interval)."
+      : ""
+  }</p>
+${scalarsTable(agg, units, "physics", input.analysisHasEvaporation ? ["evaporated_final"] : [])}
+</section>
+${(input.sections ?? []).map((x) => x.html).join("\n")}<section id="diagnostics">
+<h2>Diagnostics</h2>
+<p class="note">How the solver did, apart from the physics: step counts, rejected steps, resolution losses and
+the drift of conserved quantities, per point (mean, ${pct(agg.level)} Student-t interval, n).</p>
+${diagnostics.map(fig).join("\n")}
+${scalarsTable(agg, units, "diagnostic", [])}
 </section>
 <section id="parameters">
 <h2>Parameters</h2>
 ${settingsTable(agg)}
 <h3>Parameter points</h3>
-${pointsTable(agg)}
+${pointsTable(agg, input.analysisHasEvaporation === true)}
 <h3>Engine parameters</h3>
 <p class="note">Normalized parameters (defaults filled in). Values that differ between points are listed per point above.</p>
 ${paramsTable(agg)}
 </section>
-${input.analysis ? answersSection(input.analysis, input.svgDirName) : ""}<section id="results">
-<h2>Results</h2>
-${notesList(s.notes)}
-${input.charts.map((c) => figure(c, input.svgDirName)).join("\n")}
-<h3>Scalars per point</h3>
-<p class="note">Mean over done realisations with the ${
-    pct(agg.level)
-  } Student-t confidence interval [low, high] and the number of realisations n.</p>
-${scalarsTable(agg)}
-</section>
-${(input.sections ?? []).map((x) => x.html).join("\n")}<section id="failures">
+<section id="failures">
 <h2>Failures</h2>
 ${failuresTable(agg)}
 </section>
@@ -185,30 +206,25 @@ ${provenanceTable(input)}
 `;
 }
 
-interface Totals {
-  planned: number | null;
-  done: number;
-  failed: number;
-  running: number;
-  missing: number;
-}
-
-function studyTotals(agg: StudyAggregate): Totals {
-  let done = 0, failed = 0, running = 0, missing = 0;
-  for (const p of agg.points) {
-    done += p.counts.done;
-    failed += p.counts.failed;
-    running += p.counts.running;
-    missing += p.counts.missing ?? 0;
-  }
-  const planned = agg.overview.realisations === null ? null : agg.overview.realisations * agg.points.length;
-  return { planned, done, failed, running, missing };
-}
-
-function tile(value: string, label: string, cls = ""): string {
-  return `<div class="tile ${cls}"><span class="v">${escapeHtml(value)}</span><span class="l">${
-    escapeHtml(label)
-  }</span></div>`;
+/** The top of a page built without a summary: the question and the counts. */
+function questionOnly(agg: StudyAggregate, totals: ReturnType<typeof countTotals>): string {
+  const s = agg.study;
+  const tile = (value: string, label: string, cls = "") =>
+    `<div class="tile ${cls}"><span class="v">${escapeHtml(value)}</span><span class="l">${
+      escapeHtml(label)
+    }</span></div>`;
+  return `<section id="summary">
+<h2>Question</h2>
+<p class="description">${escapeHtml(s.description.trim()) || "<em>(the study gives no description)</em>"}</p>
+<div class="tiles">
+${tile(String(agg.points.length), agg.points.length === 1 ? "parameter point" : "parameter points")}
+${tile(`${totals.done}${totals.planned !== null ? ` / ${totals.planned}` : ""}`, "realisations done")}
+${tile(String(totals.failed), "failed", totals.failed > 0 ? "bad" : "")}
+${tile(String(totals.running), "unfinished", totals.running > 0 ? "warn" : "")}
+${totals.missing ? tile(String(totals.missing), "not run yet", "warn") : ""}
+</div>
+</section>
+`;
 }
 
 function settingsTable(agg: StudyAggregate): string {
@@ -230,11 +246,13 @@ function settingsTable(agg: StudyAggregate): string {
   }</tbody></table>`;
 }
 
-function pointsTable(agg: StudyAggregate): string {
-  const head =
-    `<tr><th>#</th><th>label</th><th>swept values</th><th class="num">done</th><th class="num">failed</th>` +
-    `<th class="num">unfinished</th><th>evaporated at end</th><th>events (done runs)</th></tr>`;
-  const body = agg.points.map((p) => {
+function pointsTable(agg: StudyAggregate, analysisHasEvaporation: boolean): string {
+  const names = pointView(agg).names;
+  const head = `<tr><th>#</th><th>point</th><th>label</th><th>swept values</th><th class="num">done</th>` +
+    `<th class="num">failed</th><th class="num">unfinished</th>${
+      analysisHasEvaporation ? "" : "<th>evaporated at end</th>"
+    }<th>events (done runs)</th></tr>`;
+  const body = agg.points.map((p, i) => {
     const c = p.counts;
     const done = c.planned === null ? String(c.done) : `${c.done} / ${c.planned}`;
     const varied = Object.entries(p.point.varied).map(([k, v]) => `${k} = ${formatValue(v)}`).join("; ") ||
@@ -247,16 +265,16 @@ function pointsTable(agg: StudyAggregate): string {
     const extra = c.extra > 0
       ? ` <span class="note">(+${c.extra} stored beyond the plan, not used)</span>`
       : "";
-    return `<tr><td>${p.point.index}</td><td>${escapeHtml(p.point.label)}</td><td>${
-      escapeHtml(varied)
+    return `<tr><td>${p.point.index}</td><td>${escapeHtml(names[i])}</td><td>${
+      escapeHtml(p.point.label)
     }</td>` +
-      `<td class="num">${escapeHtml(done)}${extra}</td><td class="num${
-        c.failed ? " bad" : ""
-      }">${c.failed}</td>` +
-      `<td class="num${c.running ? " warn" : ""}">${c.running}</td><td>${escapeHtml(evap)}</td>` +
-      `<td>${escapeHtml(events)}</td></tr>`;
+      `<td>${escapeHtml(varied)}</td><td class="num">${escapeHtml(done)}${extra}</td>` +
+      `<td class="num${c.failed ? " bad" : ""}">${c.failed}</td>` +
+      `<td class="num${c.running ? " warn" : ""}">${c.running}</td>${
+        analysisHasEvaporation ? "" : `<td>${escapeHtml(evap)}</td>`
+      }<td>${escapeHtml(events)}</td></tr>`;
   }).join("");
-  return `<div class="scroll"><table><thead>${head}</thead><tbody>${body}</tbody></table></div>`;
+  return `<table><thead>${head}</thead><tbody>${body}</tbody></table>`;
 }
 
 function paramsTable(agg: StudyAggregate): string {
@@ -273,47 +291,76 @@ function paramsTable(agg: StudyAggregate): string {
   return `<table class="kv"><tbody>${rows.join("")}</tbody></table>`;
 }
 
-function answersSection(parts: readonly PagePart[], svgDirName: string | undefined): string {
-  const body = parts.map((p) => ("rendered" in p ? figure(p.rendered, svgDirName) : p.html)).join("\n");
+function answersSection(parts: readonly PagePart[], fig: (c: RenderedChart) => string): string {
+  const body = parts.map((p) => ("rendered" in p ? fig(p.rendered) : p.html)).join("\n");
   return `<section id="answers">
-<h2>Answers: effective diffusion coefficient ν′/κ</h2>
+<h2>Answers: effective diffusion coefficient ν′ = D/κ, with the evidence</h2>
 ${body}
 </section>
 `;
 }
 
-function figure(c: RenderedChart, svgDirName: string | undefined): string {
+/**
+ * A chart's figure box, or one line saying why there is no chart (sections that do not apply are one line,
+ * not an empty box).
+ */
+function figure(
+  c: RenderedChart,
+  figDirName: string | undefined,
+  formats: readonly string[] = ["svg", "csv"],
+): string {
   const id = c.chart.id;
-  const link = c.vega !== null && svgDirName !== undefined
-    ? ` <a class="svg-link" href="${
-      escapeHtml(`${encodeURIComponent(svgDirName)}/${encodeURIComponent(id)}.svg`)
-    }">SVG</a>`
+  if (c.vega === null) {
+    return `<p class="note not-applicable" id="view-${escapeHtml(id)}"><strong>${
+      escapeHtml(c.chart.title)
+    }:</strong> ${escapeHtml(c.chart.emptyReason ?? "no data.")}</p>`;
+  }
+  const links = figDirName !== undefined
+    ? ` <span class="figure-links">${
+      formats.map((f) =>
+        `<a class="${f}-link" href="${
+          escapeHtml(`${encodeURIComponent(figDirName)}/${encodeURIComponent(id)}.${f}`)
+        }">${f === "csv" ? "data (CSV)" : f.toUpperCase()}</a>`
+      ).join(" · ")
+    }</span>`
     : "";
-  const view = c.vega !== null
-    ? `<div class="view" id="view-${escapeHtml(id)}"></div>`
-    : `<div class="empty" id="view-${escapeHtml(id)}">${escapeHtml(c.chart.emptyReason ?? "No data.")}</div>`;
   return `<figure class="chart" id="chart-${escapeHtml(id)}">
 <h3>${escapeHtml(c.chart.title)}</h3>
-${view}
-<figcaption>${escapeHtml(c.chart.caption)}${link}</figcaption>
+<div class="view" id="view-${escapeHtml(id)}"></div>
+<figcaption>${escapeHtml(c.chart.caption)}${links}</figcaption>
 </figure>`;
 }
 
-function scalarsTable(agg: StudyAggregate): string {
-  const names = [...new Set(agg.points.flatMap((p) => [...p.scalars.keys()]))].sort();
-  if (names.length === 0) return `<p class="note">No scalars recorded by done realisations.</p>`;
-  const head = `<tr><th>scalar</th>${
-    agg.points.map((p) => `<th>${escapeHtml(p.point.label)}</th>`).join("")
+/** Scalars of one kind (physical results or solver diagnostics) per point, with their units. */
+function scalarsTable(
+  agg: StudyAggregate,
+  units: ReportUnits,
+  kind: "physics" | "diagnostic",
+  leaveOut: readonly string[],
+): string {
+  const names = [...new Set(agg.points.flatMap((p) => [...p.scalars.keys()]))].sort()
+    .filter((n) => scalarInfo(n).kind === kind && !leaveOut.includes(n));
+  if (names.length === 0) {
+    return `<p class="note">${
+      kind === "physics" ? "No physical scalars recorded" : "No solver diagnostics recorded"
+    } by done realisations.</p>`;
+  }
+  const head = `<tr><th>${kind === "physics" ? "quantity" : "diagnostic"}</th><th>unit</th>${
+    pointView(agg).names.map((n) => `<th>${escapeHtml(n)}</th>`).join("")
   }</tr>`;
-  const body = names.map((n) =>
-    `<tr><th scope="row">${escapeHtml(n)}</th>${
+  const body = names.map((n) => {
+    const info = scalarInfo(n);
+    return `<tr data-scalar="${escapeHtml(n)}"><th scope="row">${escapeHtml(info.label)}<br><code>${
+      escapeHtml(n)
+    }</code></th><td>${escapeHtml(dimUnit(info.dim, units) || "—")}</td>${
       agg.points.map((p) => {
         const ci = p.scalars.get(n);
         return `<td>${ci ? escapeHtml(formatInterval(ci)) : "—"}</td>`;
       }).join("")
-    }</tr>`
-  ).join("");
-  return `<div class="scroll"><table class="scalars"><thead>${head}</thead><tbody>${body}</tbody></table></div>`;
+    }</tr>`;
+  }).join("");
+  return `<table class="scalars" id="${kind === "physics" ? "physics-table" : "diagnostics-table"}"><thead>` +
+    `${head}</thead><tbody>${body}</tbody></table>`;
 }
 
 function failuresTable(agg: StudyAggregate): string {
@@ -333,7 +380,7 @@ function failuresTable(agg: StudyAggregate): string {
     `<td class="num">${f.wallSeconds === null ? "—" : `${escapeHtml(formatNumber(f.wallSeconds))} s`}</td>` +
     `<td><code>${escapeHtml(f.seed)}</code></td></tr>`
   ).join("");
-  return `<div class="scroll"><table class="failures"><thead>${head}</thead><tbody>${body}</tbody></table></div>`;
+  return `<table class="failures"><thead>${head}</thead><tbody>${body}</tbody></table>`;
 }
 
 function provenanceTable(input: ReportPageInput): string {
@@ -358,23 +405,6 @@ function provenanceTable(input: ReportPageInput): string {
     )
       .join("")
   }</tbody></table>`;
-}
-
-/** "5.00 [3.21, 6.79] (n = 8)", or "7 (n = 1, no interval)". */
-export function formatInterval(ci: MeanInterval): string {
-  if (ci.n === 0) return "— (n = 0)";
-  if (ci.lower === null || ci.upper === null) return `${formatNumber(ci.mean)} (n = ${ci.n}, no interval)`;
-  return `${formatNumber(ci.mean)} [${formatNumber(ci.lower)}, ${formatNumber(ci.upper)}] (n = ${ci.n})`;
-}
-
-/** Four significant digits; exponent form outside [1e-3, 1e5). */
-export function formatNumber(x: number): string {
-  if (Number.isNaN(x)) return "NaN";
-  if (!Number.isFinite(x)) return x > 0 ? "∞" : "−∞";
-  if (x === 0) return "0";
-  const a = Math.abs(x);
-  if (a >= 1e-3 && a < 1e5) return String(Number(x.toPrecision(4)));
-  return x.toExponential(3).replace(/\.?0+e/, "e");
 }
 
 function formatValue(v: unknown): string {
@@ -435,13 +465,30 @@ export const BOOT = `(function () {
       view.runAsync().then(function () {
         rendered += 1;
         body.setAttribute("data-rendered", String(rendered));
-        if (rendered === items.length) body.setAttribute("data-state", "ready");
+        if (rendered === items.length) { checkOverflow(); body.setAttribute("data-state", "ready"); }
       }, function (e) { note("chart " + item.id + ": " + (e && e.message || e)); });
     } catch (e) {
       note("chart " + item.id + ": " + (e && e.message || e));
     }
   });
-  if (items.length === 0) body.setAttribute("data-state", "ready");
+  if (items.length === 0) { checkOverflow(); body.setAttribute("data-state", "ready"); }
+  // Self-check for automated tests: elements wider than the window, or whose content overflows them.
+  function checkOverflow() {
+    var width = document.documentElement.clientWidth, bad = [];
+    document.querySelectorAll("main *, header *, nav *").forEach(function (el) {
+      if (el.closest("details:not([open])") || el.closest("svg")) return;
+      var r = el.getBoundingClientRect();
+      if (r.width === 0 && r.height === 0) return;
+      var col = el.parentElement.closest("main, header, nav").getBoundingClientRect();
+      var wide = r.right > Math.min(width, col.right) + 1 || r.left < -1;
+      var cut = el.scrollWidth > el.clientWidth + 1 && getComputedStyle(el).overflowX !== "visible";
+      var where = el.id ? "#" + el.id : el.tagName.toLowerCase() + "@" + ((el.closest("[id]") || {}).id || "?");
+      if (wide || cut) bad.push(where + (wide ? ">page" : ">cut"));
+    });
+    if (document.documentElement.scrollWidth > width + 1) bad.push("page>window");
+    body.setAttribute("data-overflow", String(bad.length));
+    body.setAttribute("data-overflow-list", bad.slice(0, 20).join(" "));
+  }
 })();`;
 
 /** The page style sheet (shared with the compare page). */
@@ -451,20 +498,41 @@ export const STYLE = `
 * { box-sizing: border-box; }
 body { margin: 0; color: var(--fg); background: var(--bg);
   font: 15px/1.5 system-ui, -apple-system, "Segoe UI", Roboto, "Helvetica Neue", Arial, sans-serif; }
-header, nav, main, footer, .errors { max-width: 1000px; margin: 0 auto; padding: 0 24px; }
+header, nav, main, footer, .errors { max-width: 1080px; margin: 0 auto; padding: 0 24px; }
 header { padding-top: 28px; }
 .kicker { margin: 0; color: var(--accent); font-weight: 600; letter-spacing: .04em; text-transform: uppercase; font-size: 12px; }
 h1 { margin: 4px 0 4px; font-size: 30px; line-height: 1.2; overflow-wrap: anywhere; }
 h2 { margin: 36px 0 12px; font-size: 21px; border-bottom: 1px solid var(--line); padding-bottom: 6px; }
 h3 { margin: 24px 0 8px; font-size: 16px; }
 .meta, .note, figcaption, footer { color: var(--muted); font-size: 13px; }
+p, li, dd { overflow-wrap: anywhere; }
 nav { position: sticky; top: 0; background: rgba(255,255,255,.95); border-bottom: 1px solid var(--line);
-  padding-top: 8px; padding-bottom: 8px; z-index: 2; }
-nav a { margin-right: 16px; color: var(--accent); text-decoration: none; font-size: 14px; }
+  padding-top: 8px; padding-bottom: 8px; z-index: 2; display: flex; flex-wrap: wrap; gap: 4px 16px; }
+nav a { color: var(--accent); text-decoration: none; font-size: 14px; }
 nav a:hover { text-decoration: underline; }
 .description { white-space: pre-wrap; font-size: 16px; background: var(--soft); border-left: 4px solid var(--accent);
   padding: 12px 16px; margin: 0; overflow-wrap: anywhere; }
-.answer-box { border: 1px solid #c9d6e8; background: #f7faff; padding: 8px 16px; margin: 12px 0; }
+.question-label { margin: 16px 0 4px; color: var(--muted); font-size: 12px; font-weight: 600; letter-spacing: .04em;
+  text-transform: uppercase; }
+.answer-box { border: 1px solid #c9d6e8; background: #f7faff; padding: 4px 16px 14px; margin: 14px 0; border-radius: 8px; }
+.answer-box .verdict { font-size: 17px; font-weight: 600; margin: 4px 0 8px; }
+.cards { display: grid; grid-template-columns: repeat(auto-fit, minmax(240px, 1fr)); gap: 12px; margin-top: 10px; }
+.card { background: #fff; border: 1px solid var(--line); border-top: 5px solid var(--accent); border-radius: 8px;
+  padding: 10px 14px; min-width: 0; }
+.card .name { font-weight: 600; font-size: 15px; overflow-wrap: anywhere; }
+.card .big { font-size: 26px; font-weight: 650; line-height: 1.25; margin: 6px 0 2px; overflow-wrap: anywhere;
+  font-variant-numeric: tabular-nums; }
+.card .big .sym { font-size: 15px; font-weight: 500; color: var(--muted); }
+.card .big .ci { font-size: 17px; font-weight: 500; color: var(--muted); }
+.card .big.none { font-size: 20px; color: var(--warn); }
+.card .si { font-size: 14px; font-variant-numeric: tabular-nums; overflow-wrap: anywhere; }
+.card .lvl, .card .n { display: block; color: var(--muted); font-size: 12px; }
+.card .why { margin: 4px 0; font-size: 13px; color: var(--fg); }
+.caveats { border-left: 4px solid var(--warn); background: #fffaf0; padding: 2px 16px 6px; margin: 12px 0; }
+.caveats ul { margin: 4px 0; padding-left: 20px; }
+.caveats li { margin: 4px 0; }
+.unfinished { border: 2px solid var(--warn); background: #fff4d6; padding: 10px 16px; border-radius: 8px; margin: 12px 0; }
+ul.units { margin: 4px 0; padding-left: 20px; }
 .tiles { display: flex; flex-wrap: wrap; gap: 12px; margin-top: 16px; }
 .tile { border: 1px solid var(--line); border-radius: 8px; padding: 10px 16px; min-width: 130px; }
 .tile .v { display: block; font-size: 24px; font-weight: 650; }
@@ -472,22 +540,27 @@ nav a:hover { text-decoration: underline; }
 .tile.bad .v, td.bad { color: var(--bad); }
 .tile.warn .v, td.warn { color: var(--warn); }
 table { border-collapse: collapse; font-size: 14px; width: 100%; }
-th, td { text-align: left; vertical-align: top; padding: 5px 10px; border-bottom: 1px solid var(--line); overflow-wrap: break-word; }
-thead th { background: var(--soft); font-weight: 600; white-space: nowrap; }
+th, td { text-align: left; vertical-align: top; padding: 5px 8px; border-bottom: 1px solid var(--line);
+  overflow-wrap: break-word; }
+thead th { background: var(--soft); font-weight: 600; hyphens: auto; }
+td.num { white-space: nowrap; }
 table.kv th { width: 34%; font-weight: 500; color: var(--muted); }
 td.num, th.num { text-align: right; font-variant-numeric: tabular-nums; }
 tr.bad td:first-child { box-shadow: inset 3px 0 var(--bad); }
 tr.warn td:first-child { box-shadow: inset 3px 0 var(--warn); }
-td.msg { font-family: ui-monospace, SFMono-Regular, Menlo, Consolas, monospace; font-size: 13px; }
-.scroll { overflow-x: auto; }
+td.msg { font-family: ui-monospace, SFMono-Regular, Menlo, Consolas, monospace; font-size: 13px;
+  overflow-wrap: anywhere; }
 figure.chart { margin: 0 0 28px; padding: 12px 16px 14px; border: 1px solid var(--line); border-radius: 8px; }
 figure.chart h3 { margin-top: 4px; }
-.view { overflow-x: auto; min-height: 60px; }
-.empty { padding: 24px; background: var(--soft); color: var(--muted); border-radius: 6px; }
+.view { min-height: 60px; }
+.view svg { max-width: 100%; height: auto; }
+.not-applicable { background: var(--soft); padding: 8px 12px; border-radius: 6px; }
 figcaption { margin-top: 8px; }
-.svg-link { margin-left: 6px; color: var(--accent); }
+.figure-links { margin-left: 6px; white-space: nowrap; }
+.figure-links a { color: var(--accent); }
+details > summary { cursor: pointer; color: var(--accent); }
 pre.study-text { background: var(--soft); border: 1px solid var(--line); border-radius: 6px; padding: 12px 14px;
-  overflow-x: auto; font-size: 13px; line-height: 1.45; }
+  white-space: pre-wrap; overflow-wrap: anywhere; font-size: 13px; line-height: 1.45; }
 code { font-family: ui-monospace, SFMono-Regular, Menlo, Consolas, monospace; font-size: 13px; overflow-wrap: anywhere; }
 .ok { color: #1a7f37; }
 .errors { margin-top: 12px; }
@@ -495,7 +568,15 @@ code { font-family: ui-monospace, SFMono-Regular, Menlo, Consolas, monospace; fo
 footer { padding-top: 24px; padding-bottom: 32px; }
 table.analysis td span[data-role="lower"], table.analysis td span[data-role="upper"] { color: var(--muted); }
 td.status .warn { color: var(--warn); font-weight: 600; }
+.dk { font-size: 13px; }
 .errors-inline { background: #fff8e1; border: 1px solid #f0d48a; padding: 8px 12px; border-radius: 6px; }
+@media (max-width: 760px) {
+  header, nav, main, footer, .errors { padding: 0 10px; }
+  th, td { overflow-wrap: anywhere; padding: 4px 4px; }
+  td.num { white-space: normal; }
+  table { font-size: 12px; }
+  figure.chart { padding: 8px; }
+}
 @media print { nav { display: none; } figure.chart { break-inside: avoid; } }
 `;
 

@@ -74,10 +74,13 @@ Deno.test("renderReportHtml: hostile study text, labels and errors are escaped, 
   assert.match(html, new RegExp(`<title>film-patch${escapedScript} — spindrift report</title>`));
   assert.match(html, new RegExp(`<h1>film-patch${escapedScript}</h1>`));
   assert.ok(html.includes("&lt;/pre&gt;&lt;/script&gt;&lt;!--"), "description closing tags escaped");
-  assert.ok(html.includes("initial.count=64 &lt;/script&gt;&lt;b&gt;bold&lt;/b&gt;"), "point label escaped");
+  assert.ok(
+    html.includes("<td>initial.count=64 &lt;/script&gt;&lt;b&gt;bold&lt;/b&gt;</td>"),
+    "point label escaped",
+  );
   assert.ok(html.includes(`NaN at t=3.5 ${escapedScript}`), "failure message escaped");
-  // Chart data keeps the raw label, but as JSON with \u003c escapes.
-  assert.ok(html.includes("initial.count=64 \\u003c/script\\u003e\\u003cb\\u003ebold"));
+  // Chart data carries point names and the failure text only as JSON with \u003c escapes.
+  assert.ok(!/<\/script><b>/.test(html.slice(html.indexOf('id="spindrift-specs"'))), "chart JSON escaped");
 });
 
 Deno.test("renderReportHtml: the page has every chart, the parameters, failures, study text and provenance", () => {
@@ -122,8 +125,10 @@ Deno.test("renderReportHtml: the page has every chart, the parameters, failures,
 Deno.test("renderReportHtml: a chart without data shows its reason and is not counted as a view", () => {
   const html = page(aggregateOf(tinyStudy()));
   assert.match(html, /data-charts="3"/);
+  // One line instead of an empty box: the chart's title and why there is nothing to draw.
   assert.ok(html.includes(
-    `<div class="empty" id="view-cluster-rms-radius">No done realisation recorded the series &#39;cluster_rms_radius&#39;.</div>`,
+    `<p class="note not-applicable" id="view-cluster-rms-radius"><strong>RMS radius of the main cluster:</strong> ` +
+      `No done realisation recorded the series &#39;cluster_rms_radius&#39;.</p>`,
   ));
   assert.ok(!html.includes(`href="film-report-svg/cluster-rms-radius.svg"`));
 });

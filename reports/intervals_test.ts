@@ -4,7 +4,7 @@ import { intervalFromMoments, meanInterval, NO_INTERVAL_N0, NO_INTERVAL_N1, Welf
 import { assertClose } from "./_testing.ts";
 
 // Student-t two-sided 95 % quantiles t_{0.975,ν}: Abramowitz & Stegun (1964) Table 26.10; NIST/SEMATECH
-// e-Handbook §1.3.6.7.2 (as tabulated in check-values.md §6.3, 4 decimals).
+// e-Handbook §1.3.6.7.2 (as tabulated in docs/check-values.md §6.3, 4 decimals).
 const T_975: readonly [number, number][] = [
   [1, 12.7062],
   [2, 4.3027],
@@ -62,7 +62,7 @@ Deno.test("meanInterval on [2,4,4,4,5,5,7,9] equals the hand computation", () =>
 });
 
 Deno.test("meanInterval on [1,2,3] at 95 % and 90 % equals the hand computation", () => {
-  // By hand: mean 2, s = 1, s/√3; t_{0.975,2} = 4.3027 (A&S Table 26.10 / NIST §1.3.6.7.2, check-values §6.3);
+  // By hand: mean 2, s = 1, s/√3; t_{0.975,2} = 4.3027 (A&S Table 26.10 / NIST §1.3.6.7.2, docs/check-values.md §6.3);
   // t_{0.95,2} = 2.920 (same tables; this one value quoted from memory). Relative tolerance 1e-4.
   const ci95 = meanInterval([1, 2, 3]);
   assertClose(ci95.upper!, 2 + 4.3027 / Math.sqrt(3), 1e-4, "upper 95 %");

@@ -13,26 +13,24 @@ async function withDir<T>(fn: (dir: string) => Promise<T>): Promise<T> {
   }
 }
 
-Deno.test("writeReport writes the page beside the database and one valid SVG per chart", async () => {
+Deno.test("writeReport writes the page beside the database and one valid SVG and CSV per chart", async () => {
   await withDir(async (dir) => {
     writeFixtureDb(`${dir}/film.sqlite`, syntheticStudy());
-    const { html, svgDir } = await writeReport(`${dir}/film.sqlite`, {
+    const { html, figuresDir: svgDir } = await writeReport(`${dir}/film.sqlite`, {
       units: { length: "ℓ", time: "ℓ²/κ" },
     });
     assert.equal(html, `${dir}/film-patch-report.html`);
-    assert.equal(svgDir, `${dir}/film-patch-report-svg`);
+    assert.equal(svgDir, `${dir}/film-patch-report-figures`);
     const page = await Deno.readTextFile(html);
     assert.match(page, /^<!doctype html>/);
     // The real Vega runtime is inlined (about 0.5 MB), so the page works offline.
     assert.ok(page.length > 400_000, `page is ${page.length} characters`);
-    assert.ok(page.includes('href="film-patch-report-svg/msd.svg"'));
-    const files = [...Deno.readDirSync(svgDir)].map((e) => e.name).sort();
-    assert.deepEqual(files, [
-      "cluster-rms-radius.svg",
-      "evaporated-count.svg",
-      "invariant-drift.svg",
-      "msd.svg",
-    ]);
+    assert.ok(page.includes('href="film-patch-report-figures/msd.svg"'));
+    assert.ok(page.includes('href="film-patch-report-figures/msd.csv"'));
+    const all = [...Deno.readDirSync(svgDir)].map((e) => e.name).sort();
+    const ids = ["cluster-rms-radius", "evaporated-count", "invariant-drift", "msd"];
+    assert.deepEqual(all, ids.flatMap((id) => [`${id}.csv`, `${id}.svg`]));
+    const files = all.filter((f) => f.endsWith(".svg"));
     for (const f of files) {
       const svg = await Deno.readTextFile(`${svgDir}/${f}`);
       // Well-formed XML with an <svg> root in the SVG namespace (W3C SVG 1.1 §5.1, XML 1.0 §2.1).
@@ -42,7 +40,11 @@ Deno.test("writeReport writes the page beside the database and one valid SVG per
     }
     const msd = await Deno.readTextFile(`${svgDir}/msd.svg`);
     assert.ok(msd.includes("time t [ℓ²/κ]"), "axis title in the SVG");
-    assert.ok(msd.includes("initial.count=64"), "legend label in the SVG");
+    assert.ok(msd.includes("initial count = 64"), "legend label (the point's readable name) in the SVG");
+    assert.ok(
+      msd.includes("Mean-square displacement of main-cluster objects"),
+      "title drawn into the figure",
+    );
   });
 });
 
@@ -57,25 +59,30 @@ Deno.test("writeReport is deterministic: same database and time stamp give the s
       out: `${dir}/b.html`,
       generatedAt: "2026-02-01T00:00:00Z",
     });
-    const a = (await Deno.readTextFile(first.html)).replaceAll("a-svg", "X");
-    const b = (await Deno.readTextFile(second.html)).replaceAll("b-svg", "X");
+    const a = (await Deno.readTextFile(first.html)).replaceAll("a-figures", "X");
+    const b = (await Deno.readTextFile(second.html)).replaceAll("b-figures", "X");
     assert.ok(a === b, "pages differ");
-    assert.equal(
-      await Deno.readTextFile(`${dir}/a-svg/msd.svg`),
-      await Deno.readTextFile(`${dir}/b-svg/msd.svg`),
-    );
+    for (const f of ["msd.svg", "msd.csv"]) {
+      assert.equal(
+        await Deno.readTextFile(`${dir}/a-figures/${f}`),
+        await Deno.readTextFile(`${dir}/b-figures/${f}`),
+      );
+    }
   });
 });
 
 Deno.test("writeReport: an explicit study id names the page, a chart without data leaves no stale SVG", async () => {
   await withDir(async (dir) => {
     writeFixtureDb(`${dir}/t.sqlite`, tinyStudy());
-    await Deno.mkdir(`${dir}/tiny-r1-report-svg`);
-    await Deno.writeTextFile(`${dir}/tiny-r1-report-svg/cluster-rms-radius.svg`, "<svg/>");
-    const { html, svgDir } = await writeReport(`${dir}/t.sqlite`, { studyId: 1 });
+    await Deno.mkdir(`${dir}/tiny-r1-report-figures`);
+    await Deno.writeTextFile(`${dir}/tiny-r1-report-figures/cluster-rms-radius.svg`, "<svg/>");
+    await Deno.writeTextFile(`${dir}/tiny-r1-report-figures/cluster-rms-radius.csv`, "t\n");
+    const { html, figuresDir } = await writeReport(`${dir}/t.sqlite`, { studyId: 1 });
     assert.equal(html, `${dir}/tiny-r1-report.html`);
-    const files = [...Deno.readDirSync(svgDir)].map((e) => e.name).sort();
+    const files = [...Deno.readDirSync(figuresDir)].map((e) => e.name).filter((f) => f.endsWith(".svg"))
+      .sort();
     assert.deepEqual(files, ["evaporated-count.svg", "invariant-drift.svg", "msd.svg"]);
+    assert.ok(![...Deno.readDirSync(figuresDir)].some((e) => e.name.startsWith("cluster-rms-radius")));
     await assert.rejects(
       () => writeReport(`${dir}/t.sqlite`, { studyId: 9 }),
       /no study with id 9; the database has ids 1/,
@@ -128,10 +135,10 @@ Deno.test("writeReport: a study whose realisations all failed still gets a page 
         realisations: s.points[0].realisations.filter((r) => r.status === "failed"),
       }],
     });
-    const { html, svgDir } = await writeReport(`${dir}/t.sqlite`);
+    const { html, figuresDir } = await writeReport(`${dir}/t.sqlite`);
     const page = await Deno.readTextFile(html);
     assert.match(page, /data-charts="0"/);
     assert.ok(page.includes("vortex 3 left the domain"));
-    assert.deepEqual([...Deno.readDirSync(svgDir)], []);
+    assert.deepEqual([...Deno.readDirSync(figuresDir)], []);
   });
 });

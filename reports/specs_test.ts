@@ -1,7 +1,7 @@
 import assert from "node:assert/strict";
 import { aggregateOf, type FixtureStudy, syntheticStudy, tinyStudy } from "./_fixture.ts";
 import { compileChart } from "./render.ts";
-import { buildCharts, type ChartSpec } from "./specs.ts";
+import { buildCharts, type ChartSpec, pointView } from "./specs.ts";
 
 // deno-lint-ignore no-explicit-any
 type Json = any;
@@ -36,15 +36,19 @@ Deno.test("buildCharts: MSD rows equal the aggregate means, t = 0 is dropped on 
   assert.equal(rows.length, 2 * 40);
   assert.match(msd.caption, /dropped: 2 mean values \(e\.g\. at t = 0\)/);
   const band = agg.points[1].series.get("msd")!;
-  const row = rows.find((r: Json) => r.point === agg.points[1].point.label && r.t === band.t[10]);
+  const row = rows.find((r: Json) => r.point === "initial count = 64" && r.t === band.t[10]);
   assert.equal(row.mean, band.mean[10]);
   assert.equal(row.lower, band.lower[10]);
   assert.equal(row.upper, band.upper[10]);
   assert.equal(row.n, 3);
-  // Every point appears in the colour domain, in point order, and all charts share it.
-  const domains = buildCharts(agg).map((c) => JSON.stringify((c.spec as Json).encoding.color.scale.domain));
-  assert.equal(new Set(domains).size, 1);
-  assert.deepEqual(JSON.parse(domains[0]), agg.points.map((p) => p.point.label));
+  // Every point appears in the colour domain by its readable name, in point order, with its fixed colour, and
+  // all charts share it.
+  const scales = buildCharts(agg).map((c) => JSON.stringify((c.spec as Json).encoding.color.scale));
+  assert.equal(new Set(scales).size, 1);
+  assert.deepEqual(JSON.parse(scales[0]), {
+    domain: ["initial count = 32", "initial count = 64"],
+    range: ["#4c78a8", "#f58518"],
+  });
 });
 
 Deno.test("buildCharts: a band whose lower end is ≤ 0 is cut on the log axis, n = 1 has no band", () => {
@@ -52,7 +56,7 @@ Deno.test("buildCharts: a band whose lower end is ≤ 0 is cut on the log axis, 
   const msd = charts[0];
   const rows = rowsOf(msd);
   // Point a: k = 1 (1,2,3) and k = 2 (4,5,9) have lower ends 2 − 2.48 and 6 − 6.57, both < 0 → band cut.
-  const a = rows.filter((r: Json) => r.point === "a");
+  const a = rows.filter((r: Json) => r.point === "n = 1");
   assert.deepEqual(a.map((r: Json) => [r.t, r.mean, r.lower, r.upper]), [[0.5, 2, null, null], [
     1,
     6,
@@ -60,7 +64,7 @@ Deno.test("buildCharts: a band whose lower end is ≤ 0 is cut on the log axis, 
     null,
   ]]);
   // Point b: one realisation → mean only; frame 2 has no value at all → no row.
-  const b = rows.filter((r: Json) => r.point === "b");
+  const b = rows.filter((r: Json) => r.point === "n = 2");
   assert.deepEqual(b.map((r: Json) => [r.t, r.mean, r.lower]), [[0.5, 7, null]]);
   assert.match(msd.caption, /2 mean values \(e\.g\. at t = 0\) and the band at 2 times/);
   assert.match(msd.caption, /1 point has one done realisation/);
@@ -89,7 +93,7 @@ Deno.test("buildCharts: drift strip plot uses |drift|, drops exact zeros and say
 Deno.test("buildCharts thins long series evenly and keeps the last frame", () => {
   const agg = aggregateOf(syntheticStudy({ frames: 1201 }));
   const [msd, rms] = buildCharts(agg, { maxPointsPerSeries: 100 });
-  const label = agg.points[0].point.label;
+  const label = pointView(agg).names[0];
   const logRows = rowsOf(msd).filter((r: Json) => r.point === label);
   const linRows = rowsOf(rms).filter((r: Json) => r.point === label);
   // At most max (+ the last frame); fewer when early frames are farther apart in ln t than the target step.
@@ -108,9 +112,20 @@ Deno.test("buildCharts thins long series evenly and keeps the last frame", () =>
   assert.match(msd.caption, /thinned to at most 100 frames/);
 });
 
-Deno.test("buildCharts prefixes duplicate point labels so colours stay distinct", () => {
+Deno.test("buildCharts numbers points with the same name so colours stay distinct", () => {
   const s = syntheticStudy();
-  const dup: FixtureStudy = { ...s, points: s.points.map((p) => ({ ...p, label: "same" })) };
+  const dup: FixtureStudy = { ...s, points: s.points.map((p) => ({ ...p, label: "same", varied: {} })) };
   const [msd] = buildCharts(aggregateOf(dup));
-  assert.deepEqual((msd.spec as Json).encoding.color.scale.domain, ["P0: same", "P1: same"]);
+  assert.deepEqual((msd.spec as Json).encoding.color.scale.domain, ["same (#0)", "same (#1)"]);
+});
+
+Deno.test("buildCharts: the count band stops at zero; physical units get SI prefixes on the axes", () => {
+  const agg = aggregateOf(syntheticStudy());
+  const evap = buildCharts(agg).find((c) => c.id === "evaporated-count")!;
+  assert.ok(rowsOf(evap).every((r: Json) => r.lower === null || r.lower >= 0), "no negative count");
+  assert.match(evap.caption, /cut at zero/);
+  const [msd, rms] = buildCharts(agg, { units: { length: "m", time: "s" }, kappa: 9.9693e-8 });
+  // The fixture's times run to 20 (s here) and radii of order 1 (m): no prefix needed, titles carry the unit.
+  assert.equal((rms.spec as Json).encoding.x.title, "time t [s]");
+  assert.match((msd.spec as Json).layer[1].encoding.y.title, /\[m²\]$/);
 });

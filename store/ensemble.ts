@@ -152,6 +152,28 @@ export function replaceEnsembleResults(
 }
 
 /**
+ * Rows as `readEnsembleResults` would return them after `replaceEnsembleResults` stored them (non-finite
+ * numbers become null, the detail goes through JSON), without writing anything: for a provisional analysis.
+ */
+export function asStoredResults(
+  studyId: number,
+  rows: readonly EnsembleResultInput[],
+  computedAt: string,
+): EnsembleResult[] {
+  return rows.map((r) => ({
+    studyId,
+    pointHash: r.pointHash,
+    analysis: r.analysis,
+    name: r.name,
+    value: real(r.value),
+    lower: real(r.lower),
+    upper: real(r.upper),
+    detail: JSON.parse(JSON.stringify(r.detail ?? {})),
+    computedAt,
+  }));
+}
+
+/**
  * The stored ensemble results of a study revision, optionally limited to one analysis or one point, ordered
  * by point (sweep order), analysis and name.
  *

@@ -71,7 +71,10 @@ export interface StudyRecord {
   readonly lastRunAt: string | null;
   /** Notes recorded by the runner, e.g. observables skipped because the engine cannot provide their needs. */
   readonly notes: readonly { readonly kind: string; readonly id: string; readonly reason: string }[];
-  /** The engine's units ({ length, time, circulation }), empty when unknown. */
+  /**
+   * The engine's units ({ length, time, circulation }, and `kappa`, κ in those units as a decimal string, when
+   * recorded: see `recordedKappa` in engines/units.ts), empty when unknown.
+   */
   readonly units: Readonly<Record<string, string>>;
 }
 

@@ -151,6 +151,24 @@ export function inputChanges(store: StudyStore, study: NormalizedStudy): InputCh
 }
 
 /**
+ * The units stored with a study revision: the engine's labels (length, time, circulation) for the first point,
+ * plus `kappa`, κ in those units as a decimal string, when the engine states it (backward compatible: older
+ * databases have no `kappa`, and readers treat κ as unknown there unless the time unit is length²/κ).
+ */
+function recordedUnits(
+  engine: ReturnType<typeof findEngine>,
+  study: NormalizedStudy,
+): Record<string, string> | undefined {
+  const scales = study.points.length > 0 ? engine?.scales?.(study.points[0].params as never) : undefined;
+  const labels = scales?.units ?? engine?.capabilities.units;
+  if (labels === undefined) return undefined;
+  const kappa = scales?.circulation;
+  return kappa !== undefined && Number.isFinite(kappa) && kappa > 0
+    ? { ...labels, kappa: String(kappa) }
+    : { ...labels };
+}
+
+/**
  * Records the study and its points in the store; returns the study id.
  * @throws StoreError ("other-study") when the database belongs to another study and `opts.allowOtherStudy` is
  * not set; nothing is written then.
@@ -179,9 +197,7 @@ export function recordStudy(
       denoVersion: provenance.denoVersion,
       gitCommit: provenance.gitCommit,
       notes: skipped.map((s) => ({ kind: "observable-skipped", id: s.id, reason: s.reason })),
-      units:
-        (study.points.length > 0 ? engine?.scales?.(study.points[0].params as never)?.units : undefined) ??
-          engine?.capabilities.units,
+      units: recordedUnits(engine, study),
     },
     study.points.map((p) => ({
       pointIndex: p.index,

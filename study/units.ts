@@ -12,7 +12,7 @@
  * ```
  */
 import { findEngine } from "../engines/registry.ts";
-import { diffusionUnit, KAPPA_HELIUM4_SI, metresIn, timeInKappaUnits } from "../engines/units.ts";
+import { diffusionUnit, timeInKappaUnits, unitSentences } from "../engines/units.ts";
 import type { NormalizedStudy } from "./normalize.ts";
 
 /** A study's units and how to read them. */
@@ -30,13 +30,6 @@ export interface UnitsDescription {
   readonly lines: readonly string[];
 }
 
-function fmt(x: number): string {
-  const a = Math.abs(x);
-  return a !== 0 && (a < 1e-3 || a >= 1e5)
-    ? x.toExponential(3).replace(/\.?0+e/, "e").replace("e+", "e")
-    : String(Number(x.toPrecision(4)));
-}
-
 /** The units of the study's first parameter point, as its engine declares them. */
 export function describeUnits(study: NormalizedStudy): UnitsDescription {
   const engine = findEngine(study.engine.id);
@@ -45,31 +38,7 @@ export function describeUnits(study: NormalizedStudy): UnitsDescription {
   const kappaUnits = timeInKappaUnits(u.time);
   const d = diffusionUnit(u);
   const kappa = scales?.circulation;
-  const lines: string[] = [];
-  if (kappaUnits) {
-    lines.push(
-      `units: lengths in ${u.length}, times in ${u.time}, circulation in κ (κ = 1): D comes out as D/κ`,
-    );
-    const metres = metresIn(u.length);
-    if (metres !== undefined) {
-      lines.push(
-        `note: ${u.time} is not a second: for ⁴He (κ = ${KAPPA_HELIUM4_SI} m²/s) one ${u.time} is ` +
-          `${fmt(metres * metres / KAPPA_HELIUM4_SI)} s; D in m²/s = D/κ × κ`,
-      );
-    } else {
-      lines.push(
-        `to convert: t in s = t × ℓ²/κ and D in m²/s = D/κ × κ, with ${
-          u.length === "ℓ" ? "ℓ" : `ℓ = one ${u.length}`
-        } in metres ` +
-          `(κ = ${KAPPA_HELIUM4_SI} m²/s for ⁴He)`,
-      );
-    }
-  } else {
-    const k = kappa !== undefined && kappa !== 1 ? `, κ = ${kappa} ${u.circulation}` : "";
-    lines.push(
-      `units: lengths in ${u.length}, times in ${u.time}${k}: D comes out in ${d.unit} (D/κ = D divided by κ)`,
-    );
-  }
+  const lines = unitSentences(u, kappa);
   return {
     length: u.length,
     time: u.time,

@@ -129,3 +129,14 @@ async function runChromium(
     await Deno.remove(profile, { recursive: true }).catch(() => {});
   }
 }
+
+/** The legend labels drawn in a view's SVG (Vega's legend groups carry role-legend-label text). */
+export function legendLabels(dom: string, id: string): string[] {
+  const start = dom.indexOf(`id="view-${id}"`);
+  const inner = dom.slice(start, dom.indexOf("</figure>", start));
+  const out: string[] = [];
+  for (const g of inner.matchAll(/role-legend-label"[^]*?<\/g><\/g>/g)) {
+    for (const t of g[0].matchAll(/<text[^>]*>([^<]*)<\/text>/g)) out.push(t[1]);
+  }
+  return out;
+}

@@ -148,17 +148,28 @@ Deno.test("report: the Answers section shows exactly the numbers stored in ensem
       assertEquals(m[2], formatNumber(v!), `${field} ${role}: shown text`);
     }
   }
-  // The answer in brief sits at the top of the page, under the question.
-  const head = /<div class="answer-box" id="answer-headline">[^]*?<\/div>/.exec(page)?.[0] ?? "";
+  // The answer first: the summary at the top of the page shows D/κ big with its interval, the stored numbers.
+  const head = /<section id="summary">[^]*?<\/section>/.exec(page)?.[0] ?? "";
   const answer = find(rows, "diffusion", "D");
-  assert(head.includes(`D/κ = ${formatNumber(answer.value!)} [${formatNumber(answer.lower!)}`), head);
+  assert(head.includes("ν′ = D/κ ="), head);
+  for (
+    const [role, v] of [["value", answer.value!], ["lower", answer.lower!], ["upper", answer.upper!]] as const
+  ) {
+    assert(head.includes(`data-role="${role}" data-value="${v}">${formatNumber(v)}<`), `summary ${role}`);
+  }
+  assert(page.indexOf('id="summary"') < page.indexOf('id="answers"'), "summary before the evidence");
   assert(
     page.indexOf('id="answer-headline"') < page.indexOf('id="parameters"'),
-    "headline before the parameters",
+    "answer before the parameters",
   );
-  for (const name of ["tau_c", "window_start", "window_end", "support", "loss_in_window"]) {
+  for (const name of ["tau_c", "window_start", "window_end"]) {
     const v = find(rows, "diffusion", name).value!;
     assert(table.includes(`data-value="${v}">${formatNumber(v)}<`), `${name} = ${v} shown`);
+  }
+  // Support and loss are fractions, shown in %.
+  for (const name of ["support", "loss_in_window"]) {
+    const v = find(rows, "diffusion", name).value!;
+    assert(table.includes(`data-value="${v}">${formatNumber(100 * v)} %<`), `${name} = ${v} shown in %`);
   }
   // Evaporation and losses: the table shows the stored values.
   const evTable = /<table class="analysis" id="evaporation-table">[^]*?<\/table>/.exec(page)?.[0] ?? "";
@@ -188,7 +199,7 @@ Deno.test("report: the Answers section shows exactly the numbers stored in ensem
   }
   for (const id of ["d-vs-parameter", "msd-fit", "local-slope", "lag-d", "vinen-fit"]) {
     assert(page.includes(`id="view-${id}" class`) || page.includes(`<div class="view" id="view-${id}">`), id);
-    const svg = await Deno.readTextFile(`${dir}/walkers-report-svg/${id}.svg`);
+    const svg = await Deno.readTextFile(`${dir}/walkers-report-figures/${id}.svg`);
     assert(svg.startsWith("<svg"), `${id}.svg exported`);
   }
 });

@@ -6,7 +6,7 @@
  */
 import { assert, assertEquals } from "./_assert.ts";
 import { ballisticDb, walkersDb } from "./_analysis_fixture.ts";
-import { dumpDom, findChromium } from "./_chromium.ts";
+import { dumpDom, findChromium, legendLabels } from "./_chromium.ts";
 import { analyseStudy } from "../analysis/mod.ts";
 import { writeComparePage } from "../reports/compare.ts";
 import { writeReport } from "../reports/mod.ts";
@@ -73,6 +73,24 @@ Deno.test({
         "vinen-fit",
       ]);
 
+      // The analysis page fits the window, wide and narrow, and its charts explain their lines in legends.
+      for (const width of [1400, 420]) {
+        const { dom } = await dumpDom(html, { chromium: chromium!, virtualTimeBudgetMs: 5000, width });
+        assertEquals(
+          bodyAttr(dom, "data-overflow"),
+          "0",
+          `${width} px: ${bodyAttr(dom, "data-overflow-list")}`,
+        );
+      }
+      const msdLegend = legendLabels(report.dom, "msd-fit");
+      for (const entry of ["guide ∝ t² (ballistic)", "guide ∝ t (diffusive)", "ensemble MSD (survivors)"]) {
+        assert(msdLegend.includes(entry), `msd-fit legend has "${entry}": ${msdLegend}`);
+      }
+      assert(
+        legendLabels(report.dom, "d-vs-parameter").includes("answer (fixed cohort)"),
+        "estimator legend",
+      );
+
       // The compare page: both studies side by side; its D table equals the stored rows.
       const page = await writeComparePage([walkers, ballistic], { out: `${dir}/compare.html` });
       const cmp = await dumpDom(page.html, { chromium: chromium!, virtualTimeBudgetMs: 5000 });
@@ -83,6 +101,7 @@ Deno.test({
         "compare-d",
       ]);
       assertEquals(bodyAttr(cmp.dom, "data-charts"), "4");
+      assertEquals(bodyAttr(cmp.dom, "data-overflow"), "0", `${bodyAttr(cmp.dom, "data-overflow-list")}`);
       const db = openStoreReadOnly(walkers);
       const rows = readEnsembleResults(db, readStudy(db).id);
       db.close();
@@ -94,7 +113,7 @@ Deno.test({
       }
       const brow = /<tr data-study="ballistic-tracks"[^]*?<\/tr>/.exec(cmp.dom)?.[0] ?? "";
       assert(brow.includes("no diffusive regime"), "ballistic study: no diffusive regime shown");
-      const svg = await Deno.readTextFile(`${page.svgDir}/compare-msd.svg`);
+      const svg = await Deno.readTextFile(`${page.figuresDir}/compare-msd.svg`);
       assert(svg.startsWith("<svg"), "compare-msd.svg exported");
     } finally {
       await Deno.remove(dir, { recursive: true });

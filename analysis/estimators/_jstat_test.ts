@@ -2,7 +2,7 @@ import assert from "node:assert/strict";
 import { assertClose } from "./_check.ts";
 import { chiSquareCdf, chiSquareQuantile, normalCdf, normalQuantile, studentTQuantile } from "./_jstat.ts";
 
-// The Student-t table check (check-values §6.3) lives in reports/intervals_test.ts, which uses this wrapper.
+// The Student-t table check (docs/check-values.md §6.3) lives in reports/intervals_test.ts, which uses this wrapper.
 
 Deno.test("normalQuantile and normalCdf give the standard 1.959964 and are inverse to each other", () => {
   // Abramowitz & Stegun 1964, Table 26.5: Φ⁻¹(0.975) = 1.959964.

@@ -30,6 +30,19 @@ import type { RandomStream } from "../../engines/random.ts";
 import { normalCdf, normalQuantile } from "./_jstat.ts";
 import { streamFromSeed } from "./seed.ts";
 
+/**
+ * Realisations per point below which bootstrap intervals over realisations are not trustworthy (they tend to
+ * under-cover; 50+ preferred). The estimators warn below it, and the command line and the report say so.
+ * Common practice (Efron & Tibshirani 1993, ch. 13–14, on small-sample percentile intervals), no sharper source.
+ */
+export const MIN_REALISATIONS = 20;
+
+/** The warning of the estimators for `R` realisations below `MIN_REALISATIONS`. */
+export function fewRealisationsWarning(R: number): string {
+  return `only ${R} realisations: bootstrap intervals are unreliable below ${MIN_REALISATIONS} (50+ preferred); ` +
+    "percentile intervals tend to under-cover";
+}
+
 /** A two-sided confidence interval. */
 export interface Interval {
   readonly lower: number;

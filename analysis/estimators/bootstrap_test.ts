@@ -19,7 +19,7 @@ const meanOf = (x: readonly number[]) => (idx: Int32Array) => {
 };
 
 Deno.test("bootstrap variance of the mean matches the ideal (1/n²)Σ(x_i − x̄)² within 3√(2/B)", () => {
-  // check-values §6.4; Efron & Tibshirani (1993) ch. 6: ideal bootstrap variance of the mean.
+  // docs/check-values.md §6.4; Efron & Tibshirani (1993) ch. 6: ideal bootstrap variance of the mean.
   const rng = streamFromSeed("ideal-variance-data");
   const x = Array.from({ length: 17 }, () => Math.exp(rng.normal()));
   const n = x.length;

@@ -4,7 +4,7 @@ import { chiSquareDiffusionInterval } from "./chi2.ts";
 import { streamFromSeed } from "./seed.ts";
 
 Deno.test("chiSquareDiffusionInterval returns dnD̂/χ² bounds with the tabulated quantiles", () => {
-  // check-values §6.2: exact CI [dnD̂/χ²_{dn,0.975}, dnD̂/χ²_{dn,0.025}]; d = 2, n = 10 → dof 20,
+  // docs/check-values.md §6.2: exact CI [dnD̂/χ²_{dn,0.975}, dnD̂/χ²_{dn,0.025}]; d = 2, n = 10 → dof 20,
   // χ²_{20,0.975} = 34.170, χ²_{20,0.025} = 9.591 (NIST/SEMATECH §1.3.6.7.4) [table values from memory].
   const sq = Array.from({ length: 10 }, (_, i) => 0.1 + 0.02 * i); // Σ = 1.9
   const ci = chiSquareDiffusionInterval(sq, { dimension: 2, dt: 0.5 });
@@ -15,7 +15,7 @@ Deno.test("chiSquareDiffusionInterval returns dnD̂/χ² bounds with the tabulat
 });
 
 Deno.test("chiSquareDiffusionInterval covers the true D 95% of the time on synthetic Brownian increments", () => {
-  // check-values §6.2 (dnD̂/D ~ χ²_dn, exact) and §6.4: coverage 0.95 ± 2√(0.95·0.05/M); with four checks we
+  // docs/check-values.md §6.2 (dnD̂/D ~ χ²_dn, exact) and §6.4: coverage 0.95 ± 2√(0.95·0.05/M); with four checks we
   // allow 3 binomial sd (a correct interval fails one of them with probability ≈ 1%).
   const M = 20000;
   const D = 0.37;

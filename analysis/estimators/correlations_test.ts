@@ -37,7 +37,7 @@ function exactFG(d: 2 | 3, s: number): [number, number] {
 }
 
 Deno.test("transverseFromLongitudinal and longitudinalFromTransverse reproduce the exact shell-spectrum pair", () => {
-  // Numerical check of the helpers on exact f, g (check-values §7: g = f + (r/(d − 1)) f′).
+  // Numerical check of the helpers on exact f, g (docs/check-values.md §7: g = f + (r/(d − 1)) f′).
   for (const d of [2, 3] as const) {
     const r = Array.from({ length: 2000 }, (_, i) => 0.005 * (i + 1));
     const f = r.map((x) => exactFG(d, x)[0]);
@@ -52,7 +52,7 @@ Deno.test("transverseFromLongitudinal and longitudinalFromTransverse reproduce t
 });
 
 Deno.test("velocityCorrelations on a random divergence-free isotropic field obey g = f + (r/(d−1)) f′", () => {
-  // check-values §7; von Kármán & Howarth (1938); Pope (2000) §6.2. Field: random Fourier modes on |k| = 1.
+  // docs/check-values.md §7; von Kármán & Howarth (1938); Pope (2000) §6.2. Field: random Fourier modes on |k| = 1.
   // Tolerance: 4 standard errors from the snapshot scatter, plus 0.005 for bin averaging.
   for (const d of [2, 3] as const) {
     const acc = new VelocityCorrelationAccumulator({ dimension: d, rMax: 8, bins: 32, coreRadius: 0 });

@@ -53,7 +53,9 @@
 import {
   type EstimatorCI,
   estimatorCi,
+  fewRealisationsWarning,
   type Interval,
+  MIN_REALISATIONS,
   percentileInterval,
   pickInterval,
   resampleIndices,
@@ -541,12 +543,7 @@ export function diffusionEvidence(p: PreparedTracks, options: DiffusionOptions):
   const d = p.dimension;
   const t = p.t, K = p.K;
   const warnings: string[] = [];
-  if (R < 20) {
-    warnings.push(
-      `only ${R} realisations: bootstrap intervals are unreliable below 20 (50+ preferred); percentile ` +
-        `intervals tend to under-cover`,
-    );
-  }
+  if (R < MIN_REALISATIONS) warnings.push(fewRealisationsWarning(R));
   if (B0 > 0 && R < 2) warnings.push("a single realisation cannot be bootstrapped: no interval");
 
   // Step 1 on the full sample: the survivor average from t₀ chooses the window.

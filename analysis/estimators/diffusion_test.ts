@@ -274,7 +274,7 @@ function coverage(
 Deno.test("diffusionEvidence coverage: 200 ensembles whose local exponent is noisy near the band's edge: ≥ 93 % of the declared intervals hold D, low support is always flagged", () => {
   // 10 OU walkers per realisation (Uhlenbeck & Ornstein 1930): α(t) scatters by ±0.1–0.2 at the end of the run,
   // where the old point-by-point rule failed clean data. Coverage of a 95 % interval over M repetitions:
-  // 0.95 ± 2√(0.95·0.05/M) (check-values §6.4); the issue asks ≥ 93 %.
+  // 0.95 ± 2√(0.95·0.05/M) (docs/check-values.md §6.4); the issue asks ≥ 93 %.
   const r = coverage(200, 400);
   console.log(
     `declared ${r.declared}/200, coverage ${r.covered}/${r.declared} = ${r.covered / r.declared}, ` +

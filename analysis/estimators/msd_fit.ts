@@ -51,7 +51,13 @@
  * if (fit.status === "ok") console.log(fit.D, fit.ci?.percentile);
  * ```
  */
-import { type EstimatorCI, estimatorCi, resampleIndices } from "./bootstrap.ts";
+import {
+  type EstimatorCI,
+  estimatorCi,
+  fewRealisationsWarning,
+  MIN_REALISATIONS,
+  resampleIndices,
+} from "./bootstrap.ts";
 
 export type { EstimatorCI } from "./bootstrap.ts";
 import { streamFromSeed } from "./seed.ts";
@@ -331,12 +337,7 @@ export function fitDiffusion(input: MsdEnsembleInput, options: DiffusionFitOptio
 
   const ok = ws.outcome === Outcome.Ok;
   const warnings: string[] = [];
-  if (R < 20) {
-    warnings.push(
-      `only ${R} realisations: bootstrap intervals are unreliable below 20 (50+ preferred); percentile ` +
-        `intervals tend to under-cover`,
-    );
-  }
+  if (R < MIN_REALISATIONS) warnings.push(fewRealisationsWarning(R));
   const result = {
     status: ok ? "ok" as const : "no-diffusive-regime" as const,
     reason: ws.reason(),

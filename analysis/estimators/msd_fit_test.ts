@@ -34,7 +34,7 @@ Deno.test("fitDiffusion recovers D exactly from noise-free Brownian MSD = 2dDt",
 });
 
 Deno.test("fitDiffusion local slope and crossover follow the exact Ornstein–Uhlenbeck MSD", () => {
-  // Exact OU MSD (check-values §6.1; Uhlenbeck & Ornstein 1930): α(x) = x(1 − e^{−x})/(x − 1 + e^{−x}), x =
+  // Exact OU MSD (docs/check-values.md §6.1; Uhlenbeck & Ornstein 1930): α(x) = x(1 − e^{−x})/(x − 1 + e^{−x}), x =
   // t/τ.
   const d = 2;
   const D = 0.4;
@@ -106,7 +106,7 @@ function coverage(d: 2 | 3, reps: number, B: number): { pct: number; bca: number
 }
 
 Deno.test("fitDiffusion 95% CI covers the true D 95 ± 3% of the time over 200 Brownian ensembles (2D, 3D)", () => {
-  // Methods §7.4 (repeat 200 times); check-values §6.4: coverage 0.95 ± 2√(0.95·0.05/M) (≈ ±3% for M = 200).
+  // Methods §7.4 (repeat 200 times); docs/check-values.md §6.4: coverage 0.95 ± 2√(0.95·0.05/M) (≈ ±3% for M = 200).
   // 50 realisations × 40 walkers, B = 1000 (Efron & Tibshirani 1993 ch. 14: B ≥ 1000 for BCa tails).
   for (const d of [2, 3] as const) {
     const c = coverage(d, 200, 1000);
@@ -122,7 +122,7 @@ Deno.test({
   name: "fitDiffusion coverage over 1000 Brownian ensembles with B = 2000 (long)",
   ignore: !LONG,
   fn() {
-    // check-values §6.4: 0.95 ± 2√(0.95·0.05/1000) = 0.95 ± 0.014.
+    // docs/check-values.md §6.4: 0.95 ± 2√(0.95·0.05/1000) = 0.95 ± 0.014.
     for (const d of [2, 3] as const) {
       const c = coverage(d, 1000, 2000);
       console.log(
@@ -135,7 +135,7 @@ Deno.test({
 });
 
 Deno.test("fitDiffusion starts the window after the OU crossover and recovers D from OU walkers", () => {
-  // OU walkers with stationary start (check-values §6.1): ballistic for t ≪ τ, diffusive with D for t ≫ τ.
+  // OU walkers with stationary start (docs/check-values.md §6.1): ballistic for t ≪ τ, diffusive with D for t ≫ τ.
   for (const d of [2, 3] as const) {
     const tau = 1;
     const ens = walkerEnsemble(
@@ -165,7 +165,7 @@ Deno.test("fitDiffusion starts the window after the OU crossover and recovers D 
 });
 
 Deno.test("fitDiffusion reports no diffusive regime for ballistic tracks, with the reason", () => {
-  // Ballistic motion: MSD = ⟨v²⟩t² (check-values §6.1), α = 2 throughout.
+  // Ballistic motion: MSD = ⟨v²⟩t² (docs/check-values.md §6.1), α = 2 throughout.
   for (const d of [2, 3] as const) {
     const ens = walkerEnsemble(
       {
@@ -261,7 +261,7 @@ Deno.test("fitDiffusion bootstrap is reproducible from its recorded seed", () =>
 
 Deno.test("fitDiffusion CI width scales as N_real^-1/2", () => {
   // Standard error of a mean over independent units ∝ N^{-1/2} (Efron & Tibshirani 1993, ch. 6);
-  // docs/methods.md §5.1 asks to check it. Quadrupling N should halve the width (sampling tolerance 25%).
+  // docs/methods.md §5.4 (intervals over realisations). Quadrupling N should halve the width (sampling tolerance 25%).
   const width = (R: number) => {
     let sum = 0;
     for (let s = 0; s < 4; s++) {

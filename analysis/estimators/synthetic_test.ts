@@ -33,7 +33,7 @@ Deno.test("brownianTracks MSD equals 2dDt within sampling error", () => {
 });
 
 Deno.test("ornsteinUhlenbeckTracks MSD follows 2dD[t − τ(1 − e^{−t/τ})] within sampling error", () => {
-  // Uhlenbeck & Ornstein, Phys. Rev. 36, 823 (1930); check-values §6.1. Displacements are Gaussian, so the
+  // Uhlenbeck & Ornstein, Phys. Rev. 36, 823 (1930); docs/check-values.md §6.1. Displacements are Gaussian, so the
   // relative sd of the mean |Δr|² is √(2/(dW)); 4 sd allowed. Log-spaced times test the exact update for any
   // h.
   for (const d of [2, 3] as const) {
@@ -69,7 +69,7 @@ Deno.test("ouStep uses the exact small-step expansion continuously across its sw
 });
 
 Deno.test("ballisticTracks MSD is exactly quadratic in t", () => {
-  // x = x₀ + vt: MSD(t) = ⟨|v|²⟩t² per realisation (check-values §6.1, ballistic regime).
+  // x = x₀ + vt: MSD(t) = ⟨|v|²⟩t² per realisation (docs/check-values.md §6.1, ballistic regime).
   const tr = ballisticTracks(streamFromSeed("ballistic"), {
     dimension: 3,
     walkers: 5000,

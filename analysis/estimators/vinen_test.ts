@@ -45,7 +45,7 @@ Deno.test("VinenSolver converges at second order when Δr and Δt are halved tog
 });
 
 Deno.test("VinenSolver matches the free-decay solution L₀/(1 + χ₂κL₀t/2π) to 1e-6", () => {
-  // check-values §5 [EXACT]: free decay; a uniform interior is unaffected by diffusion until the boundary
+  // docs/check-values.md §5 [EXACT]: free decay; a uniform interior is unaffected by diffusion until the boundary
   // layer (width ~√(Dt)) arrives, and the exact reaction half-steps compose exactly.
   for (const d of [2, 3] as const) {
     for (const kappa of [1, 2 * Math.PI]) {
@@ -60,7 +60,7 @@ Deno.test("VinenSolver matches the free-decay solution L₀/(1 + χ₂κL₀t/2�
       }
     }
   }
-  // Late times: L ≈ 2π/(χ₂κt), independent of L₀ (check-values §5).
+  // Late times: L ≈ 2π/(χ₂κt), independent of L₀ (docs/check-values.md §5).
   const s = new VinenSolver({ dimension: 3, rMax: 10, cells: 10 });
   for (const L0 of [1, 100]) {
     const L = new Float64Array(10).fill(L0);
@@ -88,7 +88,7 @@ Deno.test("VinenSolver conserves the total content Σ L V without reaction", () 
 });
 
 Deno.test("fitVinenDecay recovers χ₂ exactly from noise-free decay and within its CI from noisy decay", () => {
-  // check-values §5 [EXACT]: 1/L = 1/L₀ + χ₂κt/(2π) is linear in t.
+  // docs/check-values.md §5 [EXACT]: 1/L = 1/L₀ + χ₂κt/(2π) is linear in t.
   const t = Array.from({ length: 41 }, (_, k) => 0.25 * k);
   const exact = (L0: number, chi2: number, kappa: number) =>
     t.map((x) => L0 / (1 + (chi2 * kappa * L0 * x) / (2 * Math.PI)));

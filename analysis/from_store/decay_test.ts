@@ -39,7 +39,7 @@ function decayDb(chi2: number, periodic = true): string {
       engineVersion: "1.0.0",
       host: "test",
     });
-    // Vinen's free decay L(t) = L₀/(1 + χ₂κL₀t/2π): W.F. Vinen, Proc. R. Soc. A 242, 493 (1957) (check-values §5).
+    // Vinen's free decay L(t) = L₀/(1 + χ₂κL₀t/2π): W.F. Vinen, Proc. R. Soc. A 242, 493 (1957) (docs/check-values.md §5).
     const v = t.map((tt) =>
       volume * L0 / (1 + chi2 * kappa * L0 * tt / (2 * Math.PI)) * (1 + 0.01 * rng.normal())
     );

@@ -1,5 +1,5 @@
 /**
- * The `sensitivity` rows (docs/methods.md §4): the stored frames are replayed through the classifier with each
+ * The `sensitivity` rows (docs/methods.md §4 and §5.7): the stored frames are replayed through the classifier with each
  * classification threshold halved and doubled (others at their study values): separationFactor,
  * radiusFactor, speedTolerance multiplied; stickyFrames multiplied and rounded (≥ 1); outwardCosine c varied
  * through its angle θ = arccos c (θ/2 and min(2θ, 180°)), since doubling a cosine leaves its range. 11 rows:

@@ -75,6 +75,7 @@ export function vinenRows(
       notes: [],
     };
   };
+  if (ctx.opts.vinen === false) return none("not-available", "not requested");
   try {
     const read = readProfileEnsemble(ctx.db, ctx.ids, {
       dimension: ctx.dimension,

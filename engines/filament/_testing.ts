@@ -10,10 +10,10 @@ import { FMM_DEFAULTS, type VelocityConfig } from "./velocity.ts";
 
 /** γ_E. */
 export const GAMMA_E = 0.5772156649015329;
-/** Ring constant of straight-segment sums, β = 3/4 − γ_E (check-values §3.2 [DERIVED]). */
+/** Ring constant of straight-segment sums, β = 3/4 − γ_E (docs/check-values.md §3.2 [DERIVED]). */
 export const BETA_POLYGON = 0.75 - GAMMA_E;
 
-/** Thin-ring speed (κ/4πR)[ln(8R/a₀) − C] (check-values §3.2). */
+/** Thin-ring speed (κ/4πR)[ln(8R/a₀) − C] (docs/check-values.md §3.2). */
 export function ringSpeed(kappa: number, R: number, a0: number, C: number): number {
   return kappa / (4 * Math.PI * R) * (Math.log(8 * R / a0) - C);
 }

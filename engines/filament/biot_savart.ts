@@ -10,7 +10,7 @@
  * an algebraically equivalent form of the textbook formula that vanishes exactly for collinear points outside
  * the segment; when r₁·r₂ < 0 the factor |r₁||r₂| + r₁·r₂ is evaluated as |r₁×r₂|²/(|r₁||r₂| − r₁·r₂) to
  * avoid cancellation for targets close to a long segment. With straight-segment sums the thin-ring speed is
- * (κ/4πR)[ln(8R/a₀) − β] with β = 3/4 − γ_E (not the continuum 1/4): see check-values §3.2.
+ * (κ/4πR)[ln(8R/a₀) − β] with β = 3/4 − γ_E (not the continuum 1/4): see docs/check-values.md §3.2.
  *
  * The local induction approximation (LIA) option replaces everything by β_i s′×s″ with
  * β_i = (κ/4π) ln(8R_i/(e^{1/4}a₀)), R_i = 1/|s″_i| the local curvature radius, so that an isolated ring moves
@@ -40,7 +40,7 @@ export const E_QUARTER = Math.exp(0.25);
 
 /**
  * Ring constant β of this implementation: a thin ring moves at (κ/4πR)[ln(8R/a₀) − β] with β = 3/4 − γ_E for
- * the straight-segment Biot–Savart sum (check-values §3.2) and β = 1/4 under the LIA option.
+ * the straight-segment Biot–Savart sum (docs/check-values.md §3.2) and β = 1/4 under the LIA option.
  */
 export function ringConstant(model: "biot-savart" | "lia"): number {
   return model === "lia" ? 0.25 : 0.75 - 0.5772156649015329;

@@ -10,7 +10,7 @@
  *     E = (κ²/8π) [ Σ_i Σ_{j≠i} Δs_i·Δs_j/|m_i − m_j| + Σ_i 2ℓ_i ln(2e^{1/4} ℓ_i/a₀) ],
  *   a midpoint-rule double sum plus a self term per segment. The self-term constant is chosen (derived here)
  *   so that a finely resolved ring has E = ½κ²R[ln(8R/a₀) − C_E] with C_E = β + 1 and β = 3/4 − γ_E the ring
- *   constant of the straight-segment velocity, i.e. the fixed-core consistency U = ∂E/∂P of check-values §3.4.
+ *   constant of the straight-segment velocity, i.e. the fixed-core consistency U = ∂E/∂P of docs/check-values.md §3.4.
  *   The double sum is direct (O(N²)) or by the tree's vector potential (the engine uses θ/2 for it). In a periodic box it uses the same
  *   images as the velocity (minimum image + 26 copies) — only its changes are meaningful there.
  *

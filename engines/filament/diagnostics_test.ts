@@ -29,7 +29,7 @@ Deno.test("lineLength and impulse of a regular polygon are exact", () => {
 
 Deno.test("energy of a ring tends to ½κ²R[ln(8R/a₀) − (β + 1)] (fixed-core consistency)", () => {
   // Ring energy E/ρ_s = ½κ²R[ln(8R/a) − C_E] (Saffman (1992) §10.2, Roberts & Grant, J. Phys. A 4, 55 (1971));
-  // a fixed core requires C_E = C + 1 (check-values §3.4 [DERIVED]) with the implementation's C = 3/4 − γ_E.
+  // a fixed core requires C_E = C + 1 (docs/check-values.md §3.4 [DERIVED]) with the implementation's C = 3/4 − γ_E.
   // The discrete energy converges at O(h²): tolerance 1e-3 at 64 points, 3e-4 at 256.
   const R = 1;
   const expected = 0.5 * R * (Math.log(8 * R / 1e-4) - (BETA_POLYGON + 1));
@@ -39,7 +39,7 @@ Deno.test("energy of a ring tends to ½κ²R[ln(8R/a₀) − (β + 1)] (fixed-co
 });
 
 Deno.test("energy and impulse satisfy U = dE/dP for rings (Hamiltonian consistency with the velocity)", () => {
-  // Kelvin's relation U = ∂E/∂P for a family of rings (Saffman (1992) §10.2; check-values §3.4): the finite
+  // Kelvin's relation U = ∂E/∂P for a family of rings (Saffman (1992) §10.2; docs/check-values.md §3.4): the finite
   // difference of the discrete E and P must match the computed ring speed (3/4 − γ_E constant) to 0.3 %.
   const N = 200, dR = 0.01;
   const a = ring(1 - dR, N), b = ring(1 + dR, N);

@@ -74,7 +74,7 @@ Deno.test("filamentEngine declares its id, version and capabilities", () => {
 });
 
 Deno.test("filamentEngine: a ring in SI units moves at 8.8195e-2 m/s (R = 1 µm, a₀ = 1e-10 m)", async () => {
-  // check-values §3.2 SI example (κ = 9.9693e-8 m²/s, C = 0.17278): v = 8.8195e-2 m/s; 0.5 % tolerance.
+  // docs/check-values.md §3.2 SI example (κ = 9.9693e-8 m²/s, C = 0.17278): v = 8.8195e-2 m/s; 0.5 % tolerance.
   const r = await run({ resolution: 1e-7, initial: { kind: "ring", radius: 1e-6 } }, {
     duration: 2e-5,
     sampleInterval: 1e-5,
@@ -237,7 +237,7 @@ Deno.test("filamentEngine: heater counter-superflow shrinks a coaxial ring as R�
 
 Deno.test("filamentEngine: helix in a periodic box keeps its line and rotates", async () => {
   // Path test of the helix initial shape (physics checked in simulation_test.ts): one line, no
-  // reconnection, constant length to 1e-9 (a helix of small amplitude rotates rigidly; check-values §3.3).
+  // reconnection, constant length to 1e-9 (a helix of small amplitude rotates rigidly; docs/check-values.md §3.3).
   const r = await run({
     ...dimless,
     resolution: 1 / 24,

@@ -3,7 +3,7 @@ import { HELIUM_TABLE, heliumAt, HeliumRangeError } from "./helium.ts";
 import { assertRelClose } from "./_assert.ts";
 
 Deno.test("heliumAt gives α = α′ = 0 at T = 0", () => {
-  // No normal fluid at T = 0, so α = Bρ_n/2ρ = 0 and α′ = B′ρ_n/2ρ = 0 (definitions, check-values §4 [EXACT]).
+  // No normal fluid at T = 0, so α = Bρ_n/2ρ = 0 and α′ = B′ρ_n/2ρ = 0 (definitions, docs/check-values.md §4 [EXACT]).
   const he = heliumAt(0);
   assert.equal(he.alpha, 0);
   assert.equal(he.alphaPrime, 0);
@@ -12,7 +12,7 @@ Deno.test("heliumAt gives α = α′ = 0 at T = 0", () => {
 
 Deno.test("heliumAt: α increases with T over the table range", () => {
   // Monotonic increase of α with T: Barenghi, Donnelly & Vinen, J. Low Temp. Phys. 52, 189 (1983), Fig. 1
-  // (qualitative; the relation is what check-values §4 recommends testing, not the digits).
+  // (qualitative; the relation is what docs/check-values.md §4 recommends testing, not the digits).
   let prev = -1;
   for (let k = 0; k <= 12; k++) {
     const T = 1.3 + 0.05 * k;
@@ -23,7 +23,7 @@ Deno.test("heliumAt: α increases with T over the table range", () => {
   for (let k = 1; k < HELIUM_TABLE.length; k++) assert.ok(HELIUM_TABLE[k].alpha > HELIUM_TABLE[k - 1].alpha);
 });
 
-Deno.test("heliumAt: the implied B = 2αρ/ρ_n is of order one (plausibility, check-values §4)", () => {
+Deno.test("heliumAt: the implied B = 2αρ/ρ_n is of order one (plausibility, docs/check-values.md §4)", () => {
   // B ≈ 1–1.5 between 1.3 and 2.1 K (Donnelly & Barenghi 1998, from memory): a loose relation check.
   for (const row of HELIUM_TABLE.slice(1)) {
     const B = 2 * row.alpha / row.normalFraction;

@@ -27,9 +27,9 @@ import { FMM_DEFAULTS } from "./velocity.ts";
 import { INTEGRATOR_DEFAULTS } from "./simulation.ts";
 import { ACCURACY_CHECK_DEFAULTS } from "./accuracy.ts";
 
-/** κ of ⁴He, m²/s: h/m₄ from CODATA 2018 h and the ⁴He atomic mass (check-values §0). */
+/** κ of ⁴He, m²/s: h/m₄ from CODATA 2018 h and the ⁴He atomic mass (docs/check-values.md §0). */
 export const KAPPA_HE4 = 9.9693e-8;
-/** Default core parameter a₀ in metres (Schwarz used 1.3e-10 m; check-values §0). */
+/** Default core parameter a₀ in metres (Schwarz used 1.3e-10 m; docs/check-values.md §0). */
 export const A0_DEFAULT_M = 1e-10;
 
 const LEN = "length: metres (units: physical) or the study length unit ℓ (units: dimensionless)";

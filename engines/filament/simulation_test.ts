@@ -10,7 +10,7 @@ import { type FilamentSimulation, INTEGRATOR_DEFAULTS, type IntegratorConfig } f
 const LONG = Deno.env.get("SPINDRIFT_LONG") === "1";
 
 Deno.test("FilamentSimulation: a ring travels at (κ/4πR)[ln(8R/a₀) − (3/4 − γ_E)] with radius drift < 1e-4 R", () => {
-  // Ring speed: check-values §3.2 (polygonal constant [DERIVED]); docs/methods.md §7.2 asks < 0.2 % at ≥ 32 points and a
+  // Ring speed: docs/check-values.md §3.2 (polygonal constant [DERIVED]); docs/methods.md §7.2 asks < 0.2 % at ≥ 32 points and a
   // radius drift < 1e-4 R over 10 diameters (2 diameters in CI, 10 with SPINDRIFT_LONG=1).
   const R = 1, a0 = 1e-4, delta = 2 * Math.PI / 40;
   const { sim } = makeSim(simConfig(delta), [ringPoints(R, [0, 0, 0], [0, 0, 1], 0.75 * delta, 0)]);
@@ -69,7 +69,7 @@ function exactRadius(t: number, R0: number, a0: number, alpha: number, C: number
 
 Deno.test("FilamentSimulation: a ring shrinks under friction as the exact Ei-function law and slows by (1 − α′)", () => {
   // dR/dt = −αU(R), translation (1 − α′)U: Barenghi, Donnelly & Vinen, J. Low Temp. Phys. 52, 189 (1983)
-  // (equations of motion); exact solution with Ei: check-values §3.5 [DERIVED], with the implementation's
+  // (equations of motion); exact solution with Ei: docs/check-values.md §3.5 [DERIVED], with the implementation's
   // ring constant C = 3/4 − γ_E. Tolerance 1 % on R(t) (docs/methods.md §7.2).
   const R0 = 1, a0 = 1e-4, alpha = 0.1, alphaPrime = 0.05, delta = 0.1;
   const { sim } = makeSim(simConfig(delta, {}, { alpha, alphaPrime }), [
@@ -138,7 +138,7 @@ function kelvinOmega(N: number, waves: number): { omega: number; ampRatio: numbe
 }
 
 Deno.test("FilamentSimulation: Kelvin wave frequency on a periodic line is (κk²/4π)[ln(2/(ka₀)) − 1/4] within 1%", () => {
-  // Polygonal-sum Kelvin dispersion: check-values §3.3/§9 [DERIVED] (Kelvin, Phil. Mag. 10, 155 (1880) for the
+  // Polygonal-sum Kelvin dispersion: docs/check-values.md §3.3/§9 [DERIVED] (Kelvin, Phil. Mag. 10, 155 (1880) for the
   // continuum form); the wave rotates against the circulation (negative ω about +z). Two wavelengths per box
   // (one wavelength per box feels the truncated image sum: +2 %), 16 points per wavelength (kδ = 0.39):
   // measured −0.29 %. Amplitude conserved (no numerical damping beyond 1e-8).
@@ -229,7 +229,7 @@ Deno.test("FilamentSimulation: leapfrogging rings — the multirate scheme conve
 
 Deno.test("FilamentSimulation: leapfrogging rings conserve impulse up to an O(δ²) discretisation error", () => {
   // Impulse (κ/2)∮s×ds is conserved by Biot–Savart dynamics at T = 0 (Saffman, Vortex Dynamics (1992) §3.2;
-  // check-values §3.4). The semi-discrete scheme conserves it up to the spacing error, which is O(δ²) (methods
+  // docs/check-values.md §3.4). The semi-discrete scheme conserves it up to the spacing error, which is O(δ²) (methods
   // §2.3; measured: 1.58e-3, 3.97e-4, 9.9e-5 at 40, 80, 160 points per ring, t = 0.5, independent of dt).
   const T = 0.5;
   const a = leapfrog(40, 0.005, T), b = leapfrog(80, 0.00125, T);

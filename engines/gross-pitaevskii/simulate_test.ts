@@ -125,7 +125,7 @@ function precession(R: number, r0: number, points: number, spacing: number, dura
 
 Deno.test("an off-centre vortex in a disk trap precesses in its own sense at the image-vortex rate", () => {
   // Image result for a point vortex at r₀ in a disk of radius R: Ω = κ/(2π(R² − r₀²)) = 1/(R² − r₀²) in GP units,
-  // counter-clockwise for positive circulation (Saffman 1992 §7.3; check-values §1.3). A soft wall has no sharp
+  // counter-clockwise for positive circulation (Saffman 1992 §7.3; docs/check-values.md §1.3). A soft wall has no sharp
   // radius: the image radius is taken within a healing length of the Thomas–Fermi edge R_TF (V = μ), from
   // R_TF − 1 ξ (the hard-wall shift of about one healing length, Mason, Berloff & Fetter, Phys. Rev. A 74, 043611
   // (2006), from the abstract) to R_TF + ½ ξ; the measured Ω must fall in that bracket widened by 3 % for the

@@ -109,7 +109,7 @@ Deno.test("timeFactor: a column unit without a study time unit is refused", () =
 
 Deno.test("circulationReading: kappa multiplies by the scale, sign keeps only the sign", () => {
   // GP units (ħ = m = 1): κ = 2π, so a circulation column in those units has scale 1/(2π)
-  // (check-values.md §8, convention A).
+  // (docs/check-values.md §8, convention A).
   assertEquals(circulationReading({ unit: "kappa", scale: 1 / (2 * Math.PI) }), {
     asSign: false,
     factor: 1 / (2 * Math.PI),

@@ -28,7 +28,7 @@ function cloud(rng: RandomStream, n = 200, radius = 10): Vortex[] {
 /**
  * A ± dipole of separation d whose pair centre is at P + s·k·dt·û at frame k, û = (cos θ, sin θ).
  * Self-propulsion direction sign(Γ₊) ẑ×(z₋ − z₊)/d equals û when the + vortex sits at P + (d/2) ẑ×û
- * (velocity law v = (Γ/2π) ẑ×(r − r_j)/|r − r_j|², check-values §1.1; Saffman, Vortex Dynamics (1992) ch. 7).
+ * (velocity law v = (Γ/2π) ẑ×(r − r_j)/|r − r_j|², docs/check-values.md §1.1; Saffman, Vortex Dynamics (1992) ch. 7).
  */
 function dipole(
   k: number,
@@ -45,7 +45,7 @@ function dipole(
   ];
 }
 
-/** Dipole translation speed U = κ/(2πd) (check-values §1.3; Saffman, Vortex Dynamics (1992) §7.3). */
+/** Dipole translation speed U = κ/(2πd) (docs/check-values.md §1.3; Saffman, Vortex Dynamics (1992) §7.3). */
 const dipoleSpeed = (d: number) => 1 / (2 * Math.PI * d);
 
 function labelOf(c: Classification, frameIds: Int32Array, id: number): number {

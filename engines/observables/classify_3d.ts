@@ -70,7 +70,7 @@ const EULER_GAMMA = 0.5772156649015329;
 
 /**
  * Core constant C = 3/4 − γ_E ≈ 0.17278 of the ring speed U = (κ/4πR)[ln(8R/a₀) − C] for the desingularized
- * Biot–Savart law summed over straight segments (docs/methods.md §2.2; check-values §3.2, derived and checked there).
+ * Biot–Savart law summed over straight segments (docs/methods.md §2.2; docs/check-values.md §3.2, derived and checked there).
  */
 export const STRAIGHT_SEGMENT_CORE_CONSTANT = 0.75 - EULER_GAMMA;
 

@@ -20,7 +20,7 @@ const A0 = 1e-3;
 
 /**
  * Thin-ring speed U = (κ/4πR)[ln(8R/a) − C], C = 3/4 − γ_E for straight-segment sums, written out here
- * independently of the module (check-values §3.2, derived there; Saffman, Vortex Dynamics (1992) §10.2).
+ * independently of the module (docs/check-values.md §3.2, derived there; Saffman, Vortex Dynamics (1992) §10.2).
  */
 function expectedRingSpeed(r: number): number {
   return 1 / (4 * Math.PI * r) * (Math.log(8 * r / A0) - (0.75 - 0.5772156649015329));
@@ -66,8 +66,8 @@ function smallRing(
   return ring(opts.loop ?? 99, 99000, [s * ux, s * uy, s * uz], opts.dir, 0.1, 16);
 }
 
-Deno.test("ringSpeed matches the SI example of check-values §3.2", () => {
-  // κ = 9.9693e-8 m²/s, R = 1 µm, a₀ = 1e-10 m, C = 0.17278: v = 8.8195e-2 m/s (check-values §3.2, derived
+Deno.test("ringSpeed matches the SI example of docs/check-values.md §3.2", () => {
+  // κ = 9.9693e-8 m²/s, R = 1 µm, a₀ = 1e-10 m, C = 0.17278: v = 8.8195e-2 m/s (docs/check-values.md §3.2, derived
   // there; value printed to 5 digits).
   assertClose(ringSpeed(1e-6, { coreRadius: 1e-10, circulation: 9.9693e-8 }), 8.8195e-2, 1e-4, "ring speed");
   // Solid core C = 1/4: 8.7582e-2; hollow core C = 1/2: 8.5599e-2 (same source).

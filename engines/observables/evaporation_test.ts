@@ -60,7 +60,7 @@ Deno.test("evaporationObservable with the 2D classifier counts a planted dipole 
     const r = 10 * Math.sqrt(rng.uniform()), th = 2 * Math.PI * rng.uniform();
     return { id: i, x: r * Math.cos(th), y: r * Math.sin(th), g: i % 2 === 0 ? 1 : -1 };
   });
-  const d = 0.1, U = 1 / (2 * Math.PI * d); // κ/(2πd), check-values §1.3
+  const d = 0.1, U = 1 / (2 * Math.PI * d); // κ/(2πd), docs/check-values.md §1.3
   const ctx = context(CAPS_2D);
   const classifier = createDipoleClassifier(ctx);
   const acc = evaporationObservable.create(ctx);

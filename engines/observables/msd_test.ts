@@ -80,7 +80,7 @@ Deno.test("msdObservable equals the exact mean square of a known displacement se
 
 Deno.test("msdObservable of Gaussian displacements matches 2σ² within the chi-square spread", () => {
   // For N independent 2D Gaussian displacements of variance σ² per component, Σ|Δr|²/σ² ~ χ²_{2N}: the mean
-  // square is 2σ² with relative standard deviation 1/√N (check-values §6.2; Einstein 1905 for 2dDt = 2σ²).
+  // square is 2σ² with relative standard deviation 1/√N (docs/check-values.md §6.2; Einstein 1905 for 2dDt = 2σ²).
   const rng = RandomStream.fromState([9, 10, 11, 12]);
   const n = 20000, sigma = 0.5;
   const start = Array.from({ length: n }, (_, i) => ({ id: i, x: 0, y: 0, g: 1 }));

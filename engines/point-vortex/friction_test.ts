@@ -2,7 +2,7 @@ import { assertAbs } from "./_testing.ts";
 import { applyFriction } from "./friction.ts";
 
 Deno.test("applyFriction with the normal fluid at rest gives (1 − α′)v_s − α s ẑ × v_s", () => {
-  // check-values §2 (Schwarz, Phys. Rev. B 38, 2398 (1988)): with v_n = 0, dr/dt = (1 − α′)v_s − α s ẑ×v_s,
+  // docs/check-values.md §2 (Schwarz, Phys. Rev. B 38, 2398 (1988)): with v_n = 0, dr/dt = (1 − α′)v_s − α s ẑ×v_s,
   // ẑ × (a, b) = (−b, a).
   const alpha = 0.3, alphaPrime = 0.1;
   const g = Float64Array.of(1, -1, 2), us = [0.7, -0.2, 1.5], vs = [-0.4, 0.9, 0.25];
@@ -16,7 +16,7 @@ Deno.test("applyFriction with the normal fluid at rest gives (1 − α′)v_s �
 });
 
 Deno.test("applyFriction makes a vortex at rest drift with a uniform normal flow", () => {
-  // check-values §2: dr/dt = v_s + α s ẑ×(v_n − v_s) + α′(v_n − v_s); with v_s = 0 the vortex moves at
+  // docs/check-values.md §2: dr/dt = v_s + α s ẑ×(v_n − v_s) + α′(v_n − v_s); with v_s = 0 the vortex moves at
   // α′v_n + α s ẑ×v_n (its sign decides the transverse direction).
   const g = Float64Array.of(1, -1), u = new Float64Array(2), v = new Float64Array(2);
   applyFriction(2, g, u, v, { alpha: 0.2, alphaPrime: 0.05, normalVelocity: [1, 0] });

@@ -63,7 +63,7 @@ Deno.test("DormandPrince converges at fifth order or better at fixed steps", () 
 });
 
 Deno.test("DormandPrince adaptive error falls with the tolerance and lands exactly on the target time", () => {
-  // Rotation rate Ω = κ/(πd²): check-values §1.3. Global error should track the tolerance (common practice,
+  // Rotation rate Ω = κ/(πd²): docs/check-values.md §1.3. Global error should track the tolerance (common practice,
   // no source: for a well-conditioned rotation the global error over one period is within ~10³ × tol).
   const T = 2 * Math.PI * Math.PI;
   let previous = Infinity;

@@ -5,7 +5,7 @@ import { CompensatedSum, hamiltonian, moments, removedEnergy } from "./invariant
 const PI = Math.PI;
 
 Deno.test("hamiltonian of a pair is −(Γ₁Γ₂/2π) ln d in the plane", () => {
-  // check-values §1.2: H = −(1/2π) Σ_{i<j} Γ_iΓ_j ln|r_i − r_j|.
+  // docs/check-values.md §1.2: H = −(1/2π) Σ_{i<j} Γ_iΓ_j ln|r_i − r_j|.
   const h = hamiltonian(
     { kind: "unbounded" },
     2,
@@ -17,7 +17,7 @@ Deno.test("hamiltonian of a pair is −(Γ₁Γ₂/2π) ln d in the plane", () =
 });
 
 Deno.test("hamiltonian in a disk adds the image terms (1/4π) Σ Γ_iΓ_j ln|R² − z_i z̄_j|", () => {
-  // check-values §1.3 "Disk extras": one vortex: (Γ²/4π) ln(R² − r²); two vortices add the cross terms.
+  // docs/check-values.md §1.3 "Disk extras": one vortex: (Γ²/4π) ln(R² − r²); two vortices add the cross terms.
   const R = 2, x = Float64Array.of(0.5, -0.3), y = Float64Array.of(0.2, 0.9), g = Float64Array.of(1, -1);
   const one = hamiltonian({ kind: "disk", radius: R }, 1, x, y, g);
   assertRel(one, Math.log(R * R - 0.29) / (4 * PI), 1e-15, "one vortex");
@@ -55,7 +55,7 @@ Deno.test("removedEnergy is the drop of H when the flagged vortices are deleted"
 });
 
 Deno.test("moments gives Q, P, I and the absolute scales, optionally masked", () => {
-  // check-values §1.2: Q = ΣΓx, P = ΣΓy, I = ΣΓ|r|².
+  // docs/check-values.md §1.2: Q = ΣΓx, P = ΣΓy, I = ΣΓ|r|².
   const out = { impulseX: 0, impulseY: 0, angularImpulse: 0, absFirst: 0, absSecond: 0 };
   moments(2, Float64Array.of(3, 1), Float64Array.of(4, 0), Float64Array.of(1, -2), null, out);
   assert.deepEqual(out, { impulseX: 1, impulseY: 4, angularImpulse: 23, absFirst: 7, absSecond: 27 });

@@ -36,7 +36,7 @@ function eachKernel(body: () => void): void {
 
 Deno.test("periodic kernels (ζ form, WebAssembly, image series): matches the Weiss–McWilliams reference values", () => {
   eachKernel(() => {
-    // check-values §1.5 reference table (Γ = 1, L = 2π): Weiss & McWilliams, Phys. Fluids A 3, 835 (1991),
+    // docs/check-values.md §1.5 reference table (Γ = 1, L = 2π): Weiss & McWilliams, Phys. Fluids A 3, 835 (1991),
     // values verified there against an independent Fourier series. Tolerance 1e-12 absolute (13 decimals given).
     const table: [number, number, number, number][] = [
       [1.0, 0.5, -0.0577718066553, 0.1145789633536],
@@ -52,7 +52,7 @@ Deno.test("periodic kernels (ζ form, WebAssembly, image series): matches the We
 
 Deno.test("periodic kernels (ζ form, WebAssembly, image series): vanishes at the symmetry points of the box", () => {
   eachKernel(() => {
-    // check-values §1.5: u = v = 0 at (π, 0), (0, π), (π, π).
+    // docs/check-values.md §1.5: u = v = 0 at (π, 0), (0, π), (π, π).
     for (const [x, y] of [[Math.PI, 0], [0, Math.PI], [Math.PI, Math.PI]]) {
       const [u, v] = field(x, y);
       assertAbs(u, 0, 1e-15, `u(${x}, ${y})`);
@@ -63,7 +63,7 @@ Deno.test("periodic kernels (ζ form, WebAssembly, image series): vanishes at th
 
 Deno.test("periodic kernels (ζ form, WebAssembly, image series): scales with the box side and is periodic", () => {
   eachKernel(() => {
-    // check-values §1.5: u_L(x, y) = (2π/L) u_2π(2πx/L, 2πy/L).
+    // docs/check-values.md §1.5: u_L(x, y) = (2π/L) u_2π(2πx/L, 2πy/L).
     const L = 10, s = TWO_PI / L;
     const [u0, v0] = field(1.0 / s, 0.5 / s, L);
     assertRel(u0, s * -0.0577718066553, 1e-11, "u_L");
@@ -92,7 +92,7 @@ Deno.test("periodic kernels (ζ form, WebAssembly, image series): is antisymmetr
     const x = Float64Array.of(0, 1), y = Float64Array.of(0, 0.5), g = Float64Array.of(1, -1);
     const u = new Float64Array(2), v = new Float64Array(2);
     kernel(2, x, y, g, TWO_PI, u, v);
-    // Both move with the reference velocity of check-values §1.5 at separation (1.0, 0.5).
+    // Both move with the reference velocity of docs/check-values.md §1.5 at separation (1.0, 0.5).
     for (let i = 0; i < 2; i++) {
       assertAbs(u[i], -0.0577718066553, 1e-12, `u[${i}]`);
       assertAbs(v[i], 0.1145789633536, 1e-12, `v[${i}]`);
@@ -101,7 +101,7 @@ Deno.test("periodic kernels (ζ form, WebAssembly, image series): is antisymmetr
 });
 
 Deno.test("periodicGreen matches the reference value, is symmetric and generates the velocity", () => {
-  // check-values §1.5: G(1.0, 0.5) = −0.0458787983 (box 2π), G symmetric in x ↔ y, u = −Γ ∂G/∂y, v = Γ ∂G/∂x.
+  // docs/check-values.md §1.5: G(1.0, 0.5) = −0.0458787983 (box 2π), G symmetric in x ↔ y, u = −Γ ∂G/∂y, v = Γ ∂G/∂x.
   assertAbs(periodicGreen(1.0, 0.5, TWO_PI), -0.0458787983, 1e-10, "G(1.0, 0.5)");
   assertAbs(
     periodicGreen(0.5, 1.0, TWO_PI),
@@ -120,7 +120,7 @@ Deno.test("periodicGreen matches the reference value, is symmetric and generates
   }
 });
 
-/** The check-values §1.5 series written out directly (|m| ≤ 5, Math.cosh/sin/cos), box 2π, Γ = 1. */
+/** The docs/check-values.md §1.5 series written out directly (|m| ≤ 5, Math.cosh/sin/cos), box 2π, Γ = 1. */
 function textbookSeries(x: number, y: number): [number, number] {
   let su = 0, sv = 0;
   for (let m = -5; m <= 5; m++) {
@@ -132,7 +132,7 @@ function textbookSeries(x: number, y: number): [number, number] {
 
 Deno.test("periodic kernels (ζ form, WebAssembly, image series): agrees with the directly evaluated image series over the whole box", () => {
   eachKernel(() => {
-    // check-values §1.5 series (Weiss & McWilliams 1991), evaluated term by term with library functions; the
+    // docs/check-values.md §1.5 series (Weiss & McWilliams 1991), evaluated term by term with library functions; the
     // direct form loses relative accuracy for close pairs (cosh a − cos b cancels), so compare away from r → 0
     // with tolerance 1e-13 × the free-vortex speed 1/(2πr).
     let state = 12345;

@@ -43,7 +43,7 @@ function angles(frames: SavedFrame[], i: number, cx = 0, cy = 0): number[] {
 const dist = (f: SavedFrame, a: number, b: number) => Math.hypot(f.x[a] - f.x[b], f.y[a] - f.y[b]);
 
 Deno.test("simulate translates a dipole at κ/(2πd) and keeps its separation", () => {
-  // Saffman, Vortex Dynamics (1992) §7.3; check-values §1.3: U d/Γ = 1/(2π) = 0.1591549431; docs/methods.md §7.1
+  // Saffman, Vortex Dynamics (1992) §7.3; docs/check-values.md §1.3: U d/Γ = 1/(2π) = 0.1591549431; docs/methods.md §7.1
   // tolerance: speed 1e-10, separation drift 1e-12 d.
   const d = 0.8, T = 20;
   const r = run(explicit([[-d / 2, 0, 1], [d / 2, 0, -1]]), { duration: T, sampleInterval: 2 });
@@ -54,7 +54,7 @@ Deno.test("simulate translates a dipole at κ/(2πd) and keeps its separation", 
 });
 
 Deno.test("simulate rotates a co-rotating pair at κ/(πd²) with phase error below 1e-8 per period", () => {
-  // check-values §1.3: Ω d²/Γ = 1/π; docs/methods.md §7.1: phase error < 1e-8 rad per period (DP5).
+  // docs/check-values.md §1.3: Ω d²/Γ = 1/π; docs/methods.md §7.1: phase error < 1e-8 rad per period (DP5).
   const d = 1, T = 2 * PI * PI * d * d; // period 2π²d²/Γ
   const r = run(explicit([[-d / 2, 0, 1], [d / 2, 0, 1]]), { duration: 3 * T, sampleInterval: T / 8 });
   const th = angles(r.frames, 1);
@@ -64,7 +64,7 @@ Deno.test("simulate rotates a co-rotating pair at κ/(πd²) with phase error be
 });
 
 Deno.test("simulate rotates a Thomson 5-gon at (N − 1)κ/(4πR²)", () => {
-  // check-values §1.3 (Thomson 1883; Aref et al., Adv. Appl. Mech. 39, 1 (2003)): Ω R²/Γ = (N − 1)/(4π);
+  // docs/check-values.md §1.3 (Thomson 1883; Aref et al., Adv. Appl. Mech. 39, 1 (2003)): Ω R²/Γ = (N − 1)/(4π);
   // docs/methods.md §7.1 tolerance 1e-10 (relative, on the angle travelled).
   const N = 5, R = 1.3, Om = (N - 1) / (4 * PI * R * R);
   const r = run(explicit(ngon(N, R)), { duration: 30, sampleInterval: 0.5 });
@@ -83,7 +83,7 @@ function ngonDeviation(frames: SavedFrame[], N: number): number[] {
 }
 
 Deno.test("simulate keeps a perturbed 6-gon bounded and a perturbed 8-gon grows at Havelock's rate", () => {
-  // check-values §1.4: stable for N ≤ 6, unstable for N ≥ 8; N = 8 grows at σ = √32 Γ/(4πR²) (Havelock, Phil.
+  // docs/check-values.md §1.4: stable for N ≤ 6, unstable for N ≥ 8; N = 8 grows at σ = √32 Γ/(4πR²) (Havelock, Phil.
   // Mag. 11, 617 (1931), mode k = N/2). Tolerance "within a few %": 3 %.
   const eps = 1e-9;
   const six = run(explicit(ngon(6, 1, eps, 3)), { duration: 40 * 8 * PI * PI / 5, sampleInterval: 5 }); // 40 periods
@@ -97,7 +97,7 @@ Deno.test("simulate keeps a perturbed 6-gon bounded and a perturbed 8-gon grows 
 });
 
 Deno.test("simulate precesses one vortex in a disk at κ/(2π(R² − r²)) and conserves H and I", () => {
-  // check-values §1.3 (Saffman 1992 §7.3): Ω = Γ/(2π(R² − r²)); docs/methods.md §7.1 tolerance 1e-10.
+  // docs/check-values.md §1.3 (Saffman 1992 §7.3): Ω = Γ/(2π(R² − r²)); docs/methods.md §7.1 tolerance 1e-10.
   const R = 1, r0 = 0.5, Om = 1 / (2 * PI * (R * R - r0 * r0));
   const res = run(explicit([[r0, 0, 1]], { domain: { kind: "disk", radius: R } }), {
     duration: 20,
@@ -108,7 +108,7 @@ Deno.test("simulate precesses one vortex in a disk at κ/(2π(R² − r²)) and 
     assertAbs(th[k], Om * f.t, 1e-10 * Math.max(1, Om * f.t), `angle at ${f.t}`);
     assertAbs(Math.hypot(f.x[0], f.y[0]), r0, 1e-10 * r0, `radius at ${f.t}`);
   });
-  // check-values §1.3: H and I conserved in a disk; H = (Γ²/4π) ln(R² − r²) for one vortex.
+  // docs/check-values.md §1.3: H and I conserved in a disk; H = (Γ²/4π) ln(R² − r²) for one vortex.
   assertRel(
     res.frames[0].diagnostics.hamiltonian,
     Math.log(R * R - r0 * r0) / (4 * PI),
@@ -122,7 +122,7 @@ Deno.test("simulate precesses one vortex in a disk at κ/(2π(R² − r²)) and 
 });
 
 Deno.test("simulate follows the self-similar three-vortex collapse up to 0.99 t_c", () => {
-  // check-values §1.3 (Aref, Phys. Fluids 22, 393 (1979); Kimura 1987 [MEM]): Γ = (2, 2, −1) at (−1, 0),
+  // docs/check-values.md §1.3 (Aref, Phys. Fluids 22, 393 (1979); Kimura 1987 [MEM]): Γ = (2, 2, −1) at (−1, 0),
   // (1, 0), (1, √2): side ratios fixed (r13²/r12² = 3/2, r23²/r12² = 1/2), r12² = 4(1 − t/t_c), t_c = 3√2π.
   // docs/methods.md §7.1: ratios to 1e-8 up to 0.99 t_c.
   const tc = 3 * Math.SQRT2 * PI;
@@ -147,7 +147,7 @@ function driftRun(duration: number) {
 }
 
 Deno.test("simulate conserves H, P and I for 200 random ± vortices (t = 5)", () => {
-  // check-values §1.2 (Kirchhoff; Aref 1983): H, Q, P, I conserved. docs/methods.md §7.1 tolerances: P to roundoff
+  // docs/check-values.md §1.2 (Kirchhoff; Aref 1983): H, Q, P, I conserved. docs/methods.md §7.1 tolerances: P to roundoff
   // (~1e-13·N), I ≤ 10·rtol, H relative drift < 1e-8 (rtol = 1e-10).
   const s = driftRun(5).summary.scalars;
   console.log(
@@ -178,7 +178,7 @@ Deno.test({
 });
 
 Deno.test("simulate translates a ± pair across a periodic box at the Weiss–McWilliams velocity (unwrapped frames)", () => {
-  // check-values §1.5 reference values (Γ = 1, L = 2π, separation (1.0, 0.5)): the pair moves rigidly with
+  // docs/check-values.md §1.5 reference values (Γ = 1, L = 2π, separation (1.0, 0.5)): the pair moves rigidly with
   // (u, v) = (−0.0577718066553, 0.1145789633536). Over t = 200 it crosses the box several times.
   const u = -0.0577718066553, v = 0.1145789633536, T = 200;
   const r = run(explicit([[0, 0, 1], [1, 0.5, -1]], { domain: { kind: "periodic", side: 2 * PI } }), {
@@ -192,14 +192,14 @@ Deno.test("simulate translates a ± pair across a periodic box at the Weiss–Mc
     assertAbs(f.y[1] - f.y[0], 0.5, 1e-11, `Δy at ${f.t}`);
   }
   assert.ok(r.frames.at(-1)!.y[0] > 3 * PI, "the pair left the primary box");
-  // Impulse with unwrapped positions and H are conserved (check-values §1.5).
+  // Impulse with unwrapped positions and H are conserved (docs/check-values.md §1.5).
   assertBelow(r.summary.scalars["drift.impulse"], 1e-12, "drift.impulse");
   assertBelow(r.summary.scalars["drift.hamiltonian"], 1e-12, "drift.hamiltonian");
   assertAbs(r.frames[0].diagnostics.hamiltonian, -(-1) * -0.0458787983, 1e-10, "H = −Γ₁Γ₂ G(1.0, 0.5)");
 });
 
 Deno.test("simulate conserves H and P for a periodic ± cloud", () => {
-  // check-values §1.5: H and (ΣΓx, ΣΓy) with unwrapped positions are conserved in the periodic box.
+  // docs/check-values.md §1.5: H and (ΣΓx, ΣΓy) with unwrapped positions are conserved in the periodic box.
   const r = run(
     {
       domain: { kind: "periodic", side: 10 },
@@ -212,7 +212,7 @@ Deno.test("simulate conserves H and P for a periodic ± cloud", () => {
 });
 
 Deno.test("simulate with friction shrinks a dipole as d² = d₀² − 2ακt/π and moves it (1 − α′)(d₀ − d)/(2α)", () => {
-  // check-values §2, pair with friction [DERIVED there, verified to 1e-9]: d² = d₀² − 2αt/π,
+  // docs/check-values.md §2, pair with friction [DERIVED there, verified to 1e-9]: d² = d₀² − 2αt/π,
   // y_c(t) = (1 − α′)(d₀ − d(t))/(2α).
   const alpha = 0.1, alphaP = 0.05, d0 = 1;
   const r = run(explicit([[-d0 / 2, 0, 1], [d0 / 2, 0, -1]], { friction: { alpha, alphaPrime: alphaP } }), {
@@ -233,7 +233,7 @@ Deno.test("simulate with friction shrinks a dipole as d² = d₀² − 2ακt/π
 });
 
 Deno.test("simulate with friction spreads a co-rotating pair (d² = d₀² + 2ακt/π) with the integrated phase", () => {
-  // check-values §2: d² = d₀² + 2αt/π, Ω = (1 − α′)/(πd²); integrating Ω gives
+  // docs/check-values.md §2: d² = d₀² + 2αt/π, Ω = (1 − α′)/(πd²); integrating Ω gives
   // θ(t) = (1 − α′)/(2α) ln(1 + 2αt/(πd₀²)) (derived here from those two formulas).
   const alpha = 0.05, alphaP = 0.02, d0 = 1;
   const r = run(explicit([[-d0 / 2, 0, 1], [d0 / 2, 0, 1]], { friction: { alpha, alphaPrime: alphaP } }), {
@@ -249,7 +249,7 @@ Deno.test("simulate with friction spreads a co-rotating pair (d² = d₀² + 2α
 });
 
 Deno.test("simulate with friction expands a Thomson 5-gon as R² = R₀² + α(N − 1)κt/(2π)", () => {
-  // check-values §2, Thomson N-gon with friction.
+  // docs/check-values.md §2, Thomson N-gon with friction.
   const alpha = 0.1, N = 5, R0 = 1;
   const r = run(explicit(ngon(N, R0), { friction: { alpha } }), { duration: 10, sampleInterval: 1 });
   for (const f of r.frames) {
@@ -258,7 +258,7 @@ Deno.test("simulate with friction expands a Thomson 5-gon as R² = R₀² + α(N
 });
 
 Deno.test("simulate with friction spirals a disk vortex outward along R² ln(r/r₀) − (r² − r₀²)/2 = αt/(2π)", () => {
-  // check-values §2, single vortex in a disk (implicit solution).
+  // docs/check-values.md §2, single vortex in a disk (implicit solution).
   const alpha = 0.1, R = 1, r0 = 0.3;
   const res = run(explicit([[r0, 0, 1]], { domain: { kind: "disk", radius: R }, friction: { alpha } }), {
     duration: 10,
@@ -272,7 +272,7 @@ Deno.test("simulate with friction spirals a disk vortex outward along R² ln(r/r
 });
 
 Deno.test("simulate annihilates a shrinking dipole when d < d_ann and reports the event", () => {
-  // check-values §2: d² = d₀² − 2αt/π, so d reaches d_ann at t* = π(d₀² − d_ann²)/(2α). The event fires at the
+  // docs/check-values.md §2: d² = d₀² − 2αt/π, so d reaches d_ann at t* = π(d₀² − d_ann²)/(2α). The event fires at the
   // end of the first step past t*; the step cap (0.2 d_min²/κ, docs/methods.md §1.2) bounds the delay.
   const alpha = 0.2, d0 = 1, dAnn = 0.2;
   const r = run(
@@ -310,7 +310,7 @@ Deno.test("simulate annihilates each vortex at most once and independently of li
 });
 
 Deno.test("simulate annihilates a vortex at the disk wall when R − r < d_ann/2", () => {
-  // check-values §2: the vortex spirals out as R² ln(r/r₀) − (r² − r₀²)/2 = αt/(2π); it reaches
+  // docs/check-values.md §2: the vortex spirals out as R² ln(r/r₀) − (r² − r₀²)/2 = αt/(2π); it reaches
   // r* = R − d_ann/2 at t* from that relation (docs/methods.md §1.6 wall rule).
   const alpha = 0.2, R = 1, r0 = 0.5, dAnn = 0.1;
   const res = run(

@@ -5,7 +5,7 @@ import { velocityDisk, velocityUnbounded } from "./velocity.ts";
 
 const TWO_PI = 2 * Math.PI;
 
-/** Straight evaluation of v(r) = Σ_j (Γ_j/2π) ẑ × (r − r_j)/|r − r_j|² (check-values §1.1). */
+/** Straight evaluation of v(r) = Σ_j (Γ_j/2π) ẑ × (r − r_j)/|r − r_j|² (docs/check-values.md §1.1). */
 function directField(
   px: number,
   py: number,
@@ -37,7 +37,7 @@ function randomConfig(n: number, seed: number, radius: number) {
 }
 
 Deno.test("velocityUnbounded moves a dipole perpendicular to its axis at κ/(2πd)", () => {
-  // Saffman, Vortex Dynamics (1992) §7.3; check-values §1.3: U d/Γ = 1/(2π).
+  // Saffman, Vortex Dynamics (1992) §7.3; docs/check-values.md §1.3: U d/Γ = 1/(2π).
   const d = 0.37;
   const x = Float64Array.of(-d / 2, d / 2), y = Float64Array.of(0, 0), g = Float64Array.of(1, -1);
   const u = new Float64Array(2), v = new Float64Array(2);
@@ -50,7 +50,7 @@ Deno.test("velocityUnbounded moves a dipole perpendicular to its axis at κ/(2π
 });
 
 Deno.test("velocityUnbounded agrees with the textbook sum for 50 random vortices and conserves ΣΓ ż", () => {
-  // Velocity law: check-values §1.1 (Saffman 1992 ch. 7). ΣΓ_i ż_i = 0: Aref, Annu. Rev. Fluid Mech. 15 (1983).
+  // Velocity law: docs/check-values.md §1.1 (Saffman 1992 ch. 7). ΣΓ_i ż_i = 0: Aref, Annu. Rev. Fluid Mech. 15 (1983).
   const n = 50;
   const { x, y, g } = randomConfig(n, 1, 5);
   const u = new Float64Array(n), v = new Float64Array(n);
@@ -83,7 +83,7 @@ Deno.test("velocityUnbounded handles zero and one vortex", () => {
 });
 
 Deno.test("velocityDisk precesses a single vortex at κ/(2π(R² − r²))", () => {
-  // check-values §1.3 (Saffman 1992 §7.3, Lamb §155): Ω = Γ/(2π(R² − r²)), in the sense of Γ.
+  // docs/check-values.md §1.3 (Saffman 1992 §7.3, Lamb §155): Ω = Γ/(2π(R² − r²)), in the sense of Γ.
   const R = 2, r = 1.3, th = 0.7;
   for (const gamma of [1, -1]) {
     const x = Float64Array.of(r * Math.cos(th)),

@@ -103,7 +103,7 @@ Deno.test("examples/external-walkers.yaml: the imported tracks give each point's
       }
     }
     // Each walker's displacement over T is exactly N(0, 2D·g(T) I₂) with g(T) = T − τ(1 − e^{−T/τ}) (Uhlenbeck &
-    // Ornstein 1930), independently for all 20 × 20 walkers: 2nD̂/D ~ χ²_{2n} (check-values.md §6.2, Δt → g(T)).
+    // Ornstein 1930), independently for all 20 × 20 walkers: 2nD̂/D ~ χ²_{2n} (docs/check-values.md §6.2, Δt → g(T)).
     const ci = chiSquareDiffusionInterval(sq, { dimension: 2, dt: ouLag(T, TAU) });
     const D = diffusion[p];
     console.log(
@@ -136,7 +136,7 @@ Deno.test("examples/external-walkers.yaml: the MSD fit of the stored series reco
         `(window ${fit95.window!.t1}–${fit95.window!.t2})`,
     );
     // A fixed-seed test of a 95% interval fails one time in twenty by design, and percentile intervals from 20
-    // realisations under-cover (Efron & Tibshirani 1993, ch. 13–14; check-values.md §6.4); the 99.9% interval
+    // realisations under-cover (Efron & Tibshirani 1993, ch. 13–14; docs/check-values.md §6.4); the 99.9% interval
     // makes a spurious failure rare. The 95% intervals are printed for the record.
     assert(
       ci999.lower <= expected && expected <= ci999.upper,

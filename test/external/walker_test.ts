@@ -102,7 +102,7 @@ Deno.test("walker.mjs: displacements give its D, ballistic and diffusive, and th
   assertEquals(data.length, (last + 1) * n);
   // Each walker's displacement from t = 0 is exactly N(0, 2D·g(t) I₂), g(t) = t − τ(1 − e^{−t/τ}) (Uhlenbeck &
   // Ornstein, Phys. Rev. 36, 823 (1930)), and walkers are independent: Σ|Δr|²/(2n g) estimates D with
-  // 2nD̂/D ~ χ²_{2n}, the exact interval of check-values.md §6.2 with Δt replaced by g(t).
+  // 2nD̂/D ~ χ²_{2n}, the exact interval of docs/check-values.md §6.2 with Δt replaced by g(t).
   for (const k of [1, 10, last]) {
     const sq = data.slice(0, n).map((row0, i) => {
       const row = data[k * n + i];

@@ -63,7 +63,7 @@ Deno.test("walkers: long-lag increments give D (Einstein relation with the exact
   const xs = await importAll();
   const { dt, tau, diffusion } = WALKERS;
   // Non-overlapping windows of h = 2 (20 τ). For a stationary OU velocity each component of a displacement over h
-  // has ⟨Δx²⟩ = 2D[h − τ(1 − e^{−h/τ})] (Uhlenbeck & Ornstein, Phys. Rev. 36, 823 (1930); check-values.md §6.1).
+  // has ⟨Δx²⟩ = 2D[h − τ(1 − e^{−h/τ})] (Uhlenbeck & Ornstein, Phys. Rev. 36, 823 (1930); docs/check-values.md §6.1).
   const lag = 20;
   const h = lag * dt;
   let sum = 0;
@@ -78,7 +78,7 @@ Deno.test("walkers: long-lag increments give D (Einstein relation with the exact
     }
   }
   const dHat = sum / (count * 2 * (h - tau * (1 - Math.exp(-h / tau))));
-  // Relative standard deviation √(2/n) for n independent components (χ² statistics, check-values.md §6.2); the
+  // Relative standard deviation √(2/n) for n independent components (χ² statistics, docs/check-values.md §6.2); the
   // windows' velocity correlation (≈ τ/h) barely changes it. 4σ band.
   const rtol = 4 * Math.sqrt(2 / count);
   console.log(
@@ -92,7 +92,7 @@ Deno.test("walkers: the ensemble MSD from t = 0 follows 4D[t − τ(1 − e^{−
   const { walkers, realisations } = WALKERS;
   const n = 2 * walkers * realisations;
   // At each test time the MSD estimate over n independent Gaussian components has relative standard deviation
-  // √(2/n) (check-values.md §6.2); its expectation is the exact OU law (Uhlenbeck & Ornstein 1930). At t = 0.1 = τ
+  // √(2/n) (docs/check-values.md §6.2); its expectation is the exact OU law (Uhlenbeck & Ornstein 1930). At t = 0.1 = τ
   // the walkers are still ballistic: a pure random walk with the same D would give 4Dt, 2.7× more.
   for (const k of [1, 3, 10, 50, WALKERS.times - 1]) {
     let sum = 0;
