@@ -1,8 +1,9 @@
 import { assert, assertEquals } from "../test/_assert.ts";
 import { checkReport } from "./check.ts";
+import { tempDir } from "../test/_tmp.ts";
 
 async function write(text: string): Promise<string> {
-  const dir = await Deno.makeTempDir();
+  const dir = tempDir();
   await Deno.writeTextFile(`${dir}/s.yaml`, text);
   return `${dir}/s.yaml`;
 }

@@ -5,6 +5,7 @@ import { decodeFrame } from "../store/frame_codec.ts";
 import { LABEL_NAMES } from "../engines/observables/labels.ts";
 import { exportProvenance, exportRealisation, type ExportSelection } from "./export.ts";
 import { UserError } from "./errors.ts";
+import { tempDir } from "../test/_tmp.ts";
 
 const STUDY = `
 name: export-small
@@ -22,7 +23,7 @@ run: { duration: 0.3, sampleInterval: 0.1 }
 
 /** A two-point study database (built once per test file). */
 const fixture = (async () => {
-  const dir = await Deno.makeTempDir({ prefix: "spindrift-export-" });
+  const dir = tempDir("spindrift-export-");
   const dbPath = `${dir}/export-small.sqlite`;
   await runForTest(normalizeText(STUDY), dbPath, 2);
   return dbPath;

@@ -5,6 +5,7 @@ import { decodeFrame, encodeFrame } from "../store/frame_codec.ts";
 import { LABEL_NAMES } from "../engines/observables/labels.ts";
 import { registerFrameViews } from "./frame_sql.ts";
 import { runQuery } from "./query.ts";
+import { tempDir } from "../test/_tmp.ts";
 
 const PV = `
 name: sql-2d
@@ -33,7 +34,7 @@ run: { duration: 0.02, sampleInterval: 0.01 }
 `;
 
 const fixture = (async () => {
-  const dir = await Deno.makeTempDir({ prefix: "spindrift-frame-sql-" });
+  const dir = tempDir("spindrift-frame-sql-");
   const pv = `${dir}/sql-2d.sqlite`, ring = `${dir}/sql-3d.sqlite`;
   await runForTest(normalizeText(PV), pv, 2);
   await runForTest(normalizeText(RING), ring, 1);

@@ -3,9 +3,10 @@ import { assert, assertEquals } from "../test/_assert.ts";
 import { StudyStore } from "../store/db.ts";
 import { encodeFrame } from "../store/frame_codec.ts";
 import { buildFieldSnapshotSection } from "./field_snapshots_section.ts";
+import { tempFile } from "../test/_tmp.ts";
 
 function database(withSnapshots: boolean): string {
-  const path = Deno.makeTempFileSync({ suffix: ".sqlite" });
+  const path = tempFile(".sqlite");
   const store = StudyStore.open(path);
   store.recordStudy({
     name: "gp",

@@ -3,6 +3,7 @@ import { assert, assertEquals } from "../test/_assert.ts";
 import { StudyStore } from "./db.ts";
 import { mergeShard } from "./merge.ts";
 import { firstRealisationWithSnapshots, hasTable, readFieldSnapshots } from "./snapshots.ts";
+import { tempDir, tempFile } from "../test/_tmp.ts";
 
 const STUDY_HASH = "ab".repeat(32);
 const POINT = "cd".repeat(32);
@@ -70,7 +71,7 @@ function writeDb(path: string, withSnapshots = true): void {
 }
 
 Deno.test("field snapshots are stored with the realisation and read back exactly (float32)", () => {
-  const path = Deno.makeTempFileSync({ suffix: ".sqlite" });
+  const path = tempFile(".sqlite");
   writeDb(path);
   const db = new DatabaseSync(path, { readOnly: true });
   try {
@@ -86,7 +87,7 @@ Deno.test("field snapshots are stored with the realisation and read back exactly
 });
 
 Deno.test("field snapshots: a database without the table reads as empty", () => {
-  const path = Deno.makeTempFileSync({ suffix: ".sqlite" });
+  const path = tempFile(".sqlite");
   writeDb(path, false);
   const raw = new DatabaseSync(path);
   raw.exec("DROP TABLE field_snapshots");
@@ -97,7 +98,7 @@ Deno.test("field snapshots: a database without the table reads as empty", () => 
 });
 
 Deno.test("mergeShard copies field snapshots with their realisation", async () => {
-  const dir = Deno.makeTempDirSync();
+  const dir = tempDir();
   const shard = `${dir}/shard.sqlite`, main = `${dir}/main.sqlite`;
   writeDb(shard);
   const store = StudyStore.open(main);

@@ -5,10 +5,11 @@ import { normalizeStudy } from "./normalize.ts";
 import { describeFirstRealisation } from "./describe.ts";
 import { formatProblems } from "./problems.ts";
 import { starterEngines, starterStudy } from "./starter.ts";
+import { tempDir } from "../test/_tmp.ts";
 
 Deno.test("starterStudy: every registered engine has a starter that passes what `spindrift check` checks", async () => {
   assertEquals(starterEngines().map((e) => e.id), ENGINES.map((e) => e.id), "an engine without a starter");
-  const dir = await Deno.makeTempDir();
+  const dir = tempDir();
   for (const engine of ENGINES) {
     const file = `${dir}/${engine.id}.yaml`;
     const text = starterStudy(engine, { name: `start-${engine.id}`, file, seed: 4711 });

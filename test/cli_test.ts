@@ -3,7 +3,7 @@ import { DatabaseSync } from "node:sqlite";
 import { assert, assertEquals } from "./_assert.ts";
 import { countWhere, digestResults, loadNormalizedForTest, runForTest } from "./_study.ts";
 import { assertNoStackTrace, cli, runCli } from "./_cli.ts";
-import { tempDir } from "./_tmp.ts";
+import { tempDir, tempFile } from "./_tmp.ts";
 
 Deno.test("cli: --help lists the commands in plain words", async () => {
   const r = await runCli(["--help"]);
@@ -58,7 +58,7 @@ Deno.test("cli: a missing database gets a clear message", async () => {
 });
 
 Deno.test("cli: a file that is not a study database gets a clear message on status, report and query", async () => {
-  const path = Deno.makeTempFileSync({ suffix: ".sqlite" });
+  const path = tempFile(".sqlite");
   try {
     Deno.writeTextFileSync(path, "these are notes, not a database\n");
     for (const args of [["status", path], ["report", path], ["query", path, "SELECT 1"]]) {
@@ -182,7 +182,7 @@ Deno.test("cli: run, status, query and export work together on a small study", a
 });
 
 Deno.test("cli: new writes a starter study that check accepts, and never overwrites by accident", async () => {
-  const dir = Deno.makeTempDirSync();
+  const dir = tempDir();
   const file = `${dir}/ring study.yaml`;
   const made = await runCli(["new", "vortex-filament-3d", file]);
   assertEquals(made.code, 0, made.stderr);
