@@ -41,3 +41,4 @@ export type { Chi2Source } from "./options.ts";
 export type { DiffusionAnalysis } from "./to_store/diffusion.ts";
 export type { VinenAnalysis } from "./to_store/vinen.ts";
 export type { EvaporationAnalysis } from "./to_store/evaporation.ts";
+export { type InvariantsAnalysis, invariantsText } from "./to_store/invariants.ts";
