@@ -37,6 +37,8 @@ export { AnalysisInputError } from "./errors.ts";
 export { type Chi2Estimate, chi2FromDecayStudy } from "./from_store/decay.ts";
 export { readProfileEnsemble } from "./from_store/profiles.ts";
 export { readStoredTracks, type StoredTracks } from "./from_store/tracks.ts";
+export { QUANTITIES, quantitiesFor, type QuantityInfo, readQuantities } from "./from_store/quantities.ts";
+export { subsetDiffusion, type SubsetPoint } from "./subset.ts";
 export type { Chi2Source } from "./options.ts";
 export type { DiffusionAnalysis } from "./to_store/diffusion.ts";
 export type { VinenAnalysis } from "./to_store/vinen.ts";

@@ -55,6 +55,15 @@ export interface RunOptions {
   readonly onNote?: (line: string) => void;
   /** Run even past the pre-flight's hard limits (`preflight.ts`). */
   readonly force?: boolean;
+  /**
+   * Only these realisations of the plan (e.g. `r.index < 8` for a pilot, or the next batch of a sequential
+   * run); the others are neither run nor counted. Default: all.
+   */
+  readonly only?: (r: PlannedRealisation) => boolean;
+  /** Called after each realisation is stored, with its outcome (including the worker's measured `usage`). */
+  readonly onFinished?: (r: PlannedRealisation, outcome: RealisationOutcome) => void;
+  /** Skip the pre-flight (the caller made its own). */
+  readonly skipPreflight?: boolean;
 }
 
 export interface FailureSummary {
@@ -203,9 +212,11 @@ export async function runStudy(study: NormalizedStudy, opts: RunOptions): Promis
   if (!engine) throw new Error(`engine ${study.engine.id} is not registered`);
   // Sizes first, from counts alone: a study too large for the disk or the memory is refused before the
   // database is touched or a plan is built.
-  const verdict = preflight(study, { dbPath: opts.dbPath, workers: opts.workers, force: opts.force });
-  for (const r of verdict.refusals) opts.onNote?.(`warning (run anyway, --force): ${r}`);
-  for (const w of verdict.warnings) opts.onNote?.(`warning: ${w}`);
+  if (!opts.skipPreflight) {
+    const verdict = preflight(study, { dbPath: opts.dbPath, workers: opts.workers, force: opts.force });
+    for (const r of verdict.refusals) opts.onNote?.(`warning (run anyway, --force): ${r}`);
+    for (const w of verdict.warnings) opts.onNote?.(`warning: ${w}`);
+  }
   const store = StudyStore.open(opts.dbPath, { command: "run" });
   try {
     for (const n of store.notes) opts.onNote?.(n);
@@ -214,7 +225,8 @@ export async function runStudy(study: NormalizedStudy, opts: RunOptions): Promis
     for (const c of changes) opts.onNote?.(describeInputChange(c));
     // The lock guarantees no other writer: `running` rows are what a killed run left.
     const discardedUnfinished = store.discardUnfinished();
-    const plan = planStudy(study);
+    const only = opts.only;
+    const plan = only ? planStudy(study).filter((r) => only(r)) : planStudy(study);
     if (opts.fresh) store.deleteRealisations(plan.map((r) => r.key));
     const statuses = store.realisationStatuses();
     const todo = plan.filter((r) => {
@@ -308,8 +320,9 @@ async function runPool(
 ): Promise<PoolResult> {
   opts.progress.start(total, skipped);
   try {
-    const run = storingHooks(store, study, hostName(), (_r, _o, finished) => {
+    const run = storingHooks(store, study, hostName(), (r, outcome, finished) => {
       opts.progress.update(skipped + finished, run.failures.length);
+      opts.onFinished?.(r, outcome);
     });
     const { interrupted } = await runRealisations(study, todo, opts.workers, run.hooks, opts.signal);
     // Finished realisations are committed; the ones in flight are discarded and rerun next time.

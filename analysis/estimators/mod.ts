@@ -35,6 +35,7 @@ export * from "./correlations.ts";
 export * from "./diffusion.ts";
 export * from "./evaporation.ts";
 export * from "./msd_fit.ts";
+export * from "./paired.ts";
 export * from "./seed.ts";
 export * from "./stein.ts";
 export * from "./synthetic.ts";
