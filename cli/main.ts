@@ -37,6 +37,8 @@ import { newStudyCommand } from "./new.ts";
 import { checkReport } from "./check.ts";
 import { statusCommand } from "./status.ts";
 import { describeUnits } from "../study/units.ts";
+import { parseFraction, pilotCommand } from "./credibility.ts";
+import { storedPilotLines } from "../credibility/pilot.ts";
 
 const REPO = new URL("../", import.meta.url);
 /** The bundled demo studies; `decay` is a homogeneous-decay study run first to calibrate χ₂ (Vinen fit). */
@@ -283,6 +285,7 @@ Typical session:
         force: true,
       });
       for (const line of v.lines) out(`  ${line}`);
+      for (const line of storedPilotLines(defaultDbPath(path, study), study.hash)) out(`  ${line}`);
       for (const w of v.warnings) out(`  warning: ${w}`);
       if (v.refusals.length > 0) {
         for (const r of v.refusals) out(`  too large: ${r}`);
@@ -374,6 +377,49 @@ Typical session:
       if (!report.interrupted) {
         out(`next: spindrift analyse ${dbPath}   (D/κ with intervals), then spindrift report ${dbPath}`);
       }
+    });
+
+  program.command("pilot")
+    .description(
+      "run the first few realisations of every parameter point and project the whole study: CPU time, peak " +
+        "memory and database growth per realisation, time with your workers and as a Slurm array, and the " +
+        "95 % half-width of D (only where the pilot shows a diffusive regime), the evaporation count and the " +
+        "other end-of-run results against the number of realisations, with a recommended count",
+    )
+    .argument("<study>", "study file (YAML)")
+    .option("--db <path>", "database file (default: <study name>.sqlite next to the study file)")
+    .addOption(
+      new Option("-n, --realisations <n>", "pilot realisations per point (default 8; the study's first ones)")
+        .argParser(positiveInt("--realisations")),
+    )
+    .addOption(
+      new Option(
+        "-w, --workers <n>",
+        "parallel workers (default: the study's run.workers, else number of cores)",
+      )
+        .argParser(positiveInt("--workers")),
+    )
+    .addOption(
+      new Option(
+        "--target <precision>",
+        "relative 95 % half-width to recommend a realisation count for, e.g. 10% or 0.05 (default 10%)",
+      ).argParser(parseFraction("--target")),
+    )
+    .option("--allow-other-study", "run into a database made for a study of another name", false)
+    .option("-q, --quiet", "no progress output", false)
+    .action(async (path, o) => {
+      const study = await loadNormalized(path);
+      if (o.realisations !== undefined && o.realisations < 2) {
+        throw new UserError("--realisations must be ≥ 2");
+      }
+      Deno.exitCode = await pilotCommand(study, {
+        dbPath: o.db ?? defaultDbPath(path, study),
+        workers: o.workers ?? study.run.workers ?? defaultWorkers(),
+        realisations: o.realisations,
+        target: o.target,
+        allowOtherStudy: o.allowOtherStudy,
+        quiet: o.quiet,
+      }, out);
     });
 
   program.command("collect")
