@@ -5,6 +5,7 @@
 import type { NormalizedStudy } from "../study/normalize.ts";
 import { createProgress } from "../study/progress.ts";
 import { formatPilot, runPilot } from "../credibility/pilot.ts";
+import { formatSequential, parseUntil, runUntilPrecise } from "../credibility/sequential.ts";
 import { provenance } from "./provenance.ts";
 import { SIGNAL_EXIT, withStopSignals } from "./signals.ts";
 import { UserError } from "./errors.ts";
@@ -58,4 +59,71 @@ export async function pilotCommand(
   for (const line of formatPilot(value.estimate)) out(line);
   out(`stored in ensemble_results (analysis 'pilot') of ${o.dbPath}; 'spindrift check' shows it again`);
   return value.estimate.points.some((p) => p.failed > 0) ? 1 : 0;
+}
+
+export interface UntilCommandOptions {
+  readonly dbPath: string;
+  readonly workers: number;
+  readonly until: string;
+  readonly cap?: number;
+  readonly batch?: number;
+  readonly fresh: boolean;
+  readonly keepFailed: boolean;
+  readonly quiet: boolean;
+  readonly allowOtherStudy?: boolean;
+  readonly force?: boolean;
+}
+
+/** `run --until`: Stein's two-stage run with Ctrl-C handling; returns the exit status. */
+export async function untilCommand(
+  study: NormalizedStudy,
+  o: UntilCommandOptions,
+  out: (line: string) => void,
+): Promise<number> {
+  let until;
+  try {
+    until = parseUntil(o.until);
+  } catch (e) {
+    throw new UserError((e as Error).message);
+  }
+  if (study.realisations < 2) {
+    throw new UserError(
+      `--until needs a first stage of at least 2 realisations per point; the study has ${study.realisations}`,
+      "set realisations (the first stage) to 10 or more in the study file",
+    );
+  }
+  if (o.cap !== undefined && o.cap < study.realisations) {
+    throw new UserError(
+      `--max-realisations ${o.cap} is below the study's ${study.realisations} realisations (the first stage)`,
+    );
+  }
+  const { value, stoppedBy } = await withStopSignals((signal) =>
+    runUntilPrecise(study, until, {
+      dbPath: o.dbPath,
+      workers: o.workers,
+      cap: o.cap,
+      batch: o.batch,
+      fresh: o.fresh,
+      keepFailed: o.keepFailed,
+      allowOtherStudy: o.allowOtherStudy,
+      force: o.force,
+      progress: createProgress({ quiet: o.quiet }),
+      provenance: provenance(),
+      signal,
+      onNote: (line) => console.error(`spindrift: ${line}`),
+      onBatch: (line) => console.error(line),
+    })
+  );
+  if (value.interrupted) {
+    out(
+      "interrupted: finished realisations are stored; run the same command again to resume (the first stage " +
+        "decides the same total)",
+    );
+    return SIGNAL_EXIT[stoppedBy ?? "SIGINT"];
+  }
+  for (const line of formatSequential(value)) out(line);
+  out(`database: ${o.dbPath}`);
+  out(`next: spindrift analyse ${o.dbPath}`);
+  const failed = value.stage1.failed + (value.stage2?.failed ?? 0);
+  return failed > 0 ? 1 : 0;
 }

@@ -37,7 +37,7 @@ import { newStudyCommand } from "./new.ts";
 import { checkReport } from "./check.ts";
 import { statusCommand } from "./status.ts";
 import { describeUnits } from "../study/units.ts";
-import { parseFraction, pilotCommand } from "./credibility.ts";
+import { parseFraction, pilotCommand, untilCommand } from "./credibility.ts";
 import { storedPilotLines } from "../credibility/pilot.ts";
 
 const REPO = new URL("../", import.meta.url);
@@ -318,6 +318,27 @@ Typical session:
     )
     .option("-q, --quiet", "no progress output", false)
     .option("--force", "run even when the pre-flight estimate exceeds the free disk space or memory", false)
+    .option(
+      "--until <result=target>",
+      "after the study's realisations (the first stage), add realisations until RESULT's 95 % interval has " +
+        "the half-width TARGET: D, evaporated, cluster_radius, vortex_count, line_length, centre_speed, " +
+        "msd_final or scalar:<name>, e.g. evaporated=10% or D=0.02 (Stein's two-stage rule: the total is " +
+        "fixed by the first stage)",
+    )
+    .addOption(
+      new Option(
+        "--max-realisations <n>",
+        "with --until: most realisations per point (default max(100, 10 × the study's))",
+      )
+        .argParser(positiveInt("--max-realisations")),
+    )
+    .addOption(
+      new Option(
+        "--batch <n>",
+        "with --until: realisations added per point between progress lines (default: the study's)",
+      )
+        .argParser(positiveInt("--batch")),
+    )
     .option("--cluster", "submit a Slurm job array on the cluster instead of running on this machine")
     .addOption(new Option("--executor <where>", "deprecated: --executor slurm is --cluster").hideHelp())
     .optionsGroup("Cluster options (with --cluster; see README, 'Running on a cluster'):")
@@ -356,6 +377,13 @@ Typical session:
       const dbPath = o.db ?? defaultDbPath(path, study);
       if (!o.quiet) { for (const line of describeUnits(study).lines) out(line); }
       if (cluster.checkExecutorOptions(o, (l) => console.error(`spindrift: ${l}`)) === "slurm") {
+        if (o.until !== undefined) {
+          throw new UserError(
+            "--until runs on this machine only (its second stage depends on the first one's results)",
+            "run the first stage with --cluster, collect it, then run --until here, or use 'spindrift pilot' to " +
+              "choose the realisations before submitting",
+          );
+        }
         // The login node plans the study and the database collects it: check the sizes here too.
         for (const w of preflight(study, { dbPath, workers: 1, force: o.force }).warnings) {
           console.error(`spindrift: warning: ${w}`);
@@ -363,6 +391,24 @@ Typical session:
         const flags = { ...o, dbPath, extraLines: o.sbatchLine, launcher: LAUNCHER };
         Deno.exitCode = await cluster.clusterRunCommand(study, flags, clusterEnv());
         return;
+      }
+      if (o.until !== undefined) {
+        Deno.exitCode = await untilCommand(study, {
+          dbPath,
+          workers: o.workers ?? study.run.workers ?? defaultWorkers(),
+          until: o.until,
+          cap: o.maxRealisations,
+          batch: o.batch,
+          fresh: o.fresh,
+          keepFailed: o.keepFailed,
+          quiet: o.quiet,
+          allowOtherStudy: o.allowOtherStudy,
+          force: o.force,
+        }, out);
+        return;
+      }
+      if (o.maxRealisations !== undefined || o.batch !== undefined) {
+        throw new UserError("--max-realisations and --batch go with --until");
       }
       const { report, exitCode } = await runWithSignals(study, dbPath, {
         workers: o.workers ?? study.run.workers ?? defaultWorkers(),

@@ -169,20 +169,7 @@ export function normalizeStudy(study: StudyFile, opts: NormalizeOptions): Normal
 
   const seed = typeof study.seed === "number" ? String(study.seed) : study.seed;
   const description = study.description.trim();
-  const hash = contentHash("spindrift-study-v1", {
-    name: study.name,
-    description,
-    engine: engineRef,
-    realisations: study.realisations,
-    seed,
-    run: hashedRun,
-    observables,
-    points: points
-      .map((p) => ({ pointHash: p.pointHash, varied: p.varied }))
-      .sort((a, b) => (a.pointHash < b.pointHash ? -1 : a.pointHash > b.pointHash ? 1 : 0)),
-  });
-
-  return {
+  const hashed = {
     name: study.name,
     description,
     engine: engineRef,
@@ -191,8 +178,38 @@ export function normalizeStudy(study: StudyFile, opts: NormalizeOptions): Normal
     run,
     observables,
     points,
-    hash,
-    text: opts.text,
-    sourcePath: opts.sourcePath,
   };
+  return { ...hashed, hash: studyHash(hashed), text: opts.text, sourcePath: opts.sourcePath };
+}
+
+/** The study's content hash (see the module comment) from its normalized fields. */
+function studyHash(s: Omit<NormalizedStudy, "hash" | "text" | "sourcePath">): string {
+  return contentHash("spindrift-study-v1", {
+    name: s.name,
+    description: s.description,
+    engine: s.engine,
+    realisations: s.realisations,
+    seed: s.seed,
+    run: {
+      duration: s.run.duration,
+      sampleInterval: s.run.sampleInterval,
+      tolerance: s.run.tolerance,
+      maxDistance: s.run.maxDistance,
+    },
+    observables: s.observables,
+    points: s.points
+      .map((p) => ({ pointHash: p.pointHash, varied: p.varied }))
+      .sort((a, b) => (a.pointHash < b.pointHash ? -1 : a.pointHash > b.pointHash ? 1 : 0)),
+  });
+}
+
+/**
+ * The same study with `realisations` per point (a new revision with its own hash; point hashes, seeds and
+ * realisation keys are unchanged, so the first realisations are shared): what `run --until` records when it
+ * extends a study.
+ */
+export function withRealisations(study: NormalizedStudy, realisations: number): NormalizedStudy {
+  const { hash: _hash, ...rest } = study;
+  const next = { ...rest, realisations };
+  return { ...next, hash: studyHash(next) };
 }

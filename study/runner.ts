@@ -64,6 +64,8 @@ export interface RunOptions {
   readonly onFinished?: (r: PlannedRealisation, outcome: RealisationOutcome) => void;
   /** Skip the pre-flight (the caller made its own). */
   readonly skipPreflight?: boolean;
+  /** Notes recorded with the study revision (e.g. how `run --until` extended it), beside the skipped observables. */
+  readonly notes?: readonly { readonly kind: string; readonly id: string; readonly reason: string }[];
 }
 
 export interface FailureSummary {
@@ -167,7 +169,10 @@ export function recordStudy(
   store: StudyStore,
   study: NormalizedStudy,
   provenance: Provenance,
-  opts: { readonly allowOtherStudy?: boolean } = {},
+  opts: {
+    readonly allowOtherStudy?: boolean;
+    readonly notes?: readonly { readonly kind: string; readonly id: string; readonly reason: string }[];
+  } = {},
 ): number {
   const engine = findEngine(study.engine.id);
   const skipped = engine ? applicableObservables(study.observables.record, engine.capabilities).skipped : [];
@@ -186,7 +191,10 @@ export function recordStudy(
       toolVersion: provenance.toolVersion,
       denoVersion: provenance.denoVersion,
       gitCommit: provenance.gitCommit,
-      notes: skipped.map((s) => ({ kind: "observable-skipped", id: s.id, reason: s.reason })),
+      notes: [
+        ...skipped.map((s) => ({ kind: "observable-skipped", id: s.id, reason: s.reason })),
+        ...(opts.notes ?? []),
+      ],
       units:
         (study.points.length > 0 ? engine?.scales?.(study.points[0].params as never)?.units : undefined) ??
           engine?.capabilities.units,
@@ -220,7 +228,10 @@ export async function runStudy(study: NormalizedStudy, opts: RunOptions): Promis
   const store = StudyStore.open(opts.dbPath, { command: "run" });
   try {
     for (const n of store.notes) opts.onNote?.(n);
-    const studyId = recordStudy(store, study, opts.provenance, { allowOtherStudy: opts.allowOtherStudy });
+    const studyId = recordStudy(store, study, opts.provenance, {
+      allowOtherStudy: opts.allowOtherStudy,
+      notes: opts.notes,
+    });
     const changes = inputChanges(store, study);
     for (const c of changes) opts.onNote?.(describeInputChange(c));
     // The lock guarantees no other writer: `running` rows are what a killed run left.

@@ -95,7 +95,14 @@ export function checkInvariants(
       `${i.quantity}: ${i.flagged.length} of ${i.checked} realisations drift by more than ${i.threshold}`
     ).join("; ");
   } else if (status === "not-conserved") {
-    reason = check.notConserved.map((n) => `${n.quantity} is not conserved: ${n.reason}`).join("; ");
+    const byReason = new Map<string, string[]>();
+    for (const n of check.notConserved) {
+      byReason.set(n.reason, [...(byReason.get(n.reason) ?? []), n.quantity]);
+    }
+    reason = [...byReason].map(([why, qs]) =>
+      `${qs.join(", ")} ${qs.length === 1 ? "is" : "are"} not conserved: ${why}`
+    )
+      .join("; ");
   } else if (status === "not-available") {
     reason = invariants.length > 0
       ? "no realisation recorded a drift that can be checked" +
