@@ -6,6 +6,7 @@ import type { NormalizedStudy } from "../study/normalize.ts";
 import { createProgress } from "../study/progress.ts";
 import { formatPilot, runPilot } from "../credibility/pilot.ts";
 import { formatSequential, parseUntil, runUntilPrecise } from "../credibility/sequential.ts";
+import { AuditError, formatAudit, runAudit } from "../credibility/audit.ts";
 import { provenance } from "./provenance.ts";
 import { SIGNAL_EXIT, withStopSignals } from "./signals.ts";
 import { UserError } from "./errors.ts";
@@ -126,4 +127,61 @@ export async function untilCommand(
   out(`next: spindrift analyse ${o.dbPath}`);
   const failed = value.stage1.failed + (value.stage2?.failed ?? 0);
   return failed > 0 ? 1 : 0;
+}
+
+export interface AuditCommandOptions {
+  readonly pass: "numerics" | "physics" | "both";
+  readonly subset?: number;
+  readonly budget?: number;
+  readonly minPairs?: number;
+  readonly accept?: number;
+  readonly auditDb?: string;
+  readonly workers: number;
+  readonly study?: number;
+  readonly quiet: boolean;
+}
+
+/** `spindrift audit`: reruns with refined numerics (and/or varied physics), compares, stores; exit status. */
+export async function auditCommand(
+  dbPath: string,
+  o: AuditCommandOptions,
+  out: (line: string) => void,
+): Promise<number> {
+  if (/\.ya?ml$/i.test(dbPath)) {
+    throw new UserError(
+      `${dbPath} is a study file; the audit reruns part of a finished study from its database`,
+      "give the database, e.g. spindrift audit my-study.sqlite (run the study first)",
+    );
+  }
+  const passes = o.pass === "both" ? ["numerics", "physics"] as const : [o.pass];
+  try {
+    const { value, stoppedBy } = await withStopSignals((signal) =>
+      runAudit(dbPath, {
+        studyId: o.study,
+        passes,
+        subset: o.subset,
+        budget: o.budget,
+        minPairs: o.minPairs,
+        accept: o.accept,
+        auditDb: o.auditDb,
+        workers: o.workers,
+        provenance: provenance(),
+        progress: createProgress({ quiet: o.quiet }),
+        signal,
+        onNote: (line) => console.error(`spindrift: ${line}`),
+      })
+    );
+    if (value.interrupted) {
+      out("interrupted: finished audit realisations are stored; run the same command again to resume");
+      return SIGNAL_EXIT[stoppedBy ?? "SIGINT"];
+    }
+    for (const line of formatAudit(value)) out(line);
+    out(
+      `stored in ensemble_results (analysis 'audit') of ${dbPath}; the report shows it under "Numerical credibility"`,
+    );
+    return 0;
+  } catch (e) {
+    if (e instanceof AuditError) throw new UserError(e.message, e.hint);
+    throw e;
+  }
 }

@@ -37,7 +37,7 @@ import { newStudyCommand } from "./new.ts";
 import { checkReport } from "./check.ts";
 import { statusCommand } from "./status.ts";
 import { describeUnits } from "../study/units.ts";
-import { parseFraction, pilotCommand, untilCommand } from "./credibility.ts";
+import { auditCommand, parseFraction, pilotCommand, untilCommand } from "./credibility.ts";
 import { storedPilotLines } from "../credibility/pilot.ts";
 
 const REPO = new URL("../", import.meta.url);
@@ -553,6 +553,70 @@ Typical session:
       const { lines, errors } = await analyseCommand(dbPath, o);
       for (const line of lines) out(line);
       if (errors.length > 0) Deno.exitCode = 1;
+    });
+
+  program.command("audit")
+    .description(
+      "would the answer move with finer numerics? rerun a subset of each point's realisations with the same " +
+        "seeds and refined numerics (2D: tolerance ÷10, step cap at its default or ÷10; 3D: spacing δ/2, " +
+        "time-step factor ÷2, opening angle ÷2; GP: grid spacing and time step ÷2), or with the annihilation " +
+        "(3D: reconnection) distance ×½ and ×2 (--pass physics); store them in <database>-audit.sqlite and " +
+        "report paired differences, flagging 'numerics not converged'",
+    )
+    .argument("<database>", "study database written by 'spindrift run'")
+    .addOption(
+      new Option("--pass <pass>", "numerics (default), physics, or both").choices([
+        "numerics",
+        "physics",
+        "both",
+      ])
+        .default("numerics"),
+    )
+    .addOption(
+      new Option(
+        "--subset <n>",
+        "realisations per point to rerun (default: what the budget allows, ≥ --min-pairs)",
+      )
+        .argParser(positiveInt("--subset")),
+    )
+    .addOption(
+      new Option("--budget <share>", "share of the study's compute the audit may use per pass (default 25%)")
+        .argParser(parseFraction("--budget")),
+    )
+    .addOption(
+      new Option("--min-pairs <n>", "fewest pairs per point whatever the budget (default 4)").argParser(
+        positiveInt("--min-pairs"),
+      ),
+    )
+    .addOption(
+      new Option(
+        "--accept <fraction>",
+        "relative shifts below this are accepted whatever the statistics (default 1%)",
+      ).argParser(parseFraction("--accept")),
+    )
+    .option("--audit-db <path>", "database for the reruns (default: <database>-audit.sqlite beside it)")
+    .addOption(
+      new Option("-w, --workers <n>", "parallel workers (default: number of cores)").argParser(
+        positiveInt("--workers"),
+      ),
+    )
+    .addOption(
+      new Option("--study <id>", "study revision id (default: the latest)").argParser(positiveInt("--study")),
+    )
+    .option("-q, --quiet", "no progress output", false)
+    .action(async (dbPath, o) => {
+      if (!/\.ya?ml$/i.test(dbPath)) openReadOnly(dbPath).close();
+      Deno.exitCode = await auditCommand(dbPath, {
+        pass: o.pass as "numerics" | "physics" | "both",
+        subset: o.subset,
+        budget: o.budget,
+        minPairs: o.minPairs,
+        accept: o.accept,
+        auditDb: o.auditDb,
+        workers: o.workers ?? defaultWorkers(),
+        study: o.study,
+        quiet: o.quiet,
+      }, out);
     });
 
   program.command("compare")

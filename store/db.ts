@@ -438,6 +438,11 @@ export class StudyStore {
     return rows.map((r) => JSON.parse(r.inputs_json));
   }
 
+  /** Sets a `meta` entry (e.g. a numerical audit's plan in its own database). */
+  setMeta(key: string, value: string): void {
+    this.db.prepare("INSERT OR REPLACE INTO meta (key, value) VALUES (?, ?)").run(key, value);
+  }
+
   /** Status of every stored realisation by key (for resume). */
   realisationStatuses(): Map<string, RealisationStatus> {
     const rows = this.db.prepare("SELECT realisation_key AS key, status FROM realisations").all() as {

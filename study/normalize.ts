@@ -122,12 +122,6 @@ export function normalizeStudy(study: StudyFile, opts: NormalizeOptions): Normal
     ...(study.run.workers !== undefined ? { workers: study.run.workers } : {}),
     ...(study.run.cluster !== undefined ? { cluster: study.run.cluster } : {}),
   };
-  const hashedRun = {
-    duration: run.duration,
-    sampleInterval: run.sampleInterval,
-    tolerance: run.tolerance,
-    maxDistance: run.maxDistance,
-  };
   const record = OBSERVABLE_IDS.filter((id) => study.observables.record.includes(id));
   const profile = study.observables.profile;
   const customProfile = profile !== undefined &&
@@ -155,14 +149,7 @@ export function normalizeStudy(study: StudyFile, opts: NormalizeOptions): Normal
       label: pointLabel(setting.varied),
       varied: setting.varied,
       params,
-      paramsHash: contentHash("spindrift-params-v1", { engine: engine.id, params }),
-      pointHash: contentHash("spindrift-point-v1", {
-        engine: engineRef,
-        params,
-        run: hashedRun,
-        observables,
-        ...(files.length > 0 ? { inputs } : {}),
-      }),
+      ...pointIdentity({ engine: engineRef, params, run, observables, inputs: files.length > 0 ? inputs : null }),
       inputs,
     };
   });
@@ -182,8 +169,36 @@ export function normalizeStudy(study: StudyFile, opts: NormalizeOptions): Normal
   return { ...hashed, hash: studyHash(hashed), text: opts.text, sourcePath: opts.sourcePath };
 }
 
+/**
+ * `paramsHash` and `pointHash` of a parameter point (see the module comment); `inputs` only for engines that
+ * read files. Also used for the refined copies of points a numerical audit runs.
+ */
+export function pointIdentity(p: {
+  readonly engine: { readonly id: string; readonly version: string };
+  readonly params: unknown;
+  readonly run: NormalizedRun;
+  readonly observables: NormalizedStudy["observables"];
+  readonly inputs: Readonly<Record<string, string>> | null;
+}): { paramsHash: string; pointHash: string } {
+  return {
+    paramsHash: contentHash("spindrift-params-v1", { engine: p.engine.id, params: p.params }),
+    pointHash: contentHash("spindrift-point-v1", {
+      engine: p.engine,
+      params: p.params,
+      run: {
+        duration: p.run.duration,
+        sampleInterval: p.run.sampleInterval,
+        tolerance: p.run.tolerance,
+        maxDistance: p.run.maxDistance,
+      },
+      observables: p.observables,
+      ...(p.inputs !== null ? { inputs: p.inputs } : {}),
+    }),
+  };
+}
+
 /** The study's content hash (see the module comment) from its normalized fields. */
-function studyHash(s: Omit<NormalizedStudy, "hash" | "text" | "sourcePath">): string {
+export function studyHash(s: Omit<NormalizedStudy, "hash" | "text" | "sourcePath">): string {
   return contentHash("spindrift-study-v1", {
     name: s.name,
     description: s.description,
