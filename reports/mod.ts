@@ -19,6 +19,7 @@ import { readEnsembleResults } from "../store/ensemble.ts";
 import { aggregateStudy } from "./aggregate.ts";
 import { buildAnalysisSection } from "./analysis_section.ts";
 import { buildFieldSnapshotSection, FIELD_SNAPSHOT_STYLE } from "./field_snapshots_section.ts";
+import { buildCredibilitySection, CREDIBILITY_STYLE } from "./credibility_section.ts";
 import { type PagePart, type RenderedChart, renderReportHtml } from "./html.ts";
 import { compileChart, readVegaRuntime, renderSvg } from "./render.ts";
 import { buildCharts, CHART_SERIES, type ChartOptions, type ChartSpec } from "./specs.ts";
@@ -83,10 +84,23 @@ export async function writeReport(
     }
     svgCharts = [...charts, ...(analysis ?? []).flatMap((p) => ("rendered" in p ? [p.rendered] : []))];
     const condensate = buildFieldSnapshotSection(db, agg.study.id, units?.length);
+    const credibility = buildCredibilitySection(
+      db,
+      agg.study.id,
+      new Map(agg.points.map((p) => [p.point.pointHash, p.point.label])),
+    );
     page = renderReportHtml({
-      sections: condensate === ""
-        ? []
-        : [{ id: "condensate", title: "Condensate", html: condensate, style: FIELD_SNAPSHOT_STYLE }],
+      sections: [
+        ...(condensate === ""
+          ? []
+          : [{ id: "condensate", title: "Condensate", html: condensate, style: FIELD_SNAPSHOT_STYLE }]),
+        ...(credibility === "" ? [] : [{
+          id: "credibility",
+          title: "Numerical credibility",
+          html: credibility,
+          style: CREDIBILITY_STYLE,
+        }]),
+      ],
       analysis,
       headline,
       analysisProvenance,
