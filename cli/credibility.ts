@@ -6,7 +6,7 @@ import type { NormalizedStudy } from "../study/normalize.ts";
 import { createProgress } from "../study/progress.ts";
 import { formatPilot, runPilot } from "../credibility/pilot.ts";
 import { formatSequential, parseUntil, runUntilPrecise } from "../credibility/sequential.ts";
-import { AuditError, formatAudit, runAudit } from "../credibility/audit.ts";
+import { AuditError, type AuditOptions, formatAudit, runAudit } from "../credibility/audit.ts";
 import { provenance } from "./provenance.ts";
 import { SIGNAL_EXIT, withStopSignals } from "./signals.ts";
 import { UserError } from "./errors.ts";
@@ -38,6 +38,12 @@ export async function pilotCommand(
   o: PilotCommandOptions,
   out: (line: string) => void,
 ): Promise<number> {
+  if (Math.min(o.realisations ?? 8, study.realisations) < 2) {
+    throw new UserError(
+      `a pilot needs at least 2 realisations per point; the study has ${study.realisations}`,
+      "raise realisations in the study file (the pilot runs the study's first ones)",
+    );
+  }
   const { value, stoppedBy } = await withStopSignals((signal) =>
     runPilot(study, {
       dbPath: o.dbPath,
@@ -129,17 +135,10 @@ export async function untilCommand(
   return failed > 0 ? 1 : 0;
 }
 
-export interface AuditCommandOptions {
-  readonly pass: "numerics" | "physics" | "both";
-  readonly subset?: number;
-  readonly budget?: number;
-  readonly minPairs?: number;
-  readonly accept?: number;
-  readonly auditDb?: string;
-  readonly workers: number;
-  readonly study?: number;
-  readonly quiet: boolean;
-}
+/** The command line's audit options: the library's, with the pass as one word and the study revision. */
+export type AuditCommandOptions =
+  & Pick<AuditOptions, "subset" | "budget" | "minPairs" | "accept" | "auditDb" | "workers">
+  & { readonly pass: "numerics" | "physics" | "both"; readonly study?: number; readonly quiet: boolean };
 
 /** `spindrift audit`: reruns with refined numerics (and/or varied physics), compares, stores; exit status. */
 export async function auditCommand(

@@ -25,8 +25,8 @@ import { findEngine } from "../engines/registry.ts";
 import type { NormalizedStudy } from "../study/normalize.ts";
 import type { PlannedRealisation } from "../study/plan.ts";
 import { estimateStudy, formatBytes } from "../study/preflight.ts";
-import type { Progress } from "../study/progress.ts";
-import { type Provenance, runStudy } from "../study/runner.ts";
+import { runStudy } from "../study/runner.ts";
+import { type RunContext, runContext } from "./_run.ts";
 import { StudyStore } from "../store/db.ts";
 import type { RealisationOutcome, ResourceUsage } from "../store/db.ts";
 import { type EnsembleResultInput, readEnsembleResults, replaceEnsembleResults } from "../store/ensemble.ts";
@@ -34,21 +34,13 @@ import { openStoreReadOnly, readRealisations, readStudyPoints } from "../store/r
 import { type Projection, projectionSizes, projectSpread } from "./projection.ts";
 import { formatDuration, slurmMemory, slurmTime } from "./_format.ts";
 
-export interface PilotOptions {
-  readonly dbPath: string;
-  /** Workers of the pilot run, and of the projection for this machine. */
-  readonly workers: number;
+export interface PilotOptions extends RunContext {
   /** Realisations per point (default: 8, at most the study's count). */
   readonly realisations?: number;
   /** Target relative half-width of the 95 % interval for the recommendation (default 0.1). */
   readonly target?: number;
   /** Cores of this machine (default navigator.hardwareConcurrency). */
   readonly cores?: number;
-  readonly progress: Progress;
-  readonly provenance: Provenance;
-  readonly signal?: AbortSignal;
-  readonly onNote?: (line: string) => void;
-  readonly allowOtherStudy?: boolean;
   /** Bootstrap replicates for the pilot's D (default 1000). */
   readonly replicates?: number;
 }
@@ -98,8 +90,13 @@ export interface PilotEstimate {
     readonly remaining: number;
     /** CPU time of the remaining realisations (s). */
     readonly cpuSeconds: number;
-    /** Wall time with `workers` workers on this machine (s): CPU / min(workers, cores). */
+    /**
+     * Wall time with `workers` workers on this machine (s): the pilot's mean wall time per realisation (measured
+     * with the same workers, so under the machine's present load) × realisations / workers.
+     */
     readonly wallSeconds: number;
+    /** The same on an otherwise idle machine: CPU time / min(workers, cores). */
+    readonly idleWallSeconds: number;
     /** Longest pilot realisation (s CPU): the tail of a parallel run, and the Slurm task length. */
     readonly longestSeconds: number;
     readonly databaseBytes: number;
@@ -161,13 +158,7 @@ export async function runPilot(study: NormalizedStudy, opts: PilotOptions): Prom
   const usage = new Map<string, ResourceUsage>();
   const before = fileBytes(opts.dbPath);
   const report = await runStudy(study, {
-    dbPath: opts.dbPath,
-    workers: opts.workers,
-    progress: opts.progress,
-    provenance: opts.provenance,
-    signal: opts.signal,
-    onNote: opts.onNote,
-    allowOtherStudy: opts.allowOtherStudy,
+    ...runContext(opts),
     skipPreflight: true,
     only: (r: PlannedRealisation) => r.index < n,
     onFinished: (r: PlannedRealisation, o: RealisationOutcome) => {
@@ -369,11 +360,13 @@ function projectTotals(
   earlier: Map<string, Record<string, unknown>> | null,
   notes: string[],
 ): PilotEstimate["totals"] {
-  let cpu = 0, remaining = 0, longest = 0, peak = 0;
+  let cpu = 0, wall = 0, remaining = 0, longest = 0, peak = 0;
   for (const p of points) {
     const c = mean(p.cpuSeconds.filter(Number.isFinite));
+    const w = mean(p.wallSeconds.filter(Number.isFinite));
     remaining += p.remaining;
     if (Number.isFinite(c)) cpu += c * p.remaining;
+    wall += (Number.isFinite(w) ? w : c) * p.remaining;
     for (const x of p.cpuSeconds) if (x > longest) longest = x;
     for (const x of p.peakBytes) if (x > peak) peak = x;
   }
@@ -400,7 +393,8 @@ function projectTotals(
   return {
     remaining,
     cpuSeconds: cpu,
-    wallSeconds: cpu / parallel,
+    wallSeconds: wall / Math.max(1, m.workers),
+    idleWallSeconds: cpu / parallel,
     longestSeconds: longest,
     databaseBytes: perReal * remaining,
     databaseBytesPerRealisation: perReal,
@@ -486,7 +480,9 @@ export function pilotRows(e: PilotEstimate): EnsembleResultInput[] {
       name: "projection",
       value: e.totals.wallSeconds,
       detail: {
-        definition: "projected wall time (s) of the rest of the study with the given workers on this machine",
+        definition:
+          "projected wall time (s) of the rest of the study with the given workers on this machine, " +
+          "at the load the pilot ran under (totals.idleWallSeconds: on an idle machine)",
         workers: e.workers,
         cores: e.cores,
         pilotSize: e.pilotSize,
@@ -549,9 +545,9 @@ export function formatPilot(e: PilotEstimate): string[] {
   lines.push(
     `  this machine: ${formatDuration(t.cpuSeconds)} of CPU for the rest; with ${e.workers} worker${
       e.workers === 1 ? "" : "s"
-    } (${e.cores} cores) about ${formatDuration(t.wallSeconds)}, plus up to ${
-      formatDuration(t.longestSeconds)
-    } for the last realisation`,
+    } (${e.cores} cores) about ${formatDuration(t.wallSeconds)} at the present load (${
+      formatDuration(t.idleWallSeconds)
+    } on an idle machine), plus up to ${formatDuration(t.longestSeconds)} for the last realisation`,
   );
   lines.push(
     `  Slurm array: ${t.slurm.tasks} tasks of one realisation, ${fmt(t.slurm.coreHours)} core-hours; ` +

@@ -23,8 +23,8 @@ import { QUANTITIES, readQuantities, subsetDiffusion } from "../analysis/mod.ts"
 import { meanAndSd, steinInterval, type SteinPlan, steinSampleSize } from "../analysis/estimators/mod.ts";
 import { findEngine } from "../engines/registry.ts";
 import { type NormalizedStudy, withRealisations } from "../study/normalize.ts";
-import type { Progress } from "../study/progress.ts";
-import { type Provenance, type RunReport, runStudy } from "../study/runner.ts";
+import { type RunReport, runStudy } from "../study/runner.ts";
+import { type RunContext, runContext } from "./_run.ts";
 import { StudyStore } from "../store/db.ts";
 import { type EnsembleResultInput, replaceEnsembleResults } from "../store/ensemble.ts";
 import { openStoreReadOnly, readRealisations } from "../store/reads.ts";
@@ -59,20 +59,13 @@ export function parseUntil(text: string): UntilTarget {
   return { result, target: x, relative: pct === "%" };
 }
 
-export interface SequentialOptions {
-  readonly dbPath: string;
-  readonly workers: number;
+export interface SequentialOptions extends RunContext {
   /** Most realisations per point (default max(100, 10·n₀)). */
   readonly cap?: number;
   /** Realisations added per point between progress reports (default n₀). */
   readonly batch?: number;
-  readonly progress: Progress;
-  readonly provenance: Provenance;
-  readonly signal?: AbortSignal;
-  readonly onNote?: (line: string) => void;
   /** Progress lines between batches. */
   readonly onBatch?: (line: string) => void;
-  readonly allowOtherStudy?: boolean;
   readonly force?: boolean;
   readonly keepFailed?: boolean;
   readonly fresh?: boolean;
@@ -184,13 +177,7 @@ export async function runUntilPrecise(
   const batch = Math.max(1, opts.batch ?? n0);
   const replicates = opts.replicates ?? 2000;
   const base = {
-    dbPath: opts.dbPath,
-    workers: opts.workers,
-    progress: opts.progress,
-    provenance: opts.provenance,
-    signal: opts.signal,
-    onNote: opts.onNote,
-    allowOtherStudy: opts.allowOtherStudy,
+    ...runContext(opts),
     force: opts.force,
     keepFailed: opts.keepFailed,
   };

@@ -35,6 +35,7 @@
  * ```
  */
 import { studentTQuantile } from "./_jstat.ts";
+export { meanAndSd } from "./bootstrap.ts";
 
 /** What the first stage decided. */
 export interface SteinPlan {
@@ -107,18 +108,4 @@ export function realisationsFor(sd: number, halfWidth: number, level = 0.95, max
   let N = Math.max(2, Math.ceil(((z * sd) / halfWidth) ** 2));
   while (N <= max && projectedHalfWidth(sd, N, level) > halfWidth) N++;
   return N <= max ? N : Number.POSITIVE_INFINITY;
-}
-
-/** Mean and sample standard deviation (n − 1) of the finite values; sd NaN below two values. */
-export function meanAndSd(values: ArrayLike<number>): { n: number; mean: number; sd: number } {
-  let n = 0, mean = 0, m2 = 0;
-  for (let i = 0; i < values.length; i++) {
-    const v = values[i];
-    if (!Number.isFinite(v)) continue;
-    n++;
-    const d = v - mean;
-    mean += d / n;
-    m2 += d * (v - mean);
-  }
-  return { n, mean: n > 0 ? mean : Number.NaN, sd: n > 1 ? Math.sqrt(m2 / (n - 1)) : Number.NaN };
 }
