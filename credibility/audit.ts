@@ -424,7 +424,11 @@ export async function runAudit(dbPath: string, opts: AuditOptions): Promise<Audi
         accept,
         interrupted: false,
       };
-      replaceEnsembleResults(studyStore, studyId, auditRows(out, study), { analyses: ["audit"] });
+      // One audit's rows as a whole: they replace the previous audit's (which may have compared other variants).
+      replaceEnsembleResults(studyStore, studyId, auditRows(out, study), {
+        analyses: ["audit"],
+        whole: true,
+      });
       return out;
     } finally {
       store.close();

@@ -177,7 +177,10 @@ export async function runPilot(study: NormalizedStudy, opts: PilotOptions): Prom
   });
   const store = StudyStore.open(opts.dbPath, { command: "pilot" });
   try {
-    replaceEnsembleResults(store, estimate.studyId, pilotRows(estimate), { analyses: ["pilot"] });
+    replaceEnsembleResults(store, estimate.studyId, pilotRows(estimate), {
+      analyses: ["pilot"],
+      whole: true,
+    });
   } finally {
     store.close();
   }

@@ -278,6 +278,7 @@ export async function runUntilPrecise(
     };
     replaceEnsembleResults(store, Number(studyId.id), precisionRows(until, points, { n0, total, cap }), {
       analyses: ["precision"],
+      whole: true,
     });
   } finally {
     store.close();
