@@ -222,10 +222,13 @@ export function buildProgram(): Command {
 Typical session:
   spindrift new point-vortex-2d my-study.yaml    write a commented starter study (list of engines: spindrift new)
   spindrift check my-study.yaml        validate the study file (every problem, with line numbers)
+  spindrift pilot my-study.yaml        its first realisations: cost, time, database size, precision against N
   spindrift run my-study.yaml          run or resume it (database next to the study file)
+  spindrift run my-study.yaml --until evaporated=10%   …or until a result is known to ±10 % (Stein's rule)
   spindrift run my-study.yaml --cluster    or submit it as a Slurm job array; then:
   spindrift collect my-study.yaml      fold the cluster's results into the database
   spindrift analyse my-study.sqlite    estimate D/κ, evaporation and losses with bootstrap intervals
+  spindrift audit my-study.sqlite      rerun a few realisations with finer numerics: would the answer move?
   spindrift report my-study.sqlite     write the HTML report page
   spindrift query my-study.sqlite "SELECT status, COUNT(*) FROM realisations GROUP BY status"
   spindrift demo                       run the bundled demo study and write its report`,
