@@ -149,7 +149,13 @@ export function normalizeStudy(study: StudyFile, opts: NormalizeOptions): Normal
       label: pointLabel(setting.varied),
       varied: setting.varied,
       params,
-      ...pointIdentity({ engine: engineRef, params, run, observables, inputs: files.length > 0 ? inputs : null }),
+      ...pointIdentity({
+        engine: engineRef,
+        params,
+        run,
+        observables,
+        inputs: files.length > 0 ? inputs : null,
+      }),
       inputs,
     };
   });
