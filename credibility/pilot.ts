@@ -30,7 +30,7 @@ import { type RunContext, runContext } from "./_run.ts";
 import { StudyStore } from "../store/db.ts";
 import type { RealisationOutcome, ResourceUsage } from "../store/db.ts";
 import { type EnsembleResultInput, readEnsembleResults, replaceEnsembleResults } from "../store/ensemble.ts";
-import { openStoreReadOnly, readRealisations, readStudyPoints } from "../store/reads.ts";
+import { openStoreReadOnly, readRealisations, readStoredBytes, readStudyPoints } from "../store/reads.ts";
 import { type Projection, projectionSizes, projectSpread } from "./projection.ts";
 import { formatDuration, slurmMemory, slurmTime } from "./_format.ts";
 
@@ -68,6 +68,8 @@ export interface PilotPoint {
   readonly cpuSeconds: readonly number[];
   readonly wallSeconds: readonly number[];
   readonly peakBytes: readonly number[];
+  /** Per pilot realisation: its rows in the database (frame blobs, series, scalars, events; bytes). */
+  readonly storedBytes: readonly number[];
   /** Where the costs come from: "measured now", or an earlier pilot's or run's records. */
   readonly costSource: string;
   /** When the costs were measured (ISO time; null when they are stored wall times). */
@@ -215,6 +217,7 @@ function estimatePilot(study: NormalizedStudy, opts: PilotOptions, m: Measured):
       const done = pilot.filter((r) => r.status === "done");
       const ids = done.map((r) => r.id);
       const cpu: number[] = [], wall: number[] = [], peak: number[] = [];
+      const bytes = readStoredBytes(db, ids);
       for (const r of done) {
         const u = m.usage.get(r.key);
         wall.push(r.wallSeconds ?? Number.NaN);
@@ -277,6 +280,7 @@ function estimatePilot(study: NormalizedStudy, opts: PilotOptions, m: Measured):
         cpuSeconds: cpu,
         wallSeconds: wall,
         peakBytes: peak,
+        storedBytes: ids.map((id) => bytes.get(id) ?? Number.NaN),
         costSource,
         measuredAt,
         results,
@@ -441,7 +445,9 @@ export function pilotRows(e: PilotEstimate): EnsembleResultInput[] {
       name: "cost",
       value: mean(p.cpuSeconds.filter(Number.isFinite)),
       detail: {
-        definition: "CPU seconds per realisation (mean over the pilot); arrays per pilot realisation",
+        definition:
+          "CPU seconds per realisation (mean over the pilot); arrays per pilot realisation: CPU and " +
+          "wall seconds, peak memory and stored bytes (rows in the database)",
         pilotSize: e.pilotSize,
         done: p.done,
         failed: p.failed,
@@ -449,6 +455,7 @@ export function pilotRows(e: PilotEstimate): EnsembleResultInput[] {
         cpuSeconds: p.cpuSeconds,
         wallSeconds: p.wallSeconds,
         peakBytes: p.peakBytes,
+        storedBytes: p.storedBytes,
         costSource: p.costSource,
         measuredAt: p.measuredAt,
         databaseBytesPerRealisation: e.totals.databaseBytesPerRealisation,
@@ -521,6 +528,7 @@ export function formatPilot(e: PilotEstimate): string[] {
       `  point ${p.index} (${p.label}): ${p.done} done${p.failed ? `, ${p.failed} FAILED` : ""}; per ` +
         `realisation CPU ${fmt(mean(cpu))} s (${fmt(Math.min(...cpu))}–${fmt(Math.max(...cpu))})` +
         (peak.length > 0 ? `, peak memory ${formatBytes(Math.max(...peak))}` : "") +
+        `, ${formatBytes(mean(p.storedBytes.filter(Number.isFinite)))} of rows` +
         (p.costSource === "measured now" ? "" : ` [costs from ${p.costSource}]`),
     );
     for (const r of p.results) {

@@ -59,6 +59,8 @@ Deno.test("pilot: runs the study's first realisations, measures and projects the
     for (const p of e.points) {
       assertEquals(p.cpuSeconds.length, 6);
       assert(p.peakBytes.every((b) => b > 0), "peak memory measured");
+      // Rows of a realisation: at least its 31 frames of 16–24 vortices (29 bytes each) and 31 × series rows.
+      assert(p.storedBytes.every((b) => b > 31 * 16 * 29), `stored bytes ${p.storedBytes}`);
       const r = p.results.find((x) => x.name === "cluster_radius")!;
       assertEquals(r.status, "ok");
       // The projection is t_{0.975, N−1}·s/√N of the pilot's spread (stein.ts).
