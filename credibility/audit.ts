@@ -30,6 +30,7 @@ import {
   meanAndSd,
   pairedDifference,
   pairedReplicateDifference,
+  realisationsFor,
 } from "../analysis/estimators/mod.ts";
 import { applyRefinement } from "../engines/_refine.ts";
 import type { Engine, RefinementVariant, RunControls } from "../engines/contract.ts";
@@ -97,6 +98,16 @@ export interface AuditComparison {
   /** The shift that counts: max(seStudy, accept·|studyValue|). */
   readonly tolerance: number | null;
   readonly flagged: boolean;
+  /** Half-width of the flag's interval: the smallest shift these pairs can resolve. */
+  readonly resolution: number | null;
+  /** True when the pairs resolve shifts of the tolerance's size (resolution ≤ tolerance). */
+  readonly resolvable: boolean;
+  /** Pearson correlation of the paired values (1: the variant repeats the study; ~0: decorrelated). */
+  readonly correlation: number | null;
+  /** Standard deviation of the per-pair differences (D: bootstrap standard error × √pairs). */
+  readonly sdDifference: number | null;
+  /** Pairs that would resolve the tolerance at the present spread of the differences (null: unknown). */
+  readonly pairsNeeded: number | null;
   readonly note: string | null;
 }
 
@@ -106,7 +117,13 @@ export interface AuditVariantResult {
   readonly pass: "numerics" | "physics";
   readonly changes: readonly string[];
   /** "not-applicable" with the reason, else the verdict. */
-  readonly status: "converged" | "not-converged" | "insensitive" | "sensitive" | "not-applicable";
+  readonly status:
+    | "converged"
+    | "not-converged"
+    | "insensitive"
+    | "sensitive"
+    | "inconclusive"
+    | "not-applicable";
   readonly reasons: readonly string[];
   readonly subset: readonly number[];
   readonly failures: {
@@ -569,7 +586,12 @@ function compareAll(
           : null;
       const dStudy = dOf(studyDb, point.params, idsA), dVariant = dOf(auditDb, d.derived.params, idsB);
       const bothD = dStudy?.status === "ok" && dVariant?.status === "ok";
-      const compared = names.filter((n) => pairedDifference(qa[n], qb[n]).n > 0);
+      // An MSD far below the cluster's size squared is round-off of a rigid motion (e.g. one ring): not judged.
+      const size = meanAndSd(qAll.cluster_radius ?? []).mean;
+      const rigid = (name: string) =>
+        name === "msd_final" && Number.isFinite(size) &&
+        [...qa[name], ...qb[name]].every((v) => !(Math.abs(v) > 1e-12 * size * size));
+      const compared = names.filter((n) => pairedDifference(qa[n], qb[n]).n > 0 && !rigid(n));
       // Bonferroni over the quantities compared at this point: the flag's interval level.
       const level = 1 - 0.05 / Math.max(1, compared.length + (bothD ? 1 : 0));
       const dCompare = compareDiffusion(
@@ -580,28 +602,34 @@ function compareAll(
         level,
       );
       const judged: AuditComparison[] = [];
-      if (dCompare.comparison) judged.push(judge(dCompare.comparison, ctx.accept));
+      if (dCompare.comparison) judged.push(judge(dCompare.comparison, ctx.accept, level));
       for (const q of quantitiesFor(dimension)) {
         if (!compared.includes(q.name)) continue;
         const p = pairedDifference(qa[q.name], qb[q.name]);
         const wide = pairedDifference(qa[q.name], qb[q.name], { level });
         const all = meanAndSd(qAll[q.name]);
-        judged.push(judge({
-          quantity: q.name,
-          label: q.label,
-          pairs: p.n,
-          incomplete: p.incomplete,
-          meanStudy: p.meanA,
-          meanVariant: p.meanB,
-          difference: p.mean,
-          lower: p.lower,
-          upper: p.upper,
-          flagLower: wide.lower,
-          flagUpper: wide.upper,
-          seStudy: all.n > 1 ? all.sd / Math.sqrt(all.n) : null,
-          studyValue: all.n > 0 ? all.mean : null,
-          note: null,
-        }, ctx.accept));
+        judged.push(judge(
+          {
+            quantity: q.name,
+            label: q.label,
+            pairs: p.n,
+            incomplete: p.incomplete,
+            meanStudy: p.meanA,
+            meanVariant: p.meanB,
+            difference: p.mean,
+            lower: p.lower,
+            upper: p.upper,
+            flagLower: wide.lower,
+            flagUpper: wide.upper,
+            seStudy: all.n > 1 ? all.sd / Math.sqrt(all.n) : null,
+            studyValue: all.n > 0 ? all.mean : null,
+            correlation: correlation(qa[q.name], qb[q.name]),
+            sdDifference: Number.isFinite(p.sd) ? p.sd : null,
+            note: null,
+          },
+          ctx.accept,
+          level,
+        ));
       }
       const reasons: string[] = [];
       if (rescued.length > 0) {
@@ -628,9 +656,32 @@ function compareAll(
         }
       }
       const moved = reasons.length > 0;
-      const status = plan.variant.pass === "numerics"
-        ? (moved ? "not-converged" : "converged")
-        : (moved ? "sensitive" : "insensitive");
+      const blind = judged.filter((c) => !c.resolvable && c.tolerance !== null);
+      const numerics = plan.variant.pass === "numerics";
+      const status = moved
+        ? (numerics ? "not-converged" : "sensitive")
+        : blind.length > 0
+        ? "inconclusive"
+        : (numerics ? "converged" : "insensitive");
+      if (!moved && blind.length > 0) {
+        const total = m.size;
+        reasons.push(
+          `the ${pairs.length} pairs cannot see a shift of the study's precision in ${
+            blind.map((c) =>
+              `${c.quantity} (they resolve ±${fmt(c.resolution)}, ${
+                fmt(c.resolution! / c.tolerance!)
+              }× the ` +
+              `tolerance ±${fmt(c.tolerance)}${
+                c.correlation !== null ? `; pair correlation ${c.correlation.toFixed(2)}` : ""
+              }; ≈ ${c.pairsNeeded} pairs would)`
+            ).join(", ")
+          }` +
+            (blind.some((c) => (c.pairsNeeded ?? 0) > total)
+              ? `: more than the study's ${total}, because the paired runs decorrelate (chaotic dynamics): ` +
+                "the audit bounds these shifts but cannot confirm convergence at the study's precision"
+              : ": rerun with a larger --subset or --budget"),
+        );
+      }
       if (broken.length > 0) {
         reasons.push(
           `the variant failed ${broken.length} realisation(s) the study completed (indices ${
@@ -665,13 +716,43 @@ function firstError(m: ReadonlyMap<number, RealisationRecord>, idx: readonly num
   return `${r?.failureKind ?? "failed"}${r?.error ? `: ${r.error.slice(0, 120)}` : ""}`;
 }
 
-/** The flag test of the module comment, on one comparison. */
-function judge(c: Omit<AuditComparison, "flagged" | "tolerance">, accept: number): AuditComparison {
+type Judged = "flagged" | "tolerance" | "resolution" | "resolvable" | "pairsNeeded";
+
+/** The flag test of the module comment, on one comparison, and whether the pairs could have seen a shift. */
+function judge(c: Omit<AuditComparison, Judged>, accept: number, level: number): AuditComparison {
   const floor = c.studyValue !== null ? accept * Math.abs(c.studyValue) : 0;
   const tolerance = c.seStudy !== null ? Math.max(c.seStudy, floor) : floor > 0 ? floor : null;
   const resolved = c.flagLower !== null && c.flagUpper !== null && (c.flagLower > 0 || c.flagUpper < 0);
   const flagged = resolved && tolerance !== null && Math.abs(c.difference) > tolerance;
-  return { ...c, tolerance, flagged };
+  const resolution = c.flagLower !== null && c.flagUpper !== null
+    ? Math.max(c.flagUpper - c.difference, c.difference - c.flagLower)
+    : null;
+  const resolvable = resolution !== null && tolerance !== null && resolution <= tolerance;
+  // Pairs whose interval at the flag's level, with the differences' present spread, is ±tolerance wide.
+  const pairsNeeded = !resolvable && tolerance !== null && tolerance > 0 && c.sdDifference !== null
+    ? realisationsFor(c.sdDifference, tolerance, level)
+    : null;
+  return { ...c, tolerance, flagged, resolution, resolvable, pairsNeeded };
+}
+
+/** Pearson correlation of the finite pairs (null below 3 pairs or without spread). */
+function correlation(a: ArrayLike<number>, b: ArrayLike<number>): number | null {
+  const x: number[] = [], y: number[] = [];
+  for (let i = 0; i < a.length; i++) {
+    if (Number.isFinite(a[i]) && Number.isFinite(b[i])) {
+      x.push(a[i]);
+      y.push(b[i]);
+    }
+  }
+  if (x.length < 3) return null;
+  const mx = x.reduce((p, q) => p + q, 0) / x.length, my = y.reduce((p, q) => p + q, 0) / y.length;
+  let sxy = 0, sxx = 0, syy = 0;
+  for (let i = 0; i < x.length; i++) {
+    sxy += (x[i] - mx) * (y[i] - my);
+    sxx += (x[i] - mx) ** 2;
+    syy += (y[i] - my) ** 2;
+  }
+  return sxx > 0 && syy > 0 ? sxy / Math.sqrt(sxx * syy) : null;
 }
 
 /** The stored answer D of the study at each point (for its standard error), when analyse found one. */
@@ -700,7 +781,7 @@ function compareDiffusion(
   pairs: number,
   level: number,
 ): {
-  comparison: Omit<AuditComparison, "flagged" | "tolerance"> | null;
+  comparison: Omit<AuditComparison, Judged> | null;
   oneSided: string | null;
   note: string | null;
 } {
@@ -743,6 +824,8 @@ function compareDiffusion(
       flagUpper: wide.upper,
       seStudy: stored?.se ?? a!.estimators.cohort?.ci?.standardError ?? null,
       studyValue: stored?.value ?? A.value,
+      correlation: null,
+      sdDifference: d.standardError !== null ? d.standardError * Math.sqrt(pairs) : null,
       note: stored
         ? null
         : "the study's standard error from the audited pairs (run analyse for the full one)",
@@ -829,6 +912,8 @@ export function formatAudit(r: AuditReport): string[] {
         ? "NUMERICS NOT CONVERGED"
         : v.status === "sensitive"
         ? "SENSITIVE"
+        : v.status === "inconclusive"
+        ? "inconclusive (nothing moved, but the pairs cannot resolve the study's precision)"
         : v.status;
       lines.push(
         `    ${v.variant} (${v.changes.join("; ") || "—"}): ${verdict}` +
@@ -838,7 +923,9 @@ export function formatAudit(r: AuditReport): string[] {
         lines.push(
           `      ${c.quantity.padEnd(15)} study ${fmt(c.meanStudy)}, variant ${fmt(c.meanVariant)}: Δ ${
             fmt(c.difference)
-          } [${fmt(c.lower)}, ${fmt(c.upper)}] vs ±${fmt(c.tolerance)}${c.flagged ? "  ✗" : ""}`,
+          } [${fmt(c.lower)}, ${fmt(c.upper)}] vs ±${fmt(c.tolerance)}${
+            c.flagged ? "  ✗" : c.resolvable ? "" : "  (not resolvable)"
+          }`,
         );
       }
       for (const why of v.reasons) lines.push(`      ${v.status === "not-applicable" ? "" : "why: "}${why}`);

@@ -41,6 +41,7 @@ const VERDICT: Readonly<Record<string, string>> = {
   "not-converged": '<span class="cred-flag">numerics not converged</span>',
   insensitive: "insensitive",
   sensitive: '<span class="cred-flag">sensitive</span>',
+  inconclusive: "inconclusive: nothing moved, but the pairs cannot resolve the study's precision",
   "not-applicable": "not applicable",
 };
 

@@ -22,7 +22,7 @@
  * ```
  */
 import { studentTQuantile } from "./_jstat.ts";
-import { percentileInterval } from "./bootstrap.ts";
+import { percentileInterval, standardDeviation } from "./bootstrap.ts";
 
 /** A paired mean difference b − a with its interval. */
 export interface PairedDifference {
@@ -94,6 +94,8 @@ export function pairedReplicateDifference(
   readonly mean: number;
   readonly lower: number | null;
   readonly upper: number | null;
+  /** Standard deviation of the replicate differences (null below 2). */
+  readonly standardError: number | null;
   readonly used: number;
 } {
   if (a.replicates.length !== b.replicates.length) {
@@ -105,5 +107,11 @@ export function pairedReplicateDifference(
     if (Number.isFinite(d)) diffs.push(d);
   }
   const ci = diffs.length >= 2 ? percentileInterval(diffs, opts.level ?? 0.95) : null;
-  return { mean: b.value - a.value, lower: ci?.lower ?? null, upper: ci?.upper ?? null, used: diffs.length };
+  return {
+    mean: b.value - a.value,
+    lower: ci?.lower ?? null,
+    upper: ci?.upper ?? null,
+    standardError: standardDeviation(diffs),
+    used: diffs.length,
+  };
 }
