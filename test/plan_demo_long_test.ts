@@ -104,7 +104,10 @@ Deno.test({
       });
       for (const p of audit.points) {
         for (const v of p.variants) {
-          console.log(`audit ${p.label} ${v.variant}: ${v.status}, ${v.subset.length} pairs`);
+          console.log(
+            `audit ${p.label} ${v.variant}: ${v.status}, ${v.subset.length} pairs; ${v.reasons.join(" | ")}`,
+          );
+          assert(v.status !== "not-converged", `the demo's numerics are flagged at ${p.label}`);
         }
       }
       console.log(
