@@ -75,7 +75,9 @@ or reconnection distance halved and doubled) and compares them pair by pair.</p>
           escapeHtml(String(x.quantity))
         }</td><td>${n(x.meanStudy)}</td><td>${n(x.meanVariant)}</td><td>${n(c.value)} [${n(c.lower)}, ${
           n(c.upper)
-        }]</td><td>±${n(x.tolerance)}</td><td>${x.flagged ? "✗" : ""}</td></tr>`;
+        }]</td><td>±${n(x.tolerance)}</td><td>${
+          x.flagged ? "✗" : x.resolvable === false ? "not resolvable" : ""
+        }</td></tr>`;
       });
       const why = list(d.reasons).map((r) => `<li>${escapeHtml(r)}</li>`).join("");
       return head + lines.join("") +
@@ -165,7 +167,12 @@ function settingsPart(
     seen.add(key);
     items.push(
       `<li>${s.detail.pass === "physics" ? "physics" : "numerics"} variant ${escapeHtml(key)}${
-        labels.size > 1 ? ` (at ${escapeHtml(labels.get(s.pointHash) ?? "?")})` : ""
+        audit.filter((r) =>
+            r.name === s.name && list(r.detail.changes).join("; ") === list(s.detail.changes).join("; ")
+          )
+            .length < labels.size
+          ? ` (at ${escapeHtml(labels.get(s.pointHash) ?? "?")})`
+          : ""
       }</li>`,
     );
   }
@@ -210,11 +217,15 @@ export function buildCredibilitySection(db: DatabaseSync, studyId: number, label
   if (audit.length + invariants.length + pilot.length + precision.length === 0) return "";
   const flagged = audit.some((r) => r.name.endsWith("/summary") && r.detail.status === "not-converged") ||
     invariants.some((r) => r.name === "summary" && r.detail.status === "flagged");
+  const inconclusive = audit.some((r) => r.name.endsWith("/summary") && r.detail.status === "inconclusive");
   return `<section id="credibility">
 <h2>Numerical credibility</h2>
 <p class="note">${
     flagged
       ? '<span class="cred-flag">Flagged:</span> some result moves with finer numerics or breaks an invariant; see below.'
+      : inconclusive
+      ? "Nothing flagged, but the audit is inconclusive: its pairs cannot resolve shifts of the study's " +
+        "precision (see below for what they can bound)."
       : "Nothing flagged in what was checked (see below for what was and what was not)."
   }</p>
 ${auditPart(audit, labels)}
