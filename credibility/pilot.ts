@@ -224,7 +224,10 @@ function estimatePilot(study: NormalizedStudy, opts: PilotOptions, m: Measured):
         cpu.push(u?.cpuSeconds ?? r.wallSeconds ?? Number.NaN);
         peak.push(u?.peakBytes ?? Number.NaN);
       }
-      let costSource = "measured now";
+      const measured = done.filter((r) => m.usage.has(r.key)).length;
+      let costSource = measured === done.length
+        ? "measured now"
+        : `measured now for ${measured} of ${done.length} (the others, run before, by their stored wall times)`;
       let measuredAt: string | null = new Date().toISOString();
       if (m.usage.size === 0) {
         const e = earlier?.get(p.pointHash);
