@@ -1,35 +1,12 @@
 import { StudyStore } from "../store/db.ts";
+import { recordOnePointStudy } from "../store/_testing.ts";
 import { replaceEnsembleResults } from "../store/ensemble.ts";
 import { buildCredibilitySection } from "./credibility_section.ts";
 import { assert, assertEquals } from "../test/_assert.ts";
 
 function store(dir: string): { store: StudyStore; id: number } {
   const s = StudyStore.open(`${dir}/s.sqlite`);
-  const id = s.recordStudy(
-    {
-      name: "s",
-      description: "d",
-      studyHash: "h",
-      sourcePath: null,
-      text: "name: s",
-      normalizedJson: "{}",
-      engineId: "e",
-      engineVersion: "1",
-      toolVersion: "t",
-      denoVersion: "d",
-      gitCommit: null,
-    },
-    [{
-      pointIndex: 0,
-      pointHash: "pa",
-      paramsHash: "pa",
-      label: "count=<24>",
-      variedJson: "{}",
-      paramsJson: "{}",
-      controlsJson: "{}",
-    }],
-  );
-  return { store: s, id };
+  return { store: s, id: recordOnePointStudy(s, {}, { pointHash: "pa", label: "count=<24>" }) };
 }
 
 Deno.test("buildCredibilitySection: empty without rows; the audit table, flags and non-conserved invariants with reasons", () => {
