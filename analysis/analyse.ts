@@ -10,6 +10,7 @@
  *     profile.<k> + profile_bin_width ──common bins──▶ Vinen-equation fit (loss term fitted) ──▶ "vinen"
  *     stored frames + engine velocity field at probes ──▶ VelocityCorrelationAccumulator ──▶ "correlations"
  *     evaporated_count, object_count / line_length ──▶ evaporationSummary ──▶ "evaporation"
+ *     drift.* scalars + the engine's conservation statement ──▶ checkInvariants ──▶ "invariants"
  *  every point's answer and its bootstrap replicates ──▶ differences, trend ──▶ "question"
  *  ──▶ ensemble_results (all rows of the study revision replaced in one transaction)
  * ```
@@ -60,6 +61,7 @@ import { readStoredTracks, type StoredTracks } from "./from_store/tracks.ts";
 import { errorText } from "./_util.ts";
 import { chi2SourceText, type VinenAnalysis, vinenRows } from "./to_store/vinen.ts";
 import { questionRows } from "./to_store/question.ts";
+import { invariantRows, type InvariantsAnalysis } from "./to_store/invariants.ts";
 
 export type { AnalyseOptions } from "./options.ts";
 export type { AnalysisStatus, Estimate } from "./to_store/rows.ts";
@@ -73,7 +75,14 @@ export const ANALYSES = [
   "correlations",
   "evaporation",
   "question",
+  "invariants",
 ] as const;
+
+/**
+ * Analyses other commands write into `ensemble_results` (`spindrift pilot`, `spindrift audit`,
+ * `spindrift run --until`): `analyse` leaves their rows alone.
+ */
+export const KEPT_ANALYSES: readonly string[] = ["pilot", "audit", "precision"];
 
 export interface PointAnalysis {
   readonly index: number;
@@ -85,6 +94,7 @@ export interface PointAnalysis {
   readonly sensitivity: SensitivityAnalysis;
   readonly correlations: CorrelationsAnalysis;
   readonly evaporation: EvaporationAnalysis;
+  readonly invariants: InvariantsAnalysis;
 }
 
 export interface AnalysisSummary {
@@ -152,7 +162,11 @@ export async function analyseStudy(dbPath: string, opts: AnalyseOptions = {}): P
     progress("writing results");
     const store = StudyStore.open(dbPath, { command: "analyse" });
     try {
-      written = replaceEnsembleResults(store, study.id, rows);
+      // Every analysis but those other commands write (their rows stay): also rows of names older builds used.
+      const stored = store.db.prepare("SELECT DISTINCT analysis FROM ensemble_results WHERE study_id = ?")
+        .all(study.id).map((r) => String(r.analysis));
+      const analyses = [...new Set([...ANALYSES, ...stored])].filter((a) => !KEPT_ANALYSES.includes(a));
+      written = replaceEnsembleResults(store, study.id, rows, { analyses });
     } finally {
       store.close();
     }
@@ -349,6 +363,7 @@ async function analysePoint(ctx: PointContext, rows: EnsembleResultInput[]): Pro
     replicates: ctx.B,
     level: ctx.level,
   }, push);
+  const invariants = invariantRows(ctx, push);
   return {
     index: point.index,
     label: point.label,
@@ -359,5 +374,6 @@ async function analysePoint(ctx: PointContext, rows: EnsembleResultInput[]): Pro
     sensitivity,
     correlations,
     evaporation,
+    invariants,
   };
 }

@@ -16,6 +16,7 @@ import {
   type AnalysisSummary,
   chi2FromDecayStudy,
   type EvaporationAnalysis,
+  invariantsText,
 } from "../analysis/mod.ts";
 import type { Chi2Source } from "../analysis/options.ts";
 import type { VinenLoss } from "../analysis/estimators/vinen_fit.ts";
@@ -337,6 +338,7 @@ export function formatSummary(s: AnalysisSummary, dbPath: string, units?: UnitLa
     lines.push(...vinenLines(p.vinen, pad, units));
     const ev = evaporationText(p.evaporation, units);
     if (ev) lines.push(`${pad}${ev}`);
+    lines.push(`${pad}${invariantsText(p.invariants)}`);
   }
   if (s.chi2Source) lines.push(`Vinen fit: ${s.chi2Source}`);
   lines.push(`${s.rowsWritten} rows stored in ensemble_results of ${dbPath}`);

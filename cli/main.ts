@@ -39,6 +39,8 @@ import { checkReport } from "./check.ts";
 import { statusCommand } from "./status.ts";
 import { describeUnits } from "../study/units.ts";
 import { MIN_REALISATIONS } from "../analysis/estimators/bootstrap.ts";
+import { auditCommand, parseFraction, pilotCommand, untilCommand } from "./credibility.ts";
+import { storedPilotLines } from "../credibility/pilot.ts";
 
 const REPO = new URL("../", import.meta.url);
 /** The bundled demo studies; `decay` is a homogeneous-decay study run first to calibrate χ₂ (Vinen fit). */
@@ -220,10 +222,13 @@ export function buildProgram(): Command {
 Typical session:
   spindrift new point-vortex-2d my-study.yaml    write a commented starter study (list of engines: spindrift new)
   spindrift check my-study.yaml        validate the study file (every problem, with line numbers)
+  spindrift pilot my-study.yaml        its first realisations: cost, time, database size, precision against N
   spindrift run my-study.yaml          run or resume it (database next to the study file)
+  spindrift run my-study.yaml --until evaporated=10%   …or until a result is known to ±10 % (Stein's rule)
   spindrift run my-study.yaml --cluster    or submit it as a Slurm job array; then:
   spindrift collect my-study.yaml      fold the cluster's results into the database
   spindrift analyse my-study.sqlite    estimate D/κ, evaporation and losses with bootstrap intervals
+  spindrift audit my-study.sqlite      rerun a few realisations with finer numerics: would the answer move?
   spindrift report my-study.sqlite     write the HTML report page
   spindrift query my-study.sqlite "SELECT status, COUNT(*) FROM realisations GROUP BY status"
   spindrift demo                       run the bundled demo study and write its report`,
@@ -283,6 +288,7 @@ Typical session:
         force: true,
       });
       for (const line of v.lines) out(`  ${line}`);
+      for (const line of storedPilotLines(defaultDbPath(path, study), study.hash)) out(`  ${line}`);
       for (const w of v.warnings) out(`  warning: ${w}`);
       if (v.refusals.length > 0) {
         for (const r of v.refusals) out(`  too large: ${r}`);
@@ -315,6 +321,27 @@ Typical session:
     )
     .option("-q, --quiet", "no progress output", false)
     .option("--force", "run even when the pre-flight estimate exceeds the free disk space or memory", false)
+    .option(
+      "--until <result=target>",
+      "after the study's realisations (the first stage), add realisations until RESULT's 95 % interval has " +
+        "the half-width TARGET: D, evaporated, cluster_radius, vortex_count, line_length, centre_speed, " +
+        "msd_final or scalar:<name>, e.g. evaporated=10% or D=0.02 (Stein's two-stage rule: the total is " +
+        "fixed by the first stage)",
+    )
+    .addOption(
+      new Option(
+        "--max-realisations <n>",
+        "with --until: most realisations per point (default max(100, 10 × the study's))",
+      )
+        .argParser(positiveInt("--max-realisations")),
+    )
+    .addOption(
+      new Option(
+        "--batch <n>",
+        "with --until: realisations added per point between progress lines (default: the study's)",
+      )
+        .argParser(positiveInt("--batch")),
+    )
     .option("--cluster", "submit a Slurm job array on the cluster instead of running on this machine")
     .addOption(new Option("--executor <where>", "deprecated: --executor slurm is --cluster").hideHelp())
     .optionsGroup("Cluster options (with --cluster; see README, 'Running on a cluster'):")
@@ -353,6 +380,13 @@ Typical session:
       const dbPath = o.db ?? defaultDbPath(path, study);
       if (!o.quiet) { for (const line of describeUnits(study).lines) out(line); }
       if (cluster.checkExecutorOptions(o, (l) => console.error(`spindrift: ${l}`)) === "slurm") {
+        if (o.until !== undefined) {
+          throw new UserError(
+            "--until runs on this machine only (its second stage depends on the first one's results)",
+            "run the first stage with --cluster, collect it, then run --until here, or use 'spindrift pilot' to " +
+              "choose the realisations before submitting",
+          );
+        }
         // The login node plans the study and the database collects it: check the sizes here too.
         for (const w of preflight(study, { dbPath, workers: 1, force: o.force }).warnings) {
           console.error(`spindrift: warning: ${w}`);
@@ -360,6 +394,24 @@ Typical session:
         const flags = { ...o, dbPath, extraLines: o.sbatchLine, launcher: LAUNCHER };
         Deno.exitCode = await cluster.clusterRunCommand(study, flags, clusterEnv());
         return;
+      }
+      if (o.until !== undefined) {
+        Deno.exitCode = await untilCommand(study, {
+          dbPath,
+          workers: o.workers ?? study.run.workers ?? defaultWorkers(),
+          until: o.until,
+          cap: o.maxRealisations,
+          batch: o.batch,
+          fresh: o.fresh,
+          keepFailed: o.keepFailed,
+          quiet: o.quiet,
+          allowOtherStudy: o.allowOtherStudy,
+          force: o.force,
+        }, out);
+        return;
+      }
+      if (o.maxRealisations !== undefined || o.batch !== undefined) {
+        throw new UserError("--max-realisations and --batch go with --until");
       }
       const { report, exitCode } = await runWithSignals(study, dbPath, {
         workers: o.workers ?? study.run.workers ?? defaultWorkers(),
@@ -374,6 +426,49 @@ Typical session:
       if (!report.interrupted) {
         out(`next: spindrift analyse ${dbPath}   (D/κ with intervals), then spindrift report ${dbPath}`);
       }
+    });
+
+  program.command("pilot")
+    .description(
+      "run the first few realisations of every parameter point and project the whole study: CPU time, peak " +
+        "memory and database growth per realisation, time with your workers and as a Slurm array, and the " +
+        "95 % half-width of D (only where the pilot shows a diffusive regime), the evaporation count and the " +
+        "other end-of-run results against the number of realisations, with a recommended count",
+    )
+    .argument("<study>", "study file (YAML)")
+    .option("--db <path>", "database file (default: <study name>.sqlite next to the study file)")
+    .addOption(
+      new Option("-n, --realisations <n>", "pilot realisations per point (default 8; the study's first ones)")
+        .argParser(positiveInt("--realisations")),
+    )
+    .addOption(
+      new Option(
+        "-w, --workers <n>",
+        "parallel workers (default: the study's run.workers, else number of cores)",
+      )
+        .argParser(positiveInt("--workers")),
+    )
+    .addOption(
+      new Option(
+        "--target <precision>",
+        "relative 95 % half-width to recommend a realisation count for, e.g. 10% or 0.05 (default 10%)",
+      ).argParser(parseFraction("--target")),
+    )
+    .option("--allow-other-study", "run into a database made for a study of another name", false)
+    .option("-q, --quiet", "no progress output", false)
+    .action(async (path, o) => {
+      const study = await loadNormalized(path);
+      if (o.realisations !== undefined && o.realisations < 2) {
+        throw new UserError("--realisations must be ≥ 2");
+      }
+      Deno.exitCode = await pilotCommand(study, {
+        dbPath: o.db ?? defaultDbPath(path, study),
+        workers: o.workers ?? study.run.workers ?? defaultWorkers(),
+        realisations: o.realisations,
+        target: o.target,
+        allowOtherStudy: o.allowOtherStudy,
+        quiet: o.quiet,
+      }, out);
     });
 
   program.command("collect")
@@ -498,6 +593,70 @@ Typical session:
       const { lines, errors } = await analyseCommand(dbPath, o);
       for (const line of lines) out(line);
       if (errors.length > 0) Deno.exitCode = 1;
+    });
+
+  program.command("audit")
+    .description(
+      "would the answer move with finer numerics? rerun a subset of each point's realisations with the same " +
+        "seeds and refined numerics (2D: tolerance ÷10, step cap at its default or ÷10; 3D: spacing δ/2, " +
+        "time-step factor ÷2, opening angle ÷2; GP: grid spacing and time step ÷2), or with the annihilation " +
+        "(3D: reconnection) distance ×½ and ×2 (--pass physics); store them in <database>-audit.sqlite and " +
+        "report paired differences, flagging 'numerics not converged'",
+    )
+    .argument("<database>", "study database written by 'spindrift run'")
+    .addOption(
+      new Option("--pass <pass>", "numerics (default), physics, or both").choices([
+        "numerics",
+        "physics",
+        "both",
+      ])
+        .default("numerics"),
+    )
+    .addOption(
+      new Option(
+        "--subset <n>",
+        "realisations per point to rerun (default: what the budget allows, ≥ --min-pairs)",
+      )
+        .argParser(positiveInt("--subset")),
+    )
+    .addOption(
+      new Option("--budget <share>", "share of the study's compute the audit may use per pass (default 25%)")
+        .argParser(parseFraction("--budget")),
+    )
+    .addOption(
+      new Option("--min-pairs <n>", "fewest pairs per point whatever the budget (default 4)").argParser(
+        positiveInt("--min-pairs"),
+      ),
+    )
+    .addOption(
+      new Option(
+        "--accept <fraction>",
+        "relative shifts below this are accepted whatever the statistics (default 1%)",
+      ).argParser(parseFraction("--accept")),
+    )
+    .option("--audit-db <path>", "database for the reruns (default: <database>-audit.sqlite beside it)")
+    .addOption(
+      new Option("-w, --workers <n>", "parallel workers (default: number of cores)").argParser(
+        positiveInt("--workers"),
+      ),
+    )
+    .addOption(
+      new Option("--study <id>", "study revision id (default: the latest)").argParser(positiveInt("--study")),
+    )
+    .option("-q, --quiet", "no progress output", false)
+    .action(async (dbPath, o) => {
+      if (!/\.ya?ml$/i.test(dbPath)) openReadOnly(dbPath).close();
+      Deno.exitCode = await auditCommand(dbPath, {
+        pass: o.pass as "numerics" | "physics" | "both",
+        subset: o.subset,
+        budget: o.budget,
+        minPairs: o.minPairs,
+        accept: o.accept,
+        auditDb: o.auditDb,
+        workers: o.workers ?? defaultWorkers(),
+        study: o.study,
+        quiet: o.quiet,
+      }, out);
     });
 
   program.command("compare")

@@ -289,6 +289,68 @@ export interface Engine<P = unknown> {
   upgradeParams?(params: Readonly<Record<string, unknown>>): ParamsUpgrade;
   /** What `spindrift new` writes for this engine (the starter test requires one for every registered engine). */
   readonly starter?: EngineStarter;
+  /**
+   * Optional: how `spindrift audit` refines this engine's numerics and varies its physics (a small table, see
+   * {@link RefinementTable} and `engines/_refine.ts`). Engines without one cannot be audited (imported data).
+   */
+  readonly refinement?: RefinementTable;
+  /**
+   * Optional: which `drift.*` scalars of these parameters measure integration error (with the threshold the
+   * analysis checks them against) and which quantities the dynamics does not conserve, with the reason.
+   */
+  conservation?(params: P, controls: RunControls): ConservationCheck;
+}
+
+/**
+ * One change of a refinement: a parameter (dotted path inside `parameters`) or run control (`run.tolerance`)
+ * multiplied by `factor`; with `default`, a value above the default is first brought to it (only a value at or
+ * below the default is multiplied), e.g. "the step cap at its default or ÷10".
+ */
+export interface RefinementRule {
+  readonly path: string;
+  readonly factor: number;
+  readonly default?: number;
+  /** Skip the rule when the value is 0 (e.g. no annihilation), with this reason. */
+  readonly zeroMeans?: string;
+}
+
+/** A varied copy of a parameter point for the audit (all rules applied together). */
+export interface RefinementVariant {
+  /** Short id stored with the results, e.g. "numerics", "annihilationDistance*0.5". */
+  readonly id: string;
+  /** "numerics": should not change the answer; "physics": shows how much a modelling choice matters. */
+  readonly pass: "numerics" | "physics";
+  readonly rules: readonly RefinementRule[];
+}
+
+/** The refinement table of an engine (`Engine.refinement`). */
+export interface RefinementTable {
+  readonly variants: readonly RefinementVariant[];
+  /** What the table does not cover, one sentence each (shown with the audit). */
+  readonly notes?: readonly string[];
+}
+
+/** One invariant whose relative drift the analysis checks (`Engine.conservation`). */
+export interface InvariantCheck {
+  /** Scalar name, e.g. "drift.hamiltonian". */
+  readonly scalar: string;
+  /** What it is, e.g. "Hamiltonian H". */
+  readonly quantity: string;
+  /** Largest acceptable relative drift. */
+  readonly threshold: number;
+  /** Where the threshold comes from, one sentence. */
+  readonly basis: string;
+  /** Realisations with any of these scalars non-zero are not checked (e.g. reconnections change the energy). */
+  readonly unlessNonzero?: readonly { readonly scalar: string; readonly reason: string }[];
+}
+
+/** What an engine conserves for given parameters (`Engine.conservation`). */
+export interface ConservationCheck {
+  readonly invariants: readonly InvariantCheck[];
+  /** Quantities the dynamics does not conserve here, with the reason (e.g. mutual friction). */
+  readonly notConserved: readonly { readonly quantity: string; readonly reason: string }[];
+  /** Remarks that hold for every realisation (e.g. how removed vortices are accounted for). */
+  readonly notes?: readonly string[];
 }
 
 /**

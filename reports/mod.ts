@@ -23,6 +23,7 @@ import { type ExtraSection, type PagePart, type RenderedChart, renderReportHtml 
 import { type FigureOptions, writeAtomic, writeFigures } from "./figures.ts";
 import { reportUnits, unitsSection } from "./quantities.ts";
 import { compileChart, readVegaRuntime } from "./render.ts";
+import { buildCredibilitySection, CREDIBILITY_STYLE } from "./credibility_section.ts";
 import { buildCharts, CHART_SERIES, type ChartOptions, type ChartSpec } from "./specs.ts";
 import { buildSummary, type ProvisionalAnalysis } from "./summary.ts";
 
@@ -111,11 +112,22 @@ export async function writeReport(
     allCharts = [...charts, ...analysisCharts];
     const condensate = buildFieldSnapshotSection(db, agg.study.id, units.labels?.length);
     const formats = opts.figures?.png ? ["svg", "png", "csv"] as const : ["svg", "csv"] as const;
+    const credibility = buildCredibilitySection(
+      db,
+      agg.study.id,
+      new Map(agg.points.map((p) => [p.point.pointHash, p.point.label])),
+    );
     page = renderReportHtml({
       sections: [
         ...(condensate === ""
           ? []
           : [{ id: "condensate", title: "Condensate", html: condensate, style: FIELD_SNAPSHOT_STYLE }]),
+        ...(credibility === "" ? [] : [{
+          id: "credibility",
+          title: "Numerical credibility",
+          html: credibility,
+          style: CREDIBILITY_STYLE,
+        }]),
         ...(opts.sections ?? []),
       ],
       analysis,

@@ -477,8 +477,8 @@ function driftChart(ctx: Context): ChartSpec {
       caption: notes.join(" "),
       spec: null,
       emptyReason: total === 0
-        ? "The engine reports the drift of an invariant only where the dynamics conserves it; these runs " +
-          "conserve none (mutual friction, annihilation, walls or imported data), so there is nothing to check."
+        ? "No done realisation reported drift scalars (drift.*): engines report them only where the dynamics " +
+          "conserves them; the section Numerical credibility says which quantities are not conserved here and why."
         : "Every drift value is 0 or not finite, which a log axis cannot show.",
       section: "diagnostics",
     };

@@ -128,6 +128,16 @@ export interface RealisationOutcome {
   readonly events: readonly EventRow[];
   /** Field images sent through the engine's optional snapshot channel (store/snapshots.ts). */
   readonly snapshots?: readonly FieldSnapshotRow[];
+  /** What computing it cost, as the worker measured it (`spindrift pilot`); not stored. */
+  readonly usage?: ResourceUsage;
+}
+
+/** Resources one realisation used in its worker (study/usage.ts). */
+export interface ResourceUsage {
+  /** CPU time of the worker thread (s); null where the system does not tell. */
+  readonly cpuSeconds: number | null;
+  /** Largest memory of the worker's JavaScript heap plus typed-array buffers seen (bytes). */
+  readonly peakBytes: number;
 }
 
 export type RealisationStatus = "running" | "done" | "failed";
@@ -426,6 +436,11 @@ export class StudyStore {
         ORDER BY p.created_at DESC`,
     ).all(point.paramsHash, point.engineId, point.controlsJson, point.pointHash) as { inputs_json: string }[];
     return rows.map((r) => JSON.parse(r.inputs_json));
+  }
+
+  /** Sets a `meta` entry (e.g. a numerical audit's plan in its own database). */
+  setMeta(key: string, value: string): void {
+    this.db.prepare("INSERT OR REPLACE INTO meta (key, value) VALUES (?, ?)").run(key, value);
   }
 
   /** Status of every stored realisation by key (for resume). */

@@ -116,12 +116,22 @@ export function replaceEnsembleResults(
   store: StudyStore,
   studyId: number,
   rows: readonly EnsembleResultInput[],
-  opts: { readonly analyses?: readonly string[]; readonly computedAt?: string } = {},
+  opts: {
+    readonly analyses?: readonly string[];
+    readonly computedAt?: string;
+    /**
+     * The rows describe one run of a command as a whole (e.g. an audit, which may compare other variants than
+     * the previous one): the previous rows of `analyses` are replaced even where the new run has no value.
+     */
+    readonly whole?: boolean;
+  } = {},
 ): number {
   const now = opts.computedAt ?? new Date().toISOString();
   return store.transaction(() => {
     const db = store.db;
-    const lost = lostValues(db, studyId, rows, opts.analyses);
+    const lost = opts.whole && opts.analyses !== undefined
+      ? []
+      : lostValues(db, studyId, rows, opts.analyses);
     if (lost.length > 0) throw new PartialResultsError(lost);
     if (opts.analyses === undefined) {
       db.prepare("DELETE FROM ensemble_results WHERE study_id = ?").run(studyId);

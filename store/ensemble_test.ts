@@ -172,3 +172,28 @@ Deno.test("replaceEnsembleResults: stored values are never replaced by errors or
     Deno.removeSync(dir, { recursive: true });
   }
 });
+
+Deno.test("replaceEnsembleResults: `whole` replaces one command's rows even where the new run has no value", () => {
+  const dir = Deno.makeTempDirSync();
+  const { store, studyId } = freshStore(dir);
+  try {
+    replaceEnsembleResults(store, studyId, [{ pointHash: "pa", analysis: "audit", name: "a/x", value: 1 }], {
+      analyses: ["audit"],
+    });
+    let refused = false;
+    try {
+      replaceEnsembleResults(store, studyId, [], { analyses: ["audit"] });
+    } catch (e) {
+      refused = e instanceof PartialResultsError;
+    }
+    assert(refused, "without `whole` dropping a stored value is refused");
+    replaceEnsembleResults(store, studyId, [{ pointHash: "pa", analysis: "audit", name: "b/x", value: 2 }], {
+      analyses: ["audit"],
+      whole: true,
+    });
+    assertEquals(readEnsembleResults(store.db, studyId, { analysis: "audit" }).map((r) => r.name), ["b/x"]);
+  } finally {
+    store.close();
+    Deno.removeSync(dir, { recursive: true });
+  }
+});

@@ -435,6 +435,23 @@ export function readAlignedSeries(
   return { name, realisationIds: [...realisationIds], k: ks, t, tSpread, values };
 }
 
+/**
+ * What each realisation occupies in the database, approximately (bytes): frame blobs plus about 24 bytes per
+ * frame row, 37 per series row and 30 per scalar row (the pre-flight's per-row figures), and its events' JSON.
+ * SQLite's page overhead and indices are not counted (the file grows by roughly 1.25× this).
+ */
+export function readStoredBytes(db: DatabaseSync, realisationIds: readonly number[]): Map<number, number> {
+  const stmt = arrays(db.prepare(
+    `SELECT (SELECT coalesce(sum(length(data)), 0) + 24 * count(*) FROM frames WHERE realisation_id = ?1)
+          + (SELECT 37 * count(*) FROM series WHERE realisation_id = ?1)
+          + (SELECT 30 * count(*) FROM scalars WHERE realisation_id = ?1)
+          + (SELECT coalesce(sum(length(ids_json) + length(data_json) + 16), 0) FROM events WHERE realisation_id = ?1)`,
+  ));
+  const out = new Map<number, number>();
+  for (const id of realisationIds) out.set(id, num((stmt.get(id) as unknown as SQLOutputValue[])[0]));
+  return out;
+}
+
 /** Number of events of each kind per realisation: `result.get(id)[kind]`. */
 export function readEventCounts(
   db: DatabaseSync,

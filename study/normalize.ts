@@ -125,12 +125,6 @@ export function normalizeStudy(study: StudyFile, opts: NormalizeOptions): Normal
     ...(study.run.threads !== undefined ? { threads: study.run.threads } : {}),
     ...(study.run.cluster !== undefined ? { cluster: study.run.cluster } : {}),
   };
-  const hashedRun = {
-    duration: run.duration,
-    sampleInterval: run.sampleInterval,
-    tolerance: run.tolerance,
-    maxDistance: run.maxDistance,
-  };
   const record = OBSERVABLE_IDS.filter((id) => study.observables.record.includes(id));
   const profile = study.observables.profile;
   const customProfile = profile !== undefined &&
@@ -158,13 +152,12 @@ export function normalizeStudy(study: StudyFile, opts: NormalizeOptions): Normal
       label: pointLabel(setting.varied),
       varied: setting.varied,
       params,
-      paramsHash: contentHash("spindrift-params-v1", { engine: engine.id, params }),
-      pointHash: contentHash("spindrift-point-v1", {
+      ...pointIdentity({
         engine: engineRef,
         params,
-        run: hashedRun,
+        run,
         observables,
-        ...(files.length > 0 ? { inputs } : {}),
+        inputs: files.length > 0 ? inputs : null,
       }),
       inputs,
     };
@@ -172,20 +165,7 @@ export function normalizeStudy(study: StudyFile, opts: NormalizeOptions): Normal
 
   const seed = typeof study.seed === "number" ? String(study.seed) : study.seed;
   const description = study.description.trim();
-  const hash = contentHash("spindrift-study-v1", {
-    name: study.name,
-    description,
-    engine: engineRef,
-    realisations: study.realisations,
-    seed,
-    run: hashedRun,
-    observables,
-    points: points
-      .map((p) => ({ pointHash: p.pointHash, varied: p.varied }))
-      .sort((a, b) => (a.pointHash < b.pointHash ? -1 : a.pointHash > b.pointHash ? 1 : 0)),
-  });
-
-  return {
+  const hashed = {
     name: study.name,
     description,
     engine: engineRef,
@@ -194,8 +174,66 @@ export function normalizeStudy(study: StudyFile, opts: NormalizeOptions): Normal
     run,
     observables,
     points,
-    hash,
-    text: opts.text,
-    sourcePath: opts.sourcePath,
   };
+  return { ...hashed, hash: studyHash(hashed), text: opts.text, sourcePath: opts.sourcePath };
+}
+
+/**
+ * `paramsHash` and `pointHash` of a parameter point (see the module comment); `inputs` only for engines that
+ * read files. Also used for the refined copies of points a numerical audit runs.
+ */
+export function pointIdentity(p: {
+  readonly engine: { readonly id: string; readonly version: string };
+  readonly params: unknown;
+  readonly run: NormalizedRun;
+  readonly observables: NormalizedStudy["observables"];
+  readonly inputs: Readonly<Record<string, string>> | null;
+}): { paramsHash: string; pointHash: string } {
+  return {
+    paramsHash: contentHash("spindrift-params-v1", { engine: p.engine.id, params: p.params }),
+    pointHash: contentHash("spindrift-point-v1", {
+      engine: p.engine,
+      params: p.params,
+      run: {
+        duration: p.run.duration,
+        sampleInterval: p.run.sampleInterval,
+        tolerance: p.run.tolerance,
+        maxDistance: p.run.maxDistance,
+      },
+      observables: p.observables,
+      ...(p.inputs !== null ? { inputs: p.inputs } : {}),
+    }),
+  };
+}
+
+/** The study's content hash (see the module comment) from its normalized fields. */
+export function studyHash(s: Omit<NormalizedStudy, "hash" | "text" | "sourcePath">): string {
+  return contentHash("spindrift-study-v1", {
+    name: s.name,
+    description: s.description,
+    engine: s.engine,
+    realisations: s.realisations,
+    seed: s.seed,
+    run: {
+      duration: s.run.duration,
+      sampleInterval: s.run.sampleInterval,
+      tolerance: s.run.tolerance,
+      maxDistance: s.run.maxDistance,
+    },
+    observables: s.observables,
+    points: s.points
+      .map((p) => ({ pointHash: p.pointHash, varied: p.varied }))
+      .sort((a, b) => (a.pointHash < b.pointHash ? -1 : a.pointHash > b.pointHash ? 1 : 0)),
+  });
+}
+
+/**
+ * The same study with `realisations` per point (a new revision with its own hash; point hashes, seeds and
+ * realisation keys are unchanged, so the first realisations are shared): what `run --until` records when it
+ * extends a study.
+ */
+export function withRealisations(study: NormalizedStudy, realisations: number): NormalizedStudy {
+  const { hash: _hash, ...rest } = study;
+  const next = { ...rest, realisations };
+  return { ...next, hash: studyHash(next) };
 }

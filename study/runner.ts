@@ -55,6 +55,17 @@ export interface RunOptions {
   readonly onNote?: (line: string) => void;
   /** Run even past the pre-flight's hard limits (`preflight.ts`). */
   readonly force?: boolean;
+  /**
+   * Only these realisations of the plan (e.g. `r.index < 8` for a pilot, or the next batch of a sequential
+   * run); the others are neither run nor counted. Default: all.
+   */
+  readonly only?: (r: PlannedRealisation) => boolean;
+  /** Called after each realisation is stored, with its outcome (including the worker's measured `usage`). */
+  readonly onFinished?: (r: PlannedRealisation, outcome: RealisationOutcome) => void;
+  /** Skip the pre-flight (the caller made its own). */
+  readonly skipPreflight?: boolean;
+  /** Notes recorded with the study revision (e.g. how `run --until` extended it), beside the skipped observables. */
+  readonly notes?: readonly { readonly kind: string; readonly id: string; readonly reason: string }[];
 }
 
 export interface FailureSummary {
@@ -177,7 +188,10 @@ export function recordStudy(
   store: StudyStore,
   study: NormalizedStudy,
   provenance: Provenance,
-  opts: { readonly allowOtherStudy?: boolean } = {},
+  opts: {
+    readonly allowOtherStudy?: boolean;
+    readonly notes?: readonly { readonly kind: string; readonly id: string; readonly reason: string }[];
+  } = {},
 ): number {
   const engine = findEngine(study.engine.id);
   const skipped = engine ? applicableObservables(study.observables.record, engine.capabilities).skipped : [];
@@ -196,7 +210,10 @@ export function recordStudy(
       toolVersion: provenance.toolVersion,
       denoVersion: provenance.denoVersion,
       gitCommit: provenance.gitCommit,
-      notes: skipped.map((s) => ({ kind: "observable-skipped", id: s.id, reason: s.reason })),
+      notes: [
+        ...skipped.map((s) => ({ kind: "observable-skipped", id: s.id, reason: s.reason })),
+        ...(opts.notes ?? []),
+      ],
       units: recordedUnits(engine, study),
     },
     study.points.map((p) => ({
@@ -220,18 +237,24 @@ export async function runStudy(study: NormalizedStudy, opts: RunOptions): Promis
   if (!engine) throw new Error(`engine ${study.engine.id} is not registered`);
   // Sizes first, from counts alone: a study too large for the disk or the memory is refused before the
   // database is touched or a plan is built.
-  const verdict = preflight(study, { dbPath: opts.dbPath, workers: opts.workers, force: opts.force });
-  for (const r of verdict.refusals) opts.onNote?.(`warning (run anyway, --force): ${r}`);
-  for (const w of verdict.warnings) opts.onNote?.(`warning: ${w}`);
+  if (!opts.skipPreflight) {
+    const verdict = preflight(study, { dbPath: opts.dbPath, workers: opts.workers, force: opts.force });
+    for (const r of verdict.refusals) opts.onNote?.(`warning (run anyway, --force): ${r}`);
+    for (const w of verdict.warnings) opts.onNote?.(`warning: ${w}`);
+  }
   const store = StudyStore.open(opts.dbPath, { command: "run" });
   try {
     for (const n of store.notes) opts.onNote?.(n);
-    const studyId = recordStudy(store, study, opts.provenance, { allowOtherStudy: opts.allowOtherStudy });
+    const studyId = recordStudy(store, study, opts.provenance, {
+      allowOtherStudy: opts.allowOtherStudy,
+      notes: opts.notes,
+    });
     const changes = inputChanges(store, study);
     for (const c of changes) opts.onNote?.(describeInputChange(c));
     // The lock guarantees no other writer: `running` rows are what a killed run left.
     const discardedUnfinished = store.discardUnfinished();
-    const plan = planStudy(study);
+    const only = opts.only;
+    const plan = only ? planStudy(study).filter((r) => only(r)) : planStudy(study);
     if (opts.fresh) store.deleteRealisations(plan.map((r) => r.key));
     const statuses = store.realisationStatuses();
     const todo = plan.filter((r) => {
@@ -325,8 +348,9 @@ async function runPool(
 ): Promise<PoolResult> {
   opts.progress.start(total, skipped);
   try {
-    const run = storingHooks(store, study, hostName(), (_r, _o, finished) => {
+    const run = storingHooks(store, study, hostName(), (r, outcome, finished) => {
       opts.progress.update(skipped + finished, run.failures.length);
+      opts.onFinished?.(r, outcome);
     });
     const { interrupted } = await runRealisations(study, todo, opts.workers, run.hooks, opts.signal);
     // Finished realisations are committed; the ones in flight are discarded and rerun next time.

@@ -291,20 +291,24 @@ export function bcaInterval(
   };
 }
 
-/** Sample standard deviation (divisor m − 1) of the finite values; null if fewer than 2. Welford update. */
-export function standardDeviation(values: ArrayLike<number>): number | null {
-  let m = 0;
-  let mean = 0;
-  let m2 = 0;
+/** Mean and sample standard deviation (n − 1) of the finite values; sd NaN below two values. */
+export function meanAndSd(values: ArrayLike<number>): { n: number; mean: number; sd: number } {
+  let n = 0, mean = 0, m2 = 0;
   for (let i = 0; i < values.length; i++) {
     const v = values[i];
     if (!Number.isFinite(v)) continue;
-    m++;
+    n++;
     const d = v - mean;
-    mean += d / m;
+    mean += d / n;
     m2 += d * (v - mean);
   }
-  return m < 2 ? null : Math.sqrt(m2 / (m - 1));
+  return { n, mean: n > 0 ? mean : Number.NaN, sd: n > 1 ? Math.sqrt(m2 / (n - 1)) : Number.NaN };
+}
+
+/** Sample standard deviation (divisor m − 1) of the finite values; null if fewer than 2. Welford update. */
+export function standardDeviation(values: ArrayLike<number>): number | null {
+  const s = meanAndSd(values);
+  return s.n > 1 ? s.sd : null;
 }
 
 function finiteSorted(values: ArrayLike<number>): Float64Array {

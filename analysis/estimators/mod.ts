@@ -12,6 +12,9 @@
  * - `velocityCorrelations`, `VelocityCorrelationAccumulator` — f(r), g(r) from probe velocities.
  * - `walkerEnsemble` and the track generators — synthetic data with known D.
  * - `streamFromSeed` — reproducible streams from recorded seed strings.
+ * - `steinSampleSize`, `steinInterval`, `projectedHalfWidth` — realisations needed for a target precision
+ *   (Stein's two-stage procedure) and the half-width a pilot's spread projects.
+ * - `pairedDifference`, `pairedBootstrapDifference` — paired comparisons of reruns with the same seeds.
  *
  * @example
  * ```ts
@@ -32,7 +35,9 @@ export * from "./correlations.ts";
 export * from "./diffusion.ts";
 export * from "./evaporation.ts";
 export * from "./msd_fit.ts";
+export * from "./paired.ts";
 export * from "./seed.ts";
+export * from "./stein.ts";
 export * from "./synthetic.ts";
 export * from "./tracks.ts";
 export * from "./vinen.ts";

@@ -40,6 +40,7 @@ import { A0_DEFAULT_M, type FilamentParams, filamentParamsSchema, KAPPA_HE4 } fr
 import { FilamentSimulation, type SimulationConfig } from "./simulation.ts";
 import { upgradeFilamentParams } from "./upgrade.ts";
 import { FILAMENT_STARTER } from "./starter.ts";
+import { FILAMENT_REFINEMENT, filamentConservation } from "./credibility.ts";
 import { SegmentTree } from "./tree.ts";
 import type { NormalFlow } from "./velocity.ts";
 
@@ -102,6 +103,8 @@ export const filamentEngine: Engine<FilamentParams> = {
   paramsSchema: filamentParamsSchema,
   upgradeParams: upgradeFilamentParams,
   starter: FILAMENT_STARTER,
+  refinement: FILAMENT_REFINEMENT,
+  conservation: filamentConservation,
   sizeHint: filamentSizeHint,
   run(input, sink) {
     checkRunControls(input.controls, { usesTolerance: false });

@@ -19,6 +19,7 @@ import { type GpParams, gpParamsSchema } from "./params.ts";
 import { simulate } from "./simulate.ts";
 import { SNAPSHOT_FIELDS } from "./snapshot.ts";
 import { GP_STARTER } from "./starter.ts";
+import { GP_REFINEMENT, gpConservation } from "./credibility.ts";
 import { gpSizeHint } from "./size_hint.ts";
 
 export const gpEngine: Engine<GpParams> = {
@@ -56,6 +57,8 @@ export const gpEngine: Engine<GpParams> = {
   },
   paramsSchema: gpParamsSchema,
   starter: GP_STARTER,
+  refinement: GP_REFINEMENT,
+  conservation: gpConservation,
   sizeHint: gpSizeHint,
   scales() {
     return { coreRadius: 1, circulation: 1 };

@@ -16,6 +16,7 @@ import { type PointVortexParams, pointVortexParamsSchema } from "./params.ts";
 import { POINT_VORTEX_STARTER } from "./starter.ts";
 import { squared } from "../units.ts";
 import { simulate } from "./simulate.ts";
+import { POINT_VORTEX_REFINEMENT, pointVortexConservation } from "./credibility.ts";
 
 export const pointVortexEngine: Engine<PointVortexParams> = {
   id: "point-vortex-2d",
@@ -44,6 +45,8 @@ export const pointVortexEngine: Engine<PointVortexParams> = {
   paramsSchema: pointVortexParamsSchema,
   starter: POINT_VORTEX_STARTER,
   sizeHint: pointVortexSizeHint,
+  refinement: POINT_VORTEX_REFINEMENT,
+  conservation: pointVortexConservation,
   scales(params) {
     const l = params.lengthUnit;
     return { units: { length: l, time: `${squared(l)}/κ`, circulation: "κ" } };
