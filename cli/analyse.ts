@@ -209,12 +209,18 @@ function diffusionLines(
         d.tauC === null ? "—" : formatNumber(d.tauC)
       }; t₂: ${d.window.end})${
         d.support !== null
-          ? `; support: ${Math.round(d.support * 100)} % of bootstrap replicates find a window`
+          ? `; support: ${
+            Math.round(d.support * 100)
+          } % of bootstrap replicates find a window of their own that passes the rule`
           : ""
       }`,
     );
   } else if (d.status === "no-diffusive-regime" && d.support !== null) {
-    lines.push(`${pad}support: ${Math.round(d.support * 100)} % of bootstrap replicates find a window`);
+    lines.push(
+      `${pad}support: ${
+        Math.round(d.support * 100)
+      } % of bootstrap replicates find a window of their own that passes the rule`,
+    );
   }
   const ok = d.status === "ok";
   if (d.estimators.length > 0) {
