@@ -120,14 +120,15 @@ Deno.test("imported-tracks-2d: a 2e6-row CSV streams with memory far below the f
     assert(Number.isFinite(m.checksum));
     // Bounds: the import completed with a 48 MB heap cap for a ≈ 97 MB file; growth below half the file size
     // (≈ 48 MB; measured in a fresh process: ≈ 24 MB rss, most of it start-up of the reader and JIT, and 6–12 MB
-    // heap, mostly young garbage); and after the first quarter of the file, growth below a quarter of the file
-    // (measured 0.2–14 MB depending on when the collector runs; a reader keeping rows would add ≈ 70 MB or more):
-    // memory does not grow with the file's length.
+    // heap, mostly young garbage); and after the first quarter of the file, growth below 40 % of the file
+    // (measured 0.2–14 MB on a quiet machine and up to 27 MB with the other test files running, depending on when
+    // the collector runs; a reader keeping the remaining rows would add ≈ 70 MB or more): memory does not grow
+    // with the file's length.
     const bound = fileBytes / 2;
     assert(m.rssGrowth < bound, `rss grew by ${mb(m.rssGrowth)} MB, bound ${mb(bound)} MB`);
     assert(m.heapGrowth < bound, `heap grew by ${mb(m.heapGrowth)} MB, bound ${mb(bound)} MB`);
     assert(
-      m.lateRssGrowth < fileBytes / 4,
+      m.lateRssGrowth < 0.4 * fileBytes,
       `rss grew by ${mb(m.lateRssGrowth)} MB after the first quarter of the file`,
     );
   } finally {
