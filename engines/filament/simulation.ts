@@ -9,7 +9,8 @@
  *   3. wrap positions into the periodic box (image counters), NaN and blow-up guards;
  *   4. heater absorption (points with r < r_h deleted) and remeshing, then compaction (tiny loops < 5 points
  *      or < 3δ removed, far loops removed);
- *   5. reconnection check (Type II), compaction with loop relabelling if anything reconnected.
+ *   5. reconnection check (Type II), compaction with loop relabelling if anything reconnected, then remeshing
+ *      again (the swapped connections are short) and compaction.
  *
  * Method (dt): linearising the local term about a straight line gives Kelvin waves ω = (κΛ/4π)k²; the 5-point
  * stencil's largest k² is 16/(3h²) (zig-zag mode), and RK4 is stable on the imaginary axis for |ωdt| ≤ 2.83, so
@@ -607,12 +608,7 @@ export class FilamentSimulation {
     for (let pass = 0; pass < passes; pass++) {
       let changed = false;
       if (cfg.heaterRadius > 0) changed = this.absorbInHeater() || changed;
-      if (cfg.remesh) {
-        const s = this.state;
-        computeGeometry(s.n, s.x, s.y, s.z, s.next, s.prev, L, this.geo);
-        const r = remesh(s, this.geo, this.remeshOpts, this.ids, this.onTransfer);
-        changed = changed || r.inserted + r.removed > 0;
-      }
+      if (cfg.remesh) changed = this.remeshPass() || changed;
       if (far < Infinity) this.markFarLoops(far);
       compactInto(this.state, this.spare, this.compactPlain);
       this.swap();
@@ -661,6 +657,14 @@ export class FilamentSimulation {
         }
         for (const r of this.pending) this.removedLoop(r, RemovalReason.Tiny);
         computeGeometry(st.n, st.x, st.y, st.z, st.next, st.prev, L, this.geo);
+        // The swapped connections are as short as the lines were close (down to ~δ_r/10): remesh them now,
+        // or the next step's stable step c·h_min²/(κΛ) would shrink with them.
+        if (cfg.remesh && this.remeshPass()) {
+          compactInto(this.state, this.spare, this.compactPlain);
+          this.swap();
+          const s2 = this.state;
+          computeGeometry(s2.n, s2.x, s2.y, s2.z, s2.next, s2.prev, L, this.geo);
+        }
       }
     }
     if (this.state.n > cfg.maxPoints) {
@@ -671,6 +675,19 @@ export class FilamentSimulation {
         this.t,
       );
     }
+  }
+
+  /**
+   * Remeshing of the current (linked) state; new points that land inside the heater (on a chord that crosses
+   * it) are absorbed at once, so no point starts a step inside the wire. True if anything changed.
+   */
+  private remeshPass(): boolean {
+    const s = this.state, cfg = this.config;
+    computeGeometry(s.n, s.x, s.y, s.z, s.next, s.prev, cfg.velocity.boxSize, this.geo);
+    const r = remesh(s, this.geo, this.remeshOpts!, this.ids, this.onTransfer);
+    let changed = r.inserted + r.removed > 0;
+    if (cfg.heaterRadius > 0 && r.inserted > 0) changed = this.absorbInHeater() || changed;
+    return changed;
   }
 
   /** Deletes points inside the heater (r < r_h from the z axis), reporting each; true if any. */

@@ -319,6 +319,20 @@ Deno.test("FilamentSimulation: two colliding rings reconnect once into one loop,
   );
 });
 
+Deno.test("FilamentSimulation: after a reconnection every segment is at least δ_min long again", () => {
+  // The swapped connections are as short as the lines were close; remeshing right after the reconnection
+  // restores the spacing floor δ_min (docs/methods.md §2.5), so the next stable step c·h_min²/(κΛ) does not
+  // shrink with them (our rule; common practice, no source).
+  const delta = 0.1;
+  const { sim, events } = makeSim(simConfig(delta), collidingRingsPoints(1, 1.6, 0, 0.6, 0.075));
+  while (!events.some((e) => e.kind === "reconnection") && sim.t < 0.5) sim.advance(0.5 - sim.t);
+  assert.ok(events.some((e) => e.kind === "reconnection"), "the rings reconnect by t = 0.5");
+  sim.stableStep(); // refreshes the geometry
+  let hmin = Infinity;
+  for (let i = 0; i < sim.state.n; i++) hmin = Math.min(hmin, sim.geo.len[i]);
+  assert.ok(hmin >= sim.config.minSpacing * (1 - 1e-9), `shortest segment ${hmin} after the reconnection`);
+});
+
 Deno.test("FilamentSimulation: the tree keeps the impulse drift within 2× the direct-sum drift", () => {
   // Acceptance check of docs/methods.md §2.9 for the tree in a dynamic run (T = 0, no reconnection or remeshing).
   const rng = RandomStream.fromState([5, 4, 3, 2]);
