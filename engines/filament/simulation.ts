@@ -31,14 +31,17 @@
  * (checked by the self-convergence test). Memory follows the points: remeshing interpolates it onto new
  * points; reconnections and heater absorption clear it for the points within 4 links, which restart at
  * order 1; the first steps are classical RK4 steps until `order` levels exist. Advective limit of the
- * multirate steps: instead of v_max·dt ≤ δ_r/2 for every point, relative displacements are bounded pairwise —
- * by δ_r for pairs in the near list that may reconnect (≥ 4 links apart or on different loops) and by the
- * list's skin (1.5δ) for all — so a fast cusp with no line nearby (the usual recoil after a reconnection)
- * no longer sets the step of the whole tangle; approaching lines still cannot pass through each other
- * between reconnection checks. The far field, once the near
- * window is removed, hardly responds to mesh-scale oscillations, so its extrapolation is stable at the local
- * term's stable step (and up to 2× it, measured on the zig-zag test); larger ratios alias the fast Kelvin
- * modes into the extrapolation and grow.
+ * multirate steps: instead of v_max·dt ≤ δ_r/2 for every point, relative displacements are bounded pairwise.
+ * A pair in the near list that may reconnect (≥ 4 links apart or on different loops), at distance d and
+ * relative speed w, keeps w·dt ≤ δ_r + d: if it meets within the step, that happens no earlier than d/w, and
+ * by the step's end it has passed by at most w·dt − d ≤ δ_r, so the reconnection check still finds it — the
+ * guarantee of the global rule, without letting a fast pair that is far apart, or a fast cusp with no line
+ * nearby (the usual recoil after a reconnection), set the step of the whole tangle. Every pair is also kept
+ * from closing in by more than the list's skin (1.5δ), so the list stays complete. The far field, once the
+ * near window is removed, hardly responds to mesh-scale oscillations, so its extrapolation is stable at the
+ * local term's stable step and up to 2× it (measured on the zig-zag test; the default `slowFactor` 2 uses
+ * that: one far-field evaluation per two stable substeps when the advective limits allow); larger ratios
+ * alias the fast Kelvin modes into the extrapolation and grow.
  *
  * References: K.W. Schwarz, Phys. Rev. B 38, 2398 (1988), doi:10.1103/PhysRevB.38.2398; D.R. Durran,
  * Numerical Methods for Fluid Dynamics, 2nd ed. (Springer, 2010), doi:10.1007/978-1-4419-6412-0 (RK4 stability
@@ -118,8 +121,8 @@ const NEAR_SKIN = 1.5;
 /** Points fewer links apart on one loop never reconnect (`reconnect.ts`). */
 const RECONNECT_MIN_LINKS = 4;
 
-/** Default integrator: multirate, order 4, steps at the local term's stable step, window 2δ. */
-export const INTEGRATOR_DEFAULTS = { kind: "multirate", order: 4, slowFactor: 1, window: 2 } as const;
+/** Default integrator: multirate, order 4, steps up to twice the local term's stable step, window 2δ. */
+export const INTEGRATOR_DEFAULTS = { kind: "multirate", order: 4, slowFactor: 2, window: 2 } as const;
 
 /** Filament simulation state and stepper (see module doc). */
 export class FilamentSimulation {
@@ -346,8 +349,11 @@ export class FilamentSimulation {
   private loopIndex = new Int32Array(0);
   private loopLength = new Int32Array(0);
 
-  /** Largest relative speed (first-stage velocities kx…) of listed pairs that may reconnect. */
-  private approachSpeed(): number {
+  /**
+   * Longest step for which no listed pair that may reconnect closes in by more than δ_r plus its distance
+   * (first-stage velocities kx…; module doc).
+   */
+  private approachStep(): number {
     const s = this.state, n = s.n;
     if (this.loopIndex.length < n) {
       this.loopIndex = new Int32Array(this.cap);
@@ -360,8 +366,11 @@ export class FilamentSimulation {
         this.loopLength[s0 + q] = m;
       }
     }
-    return this.near.maxApproachSpeed(
+    return this.near.approachStep(
       n,
+      s.x,
+      s.y,
+      s.z,
       this.kx,
       this.ky,
       this.kz,
@@ -369,6 +378,7 @@ export class FilamentSimulation {
       this.loopIndex,
       this.loopLength,
       RECONNECT_MIN_LINKS,
+      this.config.reconnectionDistance,
     );
   }
   /** Slow (nonlocal) evaluations and fast substeps of the last step. */
@@ -494,12 +504,11 @@ export class FilamentSimulation {
     let dt = dtMax;
     if (!fixedDt) {
       // Advective limits (module doc): no pair may approach by more than the near list's skin (so the list
-      // stays complete), and no pair that could reconnect by more than δ_r (so none passes through another
-      // between reconnection checks).
+      // stays complete), and no pair that could reconnect by more than δ_r plus its distance (so none passes
+      // through another between reconnection checks).
       const skin = this.config.resolution * NEAR_SKIN;
       const list = 0.5 * skin / Math.sqrt(this.maxSpeed2());
-      const w = this.approachSpeed();
-      const approach = w > 0 ? this.config.reconnectionDistance / w : Infinity;
+      const approach = this.approachStep();
       dt = this.checkedStep(Math.min(dtMax, starting ? fast : slowFactor * fast, list, approach), dtMax);
     }
     const m = starting ? 1 : Math.max(1, Math.ceil(dt / fast * (1 - 1e-12)));
