@@ -152,7 +152,7 @@ export class NearField {
     vy: Float64Array,
     vz: Float64Array,
   ): void {
-    const L = this.boxSize, iw = 1 / this.radius;
+    const L = this.boxSize, iw = 1 / this.radius, outer2 = 4 * this.radius * this.radius;
     const st = this.start, seg = this.seg;
     for (let i = 0; i < n; i++) {
       const px = x[i], py = y[i], pz = z[i];
@@ -170,7 +170,9 @@ export class NearField {
           r1z -= oz;
         }
         const mx = r1x - 0.5 * ex, my = r1y - 0.5 * ey, mz = r1z - 0.5 * ez;
-        const w = nearWindow(Math.sqrt(mx * mx + my * my + mz * mz) * iw);
+        const m2 = mx * mx + my * my + mz * mz;
+        if (m2 >= outer2) continue; // beyond 2r_w (most of the list: its skin): weight 0
+        const w = nearWindow(Math.sqrt(m2) * iw);
         if (w === 0) continue;
         const r2x = r1x - ex, r2y = r1y - ey, r2z = r1z - ez;
         const n1 = Math.sqrt(r1x * r1x + r1y * r1y + r1z * r1z);
