@@ -44,7 +44,7 @@ import { FILAMENT_REFINEMENT, filamentConservation } from "./credibility.ts";
 import { SegmentTree } from "./tree.ts";
 import type { NormalFlow } from "./velocity.ts";
 
-const ENGINE_VERSION = "2.0.0";
+const ENGINE_VERSION = "3.0.0";
 
 /** The 3D vortex-filament engine. */
 export const filamentEngine: Engine<FilamentParams> = {

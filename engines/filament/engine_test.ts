@@ -60,7 +60,7 @@ const dimless = { units: "dimensionless", coreRadius: 1e-4, resolution: 0.1 };
 
 Deno.test("filamentEngine declares its id, version and capabilities", () => {
   assert.equal(filamentEngine.id, "vortex-filament-3d");
-  assert.equal(filamentEngine.version, "2.0.0");
+  assert.equal(filamentEngine.version, "3.0.0");
   const c = filamentEngine.capabilities;
   assert.equal(c.dimension, 3);
   assert.deepEqual([...c.fields], ["loop", "marker"]);

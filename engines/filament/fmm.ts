@@ -6,11 +6,21 @@
  * three Laplace potentials whose sources are straight segments. With b_γ(R) = ∂^γ(1/|R|)/γ! (Taylor
  * coefficients of 1/r, computed by the recurrence n r² b_γ + (2n − 1) Σ_i R_i b_{γ−e_i} + (n − 1) Σ_i b_{γ−2e_i}
  * = 0, n = |γ|), a source cell with centre X carries the exact segment moments M_γ = Σ_j ∫ (X − s)^γ ds
- * (Gauss–Legendre along each segment, exact to the expansion order), and
+ * (Gauss–Legendre along each segment, exact to degree p − 1: degree-p moments reach only the potential, not
+ * the velocity, and are neither formed nor shifted), and
  *   A(x) = Σ_α M_α b_α(x − X)                                         (multipole)
  *   ℓ_β = Σ_α C(α+β, α) M_α b_{α+β}(Z − X),   A(x) = Σ_β ℓ_β (x − Z)^β   (M2L into a local expansion about Z)
  * truncated at |α| + |β| ≤ p. Multipoles are shifted up the tree (M2M), local expansions down (L2L) with the
  * binomial formulas, and the velocity at a target point is ∇×(Σ_β ℓ_β (x − Z)^β) (L2P).
+ *
+ * Harmonic reduction of the M2L. Everything a multipole is contracted with is harmonic, so with M′_α = M_α/α!
+ * a moment with α_z ≥ 2 can be folded into α − 2e_z + 2e_x and α − 2e_z + 2e_y (∂_z² = −∂_x² − ∂_y²), leaving
+ * the (p + 1)² moments with α_z ≤ 1 per component (a harmonic polynomial of degree n has 2n + 1 independent
+ * coefficients). The M2L then needs no coefficients, ℓ′_β = β!ℓ_β = Σ_α M′_α ∂^{α+β}(1/r)(Z − X), and only
+ * for β_z ≤ 1; the local expansion is harmonic term by term, so the rest follows from
+ * ℓ′_{γ+2e_z} = −ℓ′_{γ+2e_x} − ℓ′_{γ+2e_y} once per cell before L2L and L2P. Exact (the same truncation), and at
+ * p = 5 it cuts the M2L from 1218 to 795 products plus one derivative tensor of 46 entries instead of 56.
+ * The kernels are generated straight-line code (`_gen_fmm_kernels.ts`).
  *
  * Traversal: target and source cells are the cells of one octree (a point belongs to the cell of its segment
  * starting there). A pair (T, S) is accepted when r_T + b_S < θ·|X_T − X_S|, with r_T the radius about X_T of
@@ -24,7 +34,9 @@
  * doi:10.1006/jcph.2002.7026 (dual-tree traversal, Cartesian expansions, the opening criterion);
  * L. Greengard, V. Rokhlin, J. Comput. Phys. 73, 325 (1987), doi:10.1016/0021-9991(87)90140-9 (FMM);
  * P. Li, H. Johnston, R. Krasny, J. Comput. Phys. 228, 3858 (2009), doi:10.1016/j.jcp.2009.02.022 (recurrence
- * of the Taylor coefficients of 1/r); J. Katz, A. Plotkin, Low-Speed Aerodynamics (2001) §2.3.2 (segment).
+ * of the Taylor coefficients of 1/r); J. Applequist, J. Phys. A 22, 4303 (1989) (traceless Cartesian tensors:
+ * 2n + 1 independent components of rank n; reference from memory); J. Katz, A. Plotkin, Low-Speed
+ * Aerodynamics (2001) §2.3.2 (segment).
  *
  * @example
  * ```ts
@@ -37,7 +49,7 @@
  * ```
  */
 import { type ArrayAllocator, PLAIN, type SegmentTree } from "./tree.ts";
-import { KERNELS } from "./_fmm_kernels.ts";
+import { type FmmKernels, KERNELS } from "./_fmm_kernels.ts";
 import { WasmP2P } from "./wasm_p2p.ts";
 import { segmentVelocity } from "./biot_savart.ts";
 
@@ -179,11 +191,10 @@ function gaussLegendre(q: number): { u: Float64Array; w: Float64Array } {
 export class SegmentFmm {
   readonly p: number;
   readonly mi: MultiIndex;
-  // M2L table over (α, β), |α| + |β| ≤ p, β ≠ 0 (the potential itself is not needed for the velocity).
-  private readonly m2lA: Int32Array;
-  private readonly m2lB: Int32Array;
-  private readonly m2lG: Int32Array;
-  private readonly m2lC: Float64Array;
+  /** Generated kernels of this order (`_fmm_kernels.ts`). */
+  private readonly k: FmmKernels;
+  /** Reduced multipole size per component, (p + 1)². */
+  readonly reducedSize: number;
   // Shift tables (M2M: β ≤ α; L2L: γ ≥ β): (target, source, monomial, coefficient).
   private readonly shT: Int32Array;
   private readonly shS: Int32Array;
@@ -193,16 +204,13 @@ export class SegmentFmm {
   private readonly l2S: Int32Array;
   private readonly l2D: Int32Array;
   private readonly l2C: Float64Array;
-  // Gradient table for L2P: ∂_b of Σ_β ℓ_β h^β → β_b h^{β−e_b}.
-  private readonly grB: Int32Array;
-  private readonly grAxis: Int32Array;
-  private readonly grM: Int32Array;
-  private readonly grF: Float64Array;
   private readonly gu: Float64Array;
   private readonly gw: Float64Array;
   private cellCap = 0;
   /** Multipoles, 3 components × size per cell (component-major within a cell). */
   mult: Float64Array = new Float64Array(0);
+  /** Reduced multipoles (α_z ≤ 1), 3 × reducedSize per cell: what the M2L reads. */
+  multR: Float64Array = new Float64Array(0);
   /** Local expansions, 3 × size per cell. */
   loc: Float64Array = new Float64Array(0);
   /** Target radius about X_c per cell. */
@@ -212,39 +220,20 @@ export class SegmentFmm {
   private stackA = new Int32Array(1024);
   private stackB = new Int32Array(1024);
   private stackC = new Int32Array(1024);
-  private readonly fastDeriv: ((Rx: number, Ry: number, Rz: number, D: Float64Array) => void) | null;
-  private readonly fastM2l:
-    | ((D: Float64Array, M: Float64Array, mb: number, L: Float64Array, lb: number) => void)
-    | null;
   /** How the shared arrays (multipoles, local expansions, radii) are allocated. */
   alloc: ArrayAllocator = PLAIN;
-  /** Cell pairs with at most this many target–segment pairs are summed directly (cheaper than an M2L). */
-  directPairs = Number(Deno.env.get("DP") ?? 0);
   /** Counts of the last evaluation. */
   m2lCount = 0;
   p2pPairs = 0;
 
   constructor(p: number, nearKernel: NearKernel = "f64") {
     this.p = p;
+    const k = KERNELS[p];
+    if (k === undefined) throw new RangeError(`FMM expansion order ${p} is not available (3–6)`);
+    this.k = k;
+    this.reducedSize = k.reducedSize;
     const mi = new MultiIndex(p);
     this.mi = mi;
-    const A: number[] = [], B: number[] = [], G: number[] = [], C: number[] = [];
-    for (let ia = 0; ia < mi.size; ia++) {
-      for (let ib = 1; ib < mi.size; ib++) {
-        const g = mi.index(mi.ax[ia] + mi.ax[ib], mi.ay[ia] + mi.ay[ib], mi.az[ia] + mi.az[ib]);
-        if (g < 0) continue;
-        A.push(ia);
-        B.push(ib);
-        G.push(g);
-        C.push(
-          binom(mi.ax[g], mi.ax[ia]) * binom(mi.ay[g], mi.ay[ia]) * binom(mi.az[g], mi.az[ia]),
-        );
-      }
-    }
-    this.m2lA = Int32Array.from(A);
-    this.m2lB = Int32Array.from(B);
-    this.m2lG = Int32Array.from(G);
-    this.m2lC = Float64Array.from(C);
     const sT: number[] = [], sS: number[] = [], sD: number[] = [], sC: number[] = [];
     for (let ia = 0; ia < mi.size; ia++) {
       for (let ib = 0; ib < mi.size; ib++) {
@@ -256,42 +245,22 @@ export class SegmentFmm {
         sC.push(binom(mi.ax[ia], mi.ax[ib]) * binom(mi.ay[ia], mi.ay[ib]) * binom(mi.az[ia], mi.az[ib]));
       }
     }
-    this.shT = Int32Array.from(sT);
-    this.shS = Int32Array.from(sS);
-    this.shD = Int32Array.from(sD);
-    this.shC = Float64Array.from(sC);
+    // M2M only up to degree p − 1: degree-p moments would reach only the potential (β = 0), never needed.
+    const low = sT.map((t) => mi.degree[t] < p);
+    this.shT = Int32Array.from(sT.filter((_, e) => low[e]));
+    this.shS = Int32Array.from(sS.filter((_, e) => low[e]));
+    this.shD = Int32Array.from(sD.filter((_, e) => low[e]));
+    this.shC = Float64Array.from(sC.filter((_, e) => low[e]));
     // L2L: ℓ′_β = Σ_{γ ≥ β} C(γ, β) d^{γ−β} ℓ_γ — the transpose pattern of M2M.
     this.l2T = Int32Array.from(sS);
     this.l2S = Int32Array.from(sT);
     this.l2D = Int32Array.from(sD);
     this.l2C = Float64Array.from(sC);
-    const gB: number[] = [], gA: number[] = [], gM: number[] = [], gF: number[] = [];
-    for (let ib = 1; ib < mi.size; ib++) {
-      const e = [mi.ax[ib], mi.ay[ib], mi.az[ib]];
-      for (let a = 0; a < 3; a++) {
-        if (e[a] === 0) continue;
-        const d = e.slice();
-        d[a]--;
-        const m = mi.index(d[0], d[1], d[2]);
-        if (mi.degree[m] > p - 1) continue;
-        gB.push(ib);
-        gA.push(a);
-        gM.push(m);
-        gF.push(e[a]);
-      }
-    }
-    this.grB = Int32Array.from(gB);
-    this.grAxis = Int32Array.from(gA);
-    this.grM = Int32Array.from(gM);
-    this.grF = Float64Array.from(gF);
-    const gl = gaussLegendre(Math.max(1, Math.ceil((p + 1) / 2)));
+    const gl = gaussLegendre(Math.max(1, Math.ceil(p / 2))); // exact to degree p − 1 along a segment
     this.gu = gl.u;
     this.gw = gl.w;
     this.deriv = new Float64Array(mi.size);
     this.mono = new Float64Array(mi.size);
-    const k = KERNELS[p];
-    this.fastDeriv = k ? k.inverseDistance : null;
-    this.fastM2l = k ? k.m2l : null;
     this.wasm = nearKernel === "simd-f32" ? WasmP2P.load() : null;
   }
 
@@ -305,6 +274,7 @@ export class SegmentFmm {
     while (c < nCell) c *= 2;
     const k = 3 * this.mi.size;
     this.mult = this.alloc.f64(c * k);
+    this.multR = this.alloc.f64(c * 3 * this.reducedSize);
     this.loc = this.alloc.f64(c * k);
     this.rT = this.alloc.f64(c);
     this.cellCap = c;
@@ -315,6 +285,7 @@ export class SegmentFmm {
     const K = this.mi.size, K3 = 3 * K;
     const M = this.mult, mono = this.mono, mi = this.mi;
     const { gu, gw } = this;
+    const p2m = this.k.p2m;
     M.fill(0, 0, t.nCell * K3);
     for (let c = t.nCell - 1; c >= 0; c--) {
       const b = c * K3;
@@ -323,16 +294,10 @@ export class SegmentFmm {
         const s0 = t.start[c], s1 = s0 + t.count[c];
         for (let k = s0; k < s1; k++) {
           const ex = t.sdx[k], ey = t.sdy[k], ez = t.sdz[k];
+          const hx = X - t.smx[k], hy = Y - t.smy[k], hz = Z - t.smz[k];
           for (let q = 0; q < gu.length; q++) {
             const u = gu[q], w = gw[q];
-            mi.monomials(X - t.smx[k] - u * ex, Y - t.smy[k] - u * ey, Z - t.smz[k] - u * ez, mono);
-            const wx = w * ex, wy = w * ey, wz = w * ez;
-            for (let g = 0; g < K; g++) {
-              const m = mono[g];
-              M[b + g] += m * wx;
-              M[b + K + g] += m * wy;
-              M[b + 2 * K + g] += m * wz;
-            }
+            p2m(hx - u * ex, hy - u * ey, hz - u * ez, w * ex, w * ey, w * ez, M, b);
           }
         }
       } else {
@@ -350,6 +315,7 @@ export class SegmentFmm {
           }
         }
       }
+      this.k.fold(M, b, this.multR, 3 * this.reducedSize * c);
     }
   }
 
@@ -377,27 +343,12 @@ export class SegmentFmm {
     }
   }
 
-  /** Adds the local expansion about X_T of source cell S's multipole to cell T (M2L). */
+  /** Adds the local expansion about X_T of source cell S's multipole to cell T (M2L, slots β_z ≤ 1). */
   private m2l(t: SegmentTree, T: number, S: number): void {
-    const K = this.mi.size, K3 = 3 * K;
     const D = this.deriv;
-    const M = this.mult, Lc = this.loc;
-    const mb = S * K3, lb = T * K3;
     this.m2lCount++;
-    if (this.fastM2l !== null) {
-      this.fastDeriv!(t.gx[T] - t.gx[S], t.gy[T] - t.gy[S], t.gz[T] - t.gz[S], D);
-      this.fastM2l(D, M, mb, Lc, lb);
-      return;
-    }
-    this.mi.inverseDistance(t.gx[T] - t.gx[S], t.gy[T] - t.gy[S], t.gz[T] - t.gz[S], D);
-    const { m2lA, m2lB, m2lG, m2lC } = this;
-    for (let e = 0; e < m2lA.length; e++) {
-      const w = m2lC[e] * D[m2lG[e]];
-      const a = mb + m2lA[e], bb = lb + m2lB[e];
-      Lc[bb] += w * M[a];
-      Lc[bb + K] += w * M[a + K];
-      Lc[bb + 2 * K] += w * M[a + 2 * K];
-    }
+    this.k.derivatives(t.gx[T] - t.gx[S], t.gy[T] - t.gy[S], t.gz[T] - t.gz[S], D);
+    this.k.m2l(D, this.multR, 3 * this.reducedSize * S, this.loc, 3 * this.mi.size * T);
   }
 
   /**
@@ -480,10 +431,6 @@ export class SegmentFmm {
     const th2 = theta * theta;
     while (top > 0) {
       const A = sa[--top], B = sb[top];
-      if (t.count[A] * t.count[B] <= this.directPairs) {
-        p2p += this.p2p(t, A, B, x, y, z, prev, vx, vy, vz, cf);
-        continue;
-      }
       const dx = t.gx[A] - t.gx[B], dy = t.gy[A] - t.gy[B], dz = t.gz[A] - t.gz[B];
       const rA = rT[A], rB = t.bmax[B];
       const s = rA + rB;
@@ -535,16 +482,20 @@ export class SegmentFmm {
   ): void {
     const K = this.mi.size, K3 = 3 * K;
     const Lc = this.loc, mono = this.mono, mi = this.mi;
-    const { l2T, l2S, l2D, l2C, grB, grAxis, grM, grF } = this;
+    const { l2T, l2S, l2D, l2C } = this;
+    const { complete, l2p } = this.k;
+    const out = this.segOut;
     const stack = this.stackC;
     let top = 0;
     stack[top++] = U;
+    complete(Lc, U * K3);
     while (top > 0) {
       const c = stack[--top];
       const lb = c * K3;
       if (t.nchild[c] > 0) {
         for (let ch = t.child0[c]; ch < t.child0[c] + t.nchild[c]; ch++) {
           const cb = ch * K3;
+          complete(Lc, cb); // the child's own M2L part, before its parent's expansion is added
           mi.monomials(t.gx[ch] - t.gx[c], t.gy[ch] - t.gy[c], t.gz[ch] - t.gz[c], mono);
           for (let e = 0; e < l2T.length; e++) {
             const w = l2C[e] * mono[l2D[e]];
@@ -559,27 +510,10 @@ export class SegmentFmm {
       }
       for (let k = t.start[c]; k < t.start[c] + t.count[c]; k++) {
         const i = t.perm[k];
-        mi.monomials(x[i] - t.gx[c], y[i] - t.gy[c], z[i] - t.gz[c], mono);
-        // g[b][c] = ∂_b A_c
-        let g01 = 0, g02 = 0, g10 = 0, g12 = 0, g20 = 0, g21 = 0;
-        for (let e = 0; e < grB.length; e++) {
-          const w = grF[e] * mono[grM[e]];
-          const bb = lb + grB[e];
-          const a = grAxis[e];
-          if (a === 0) {
-            g01 += w * Lc[bb + K];
-            g02 += w * Lc[bb + 2 * K];
-          } else if (a === 1) {
-            g10 += w * Lc[bb];
-            g12 += w * Lc[bb + 2 * K];
-          } else {
-            g20 += w * Lc[bb];
-            g21 += w * Lc[bb + K];
-          }
-        }
-        vx[i] += cf * (g12 - g21);
-        vy[i] += cf * (g20 - g02);
-        vz[i] += cf * (g01 - g10);
+        l2p(x[i] - t.gx[c], y[i] - t.gy[c], z[i] - t.gz[c], Lc, lb, out);
+        vx[i] += cf * out[0];
+        vy[i] += cf * out[1];
+        vz[i] += cf * out[2];
       }
     }
   }

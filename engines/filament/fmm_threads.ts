@@ -46,7 +46,7 @@ export interface FmmTask {
   readonly order: number;
   readonly nearKernel: NearKernel;
   readonly tree: Record<(typeof TREE_FIELDS)[number], Float64Array | Int32Array>;
-  readonly mult: Float64Array;
+  readonly multR: Float64Array;
   readonly loc: Float64Array;
   readonly rT: Float64Array;
   readonly x: Float64Array;
@@ -154,7 +154,7 @@ export class FmmThreads {
         order: fmm.p,
         nearKernel: this.nearKernel,
         tree,
-        mult: fmm.mult,
+        multR: fmm.multR,
         loc: fmm.loc,
         rT: fmm.rT,
         x: sx,

@@ -18,7 +18,7 @@ self.onmessage = (ev: MessageEvent<FmmTask>) => {
       fmm = new SegmentFmm(task.order, task.nearKernel);
       kernel = task.nearKernel;
     }
-    fmm.mult = task.mult;
+    fmm.multR = task.multR;
     fmm.loc = task.loc;
     fmm.rT = task.rT;
     fmm.m2lCount = 0;

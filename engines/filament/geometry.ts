@@ -9,6 +9,14 @@
  * Loops with fewer than five points use the three-point stencil (they are about to be removed anyway).
  * Neighbour differences use the minimum image in a periodic box, so wrapped positions are fine.
  *
+ * Folds: where the line turns back on itself within a few points (a hairpin left by a reconnection), the
+ * stencil's first derivative s_ξ nearly vanishes and the formula above gives |s″| ∝ h/w² for a fold of width
+ * w ≪ h — curvature radii far below the spacing, and speeds of hundreds of κ/δ that no resolved feature has.
+ * No circle through the point and its two neighbours has a radius below half the longer of its two segments,
+ * so |s″| is capped at 2/max(ℓ₋, ℓ₊) (direction kept). Resolved lines (curvature radius ≥ h/2, i.e. at least
+ * about six points per turn) never reach the cap, so their geometry is unchanged bit for bit (our choice; the
+ * bound is elementary geometry).
+ *
  * References: B. Fornberg, "Generation of finite difference formulas on arbitrarily spaced grids", Math. Comp.
  * 51, 699 (1988), doi:10.1090/S0025-5718-1988-0935077-0; B. Fornberg, "Calculation of weights in finite
  * difference formulas", SIAM Rev. 40, 685 (1998), doi:10.1137/S0036144596322507; L. Gamet et al., Int. J.
@@ -166,8 +174,18 @@ export function computeGeometry(
     ty[i] = uy;
     tz[i] = uz;
     const dot = d2x * ux + d2y * uy + d2z * uz;
-    cx[i] = (d2x - dot * ux) / s2;
-    cy[i] = (d2y - dot * uy) / s2;
-    cz[i] = (d2z - dot * uz) / s2;
+    let qx = (d2x - dot * ux) / s2, qy = (d2y - dot * uy) / s2, qz = (d2z - dot * uz) / s2;
+    // Fold cap (module doc): |s″| ≤ 2/ℓ with ℓ the longer adjacent segment.
+    const lm = len[p1] > len[i] ? len[p1] : len[i];
+    const k2 = qx * qx + qy * qy + qz * qz;
+    if (k2 * lm * lm > 4) {
+      const f = 2 / (lm * Math.sqrt(k2));
+      qx *= f;
+      qy *= f;
+      qz *= f;
+    }
+    cx[i] = qx;
+    cy[i] = qy;
+    cz[i] = qz;
   }
 }

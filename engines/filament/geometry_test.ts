@@ -96,3 +96,34 @@ Deno.test("computeGeometry falls back to three points on tiny loops", () => {
   assertAbsClose(g.ty[0], 1, 1e-14, "t_y");
   assert.ok(g.cx[0] < 0, "curvature points to the centre");
 });
+
+Deno.test("computeGeometry caps the curvature of a fold at 2/max(ℓ₋, ℓ₊) and leaves resolved lines alone", () => {
+  // A hairpin: a line out along x and back at distance w = 1e-3 h. The five-point formula divides by
+  // |s_ξ|² ≈ (w/h)², giving |s″| ∝ h/w²; no circle through the tip and its neighbours has a radius below
+  // h/2 (the chord of a circle is at most its diameter; elementary geometry), so |s″| ≤ 2/h.
+  const h = 0.1, w = 1e-3 * h, m = 8;
+  const pts: [number, number, number][] = [];
+  for (let q = m; q >= 1; q--) pts.push([-q * h, -w / 2, 0]);
+  pts.push([0, 0, 0]);
+  for (let q = 1; q <= m; q++) pts.push([-q * h, w / 2, 0]);
+  const s = new FilamentState();
+  s.appendLoop(pts, new IdCounters(), 4);
+  const g = new Geometry();
+  computeGeometry(s.n, s.x, s.y, s.z, s.next, s.prev, 0, g);
+  const tip = m;
+  const k = Math.hypot(g.cx[tip], g.cy[tip], g.cz[tip]);
+  const lm = Math.max(g.len[tip], g.len[s.prev[tip]]);
+  assertRelClose(k, 2 / lm, 1e-12, "|s″| at the fold tip (capped)");
+  assert.ok(g.cx[tip] < 0, "the capped curvature still points into the fold");
+  // Resolved lines never reach the cap: a 12-point ring (curvature radius 1.9 h) keeps |s″| within the
+  // five-point stencil's error of 1/R.
+  const ring: [number, number, number][] = [];
+  for (let q = 0; q < 12; q++) ring.push([Math.cos(q * Math.PI / 6), Math.sin(q * Math.PI / 6), 0]);
+  const r = new FilamentState();
+  r.appendLoop(ring, new IdCounters(), 4);
+  computeGeometry(r.n, r.x, r.y, r.z, r.next, r.prev, 0, g);
+  for (let i = 0; i < 12; i++) {
+    assert.ok(Math.hypot(g.cx[i], g.cy[i], g.cz[i]) * g.len[i] < 2, `ring point ${i} below the cap`);
+    assertRelClose(Math.hypot(g.cx[i], g.cy[i], g.cz[i]), 1, 0.02, `ring curvature at ${i}`);
+  }
+});

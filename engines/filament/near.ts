@@ -152,7 +152,7 @@ export class NearField {
     vy: Float64Array,
     vz: Float64Array,
   ): void {
-    const L = this.boxSize, iw = 1 / this.radius;
+    const L = this.boxSize, iw = 1 / this.radius, outer2 = 4 * this.radius * this.radius;
     const st = this.start, seg = this.seg;
     for (let i = 0; i < n; i++) {
       const px = x[i], py = y[i], pz = z[i];
@@ -170,7 +170,9 @@ export class NearField {
           r1z -= oz;
         }
         const mx = r1x - 0.5 * ex, my = r1y - 0.5 * ey, mz = r1z - 0.5 * ez;
-        const w = nearWindow(Math.sqrt(mx * mx + my * my + mz * mz) * iw);
+        const m2 = mx * mx + my * my + mz * mz;
+        if (m2 >= outer2) continue; // beyond 2r_w (most of the list: its skin): weight 0
+        const w = nearWindow(Math.sqrt(m2) * iw);
         if (w === 0) continue;
         const r2x = r1x - ex, r2y = r1y - ey, r2z = r1z - ez;
         const n1 = Math.sqrt(r1x * r1x + r1y * r1y + r1z * r1z);
@@ -193,12 +195,17 @@ export class NearField {
   }
 
   /**
-   * Largest relative speed |v_i − v_j| over listed pairs of points that may reconnect (different loops, or
-   * at least `minLinks` links apart on one loop). `loop`, `index`, `length`: each point's loop id, position
-   * in its loop and the loop's point count (compact state).
+   * Longest step dt such that every listed pair of points that may reconnect (different loops, or at least
+   * `minLinks` links apart on one loop) keeps |v_i − v_j|·dt ≤ δ_r + |x_i − x_j| (see `simulation.ts`);
+   * Infinity if no pair moves. Positions and velocities of the step's start; `loop`, `index`, `length`: each
+   * point's loop id, position in its loop and the loop's point count (compact state); minimum image in a
+   * periodic box.
    */
-  maxApproachSpeed(
+  approachStep(
     n: number,
+    x: Float64Array,
+    y: Float64Array,
+    z: Float64Array,
     vx: Float64Array,
     vy: Float64Array,
     vz: Float64Array,
@@ -206,9 +213,10 @@ export class NearField {
     index: Int32Array,
     length: Int32Array,
     minLinks: number,
+    dr: number,
   ): number {
-    const st = this.start, seg = this.seg;
-    let m2 = 0;
+    const st = this.start, seg = this.seg, L = this.boxSize;
+    let best = Infinity;
     for (let i = 0; i < n; i++) {
       for (let q = st[i]; q < st[i + 1]; q++) {
         const j = seg[q];
@@ -217,10 +225,19 @@ export class NearField {
           if (Math.min(d, length[i] - d) < minLinks) continue;
         }
         const ux = vx[i] - vx[j], uy = vy[i] - vy[j], uz = vz[i] - vz[j];
-        const w = ux * ux + uy * uy + uz * uz;
-        if (w > m2) m2 = w;
+        const w2 = ux * ux + uy * uy + uz * uz;
+        // (δ_r + d)/w ≥ δ_r/w: only pairs whose own bound could be the smallest are measured.
+        if (!(w2 * best * best > dr * dr)) continue;
+        let ex = x[j] - x[i], ey = y[j] - y[i], ez = z[j] - z[i];
+        if (L > 0) {
+          ex -= L * Math.round(ex / L);
+          ey -= L * Math.round(ey / L);
+          ez -= L * Math.round(ez / L);
+        }
+        const t = (dr + Math.sqrt(ex * ex + ey * ey + ez * ez)) / Math.sqrt(w2);
+        if (t < best) best = t;
       }
     }
-    return Math.sqrt(m2);
+    return best;
   }
 }

@@ -9,7 +9,8 @@
  *   3. wrap positions into the periodic box (image counters), NaN and blow-up guards;
  *   4. heater absorption (points with r < r_h deleted) and remeshing, then compaction (tiny loops < 5 points
  *      or < 3δ removed, far loops removed);
- *   5. reconnection check (Type II), compaction with loop relabelling if anything reconnected.
+ *   5. reconnection check (Type II), compaction with loop relabelling if anything reconnected, then remeshing
+ *      again (the swapped connections are short) and compaction.
  *
  * Method (dt): linearising the local term about a straight line gives Kelvin waves ω = (κΛ/4π)k²; the 5-point
  * stencil's largest k² is 16/(3h²) (zig-zag mode), and RK4 is stable on the imaginary axis for |ωdt| ≤ 2.83, so
@@ -30,14 +31,17 @@
  * (checked by the self-convergence test). Memory follows the points: remeshing interpolates it onto new
  * points; reconnections and heater absorption clear it for the points within 4 links, which restart at
  * order 1; the first steps are classical RK4 steps until `order` levels exist. Advective limit of the
- * multirate steps: instead of v_max·dt ≤ δ_r/2 for every point, relative displacements are bounded pairwise —
- * by δ_r for pairs in the near list that may reconnect (≥ 4 links apart or on different loops) and by the
- * list's skin (1.5δ) for all — so a fast cusp with no line nearby (the usual recoil after a reconnection)
- * no longer sets the step of the whole tangle; approaching lines still cannot pass through each other
- * between reconnection checks. The far field, once the near
- * window is removed, hardly responds to mesh-scale oscillations, so its extrapolation is stable at the local
- * term's stable step (and up to 2× it, measured on the zig-zag test); larger ratios alias the fast Kelvin
- * modes into the extrapolation and grow.
+ * multirate steps: instead of v_max·dt ≤ δ_r/2 for every point, relative displacements are bounded pairwise.
+ * A pair in the near list that may reconnect (≥ 4 links apart or on different loops), at distance d and
+ * relative speed w, keeps w·dt ≤ δ_r + d: if it meets within the step, that happens no earlier than d/w, and
+ * by the step's end it has passed by at most w·dt − d ≤ δ_r, so the reconnection check still finds it — the
+ * guarantee of the global rule, without letting a fast pair that is far apart, or a fast cusp with no line
+ * nearby (the usual recoil after a reconnection), set the step of the whole tangle. Every pair is also kept
+ * from closing in by more than the list's skin (1.5δ), so the list stays complete. The far field, once the
+ * near window is removed, hardly responds to mesh-scale oscillations, so its extrapolation is stable at the
+ * local term's stable step and up to 2× it (measured on the zig-zag test; the default `slowFactor` 2 uses
+ * that: one far-field evaluation per two stable substeps when the advective limits allow); larger ratios
+ * alias the fast Kelvin modes into the extrapolation and grow.
  *
  * References: K.W. Schwarz, Phys. Rev. B 38, 2398 (1988), doi:10.1103/PhysRevB.38.2398; D.R. Durran,
  * Numerical Methods for Fluid Dynamics, 2nd ed. (Springer, 2010), doi:10.1007/978-1-4419-6412-0 (RK4 stability
@@ -117,8 +121,8 @@ const NEAR_SKIN = 1.5;
 /** Points fewer links apart on one loop never reconnect (`reconnect.ts`). */
 const RECONNECT_MIN_LINKS = 4;
 
-/** Default integrator: multirate, order 4, steps at the local term's stable step, window 2δ. */
-export const INTEGRATOR_DEFAULTS = { kind: "multirate", order: 4, slowFactor: 1, window: 2 } as const;
+/** Default integrator: multirate, order 4, steps up to twice the local term's stable step, window 2δ. */
+export const INTEGRATOR_DEFAULTS = { kind: "multirate", order: 4, slowFactor: 2, window: 2 } as const;
 
 /** Filament simulation state and stepper (see module doc). */
 export class FilamentSimulation {
@@ -345,8 +349,11 @@ export class FilamentSimulation {
   private loopIndex = new Int32Array(0);
   private loopLength = new Int32Array(0);
 
-  /** Largest relative speed (first-stage velocities kx…) of listed pairs that may reconnect. */
-  private approachSpeed(): number {
+  /**
+   * Longest step for which no listed pair that may reconnect closes in by more than δ_r plus its distance
+   * (first-stage velocities kx…; module doc).
+   */
+  private approachStep(): number {
     const s = this.state, n = s.n;
     if (this.loopIndex.length < n) {
       this.loopIndex = new Int32Array(this.cap);
@@ -359,8 +366,11 @@ export class FilamentSimulation {
         this.loopLength[s0 + q] = m;
       }
     }
-    return this.near.maxApproachSpeed(
+    return this.near.approachStep(
       n,
+      s.x,
+      s.y,
+      s.z,
       this.kx,
       this.ky,
       this.kz,
@@ -368,6 +378,7 @@ export class FilamentSimulation {
       this.loopIndex,
       this.loopLength,
       RECONNECT_MIN_LINKS,
+      this.config.reconnectionDistance,
     );
   }
   /** Slow (nonlocal) evaluations and fast substeps of the last step. */
@@ -493,12 +504,11 @@ export class FilamentSimulation {
     let dt = dtMax;
     if (!fixedDt) {
       // Advective limits (module doc): no pair may approach by more than the near list's skin (so the list
-      // stays complete), and no pair that could reconnect by more than δ_r (so none passes through another
-      // between reconnection checks).
+      // stays complete), and no pair that could reconnect by more than δ_r plus its distance (so none passes
+      // through another between reconnection checks).
       const skin = this.config.resolution * NEAR_SKIN;
       const list = 0.5 * skin / Math.sqrt(this.maxSpeed2());
-      const w = this.approachSpeed();
-      const approach = w > 0 ? this.config.reconnectionDistance / w : Infinity;
+      const approach = this.approachStep();
       dt = this.checkedStep(Math.min(dtMax, starting ? fast : slowFactor * fast, list, approach), dtMax);
     }
     const m = starting ? 1 : Math.max(1, Math.ceil(dt / fast * (1 - 1e-12)));
@@ -607,12 +617,7 @@ export class FilamentSimulation {
     for (let pass = 0; pass < passes; pass++) {
       let changed = false;
       if (cfg.heaterRadius > 0) changed = this.absorbInHeater() || changed;
-      if (cfg.remesh) {
-        const s = this.state;
-        computeGeometry(s.n, s.x, s.y, s.z, s.next, s.prev, L, this.geo);
-        const r = remesh(s, this.geo, this.remeshOpts, this.ids, this.onTransfer);
-        changed = changed || r.inserted + r.removed > 0;
-      }
+      if (cfg.remesh) changed = this.remeshPass() || changed;
       if (far < Infinity) this.markFarLoops(far);
       compactInto(this.state, this.spare, this.compactPlain);
       this.swap();
@@ -661,6 +666,14 @@ export class FilamentSimulation {
         }
         for (const r of this.pending) this.removedLoop(r, RemovalReason.Tiny);
         computeGeometry(st.n, st.x, st.y, st.z, st.next, st.prev, L, this.geo);
+        // The swapped connections are as short as the lines were close (down to ~δ_r/10): remesh them now,
+        // or the next step's stable step c·h_min²/(κΛ) would shrink with them.
+        if (cfg.remesh && this.remeshPass()) {
+          compactInto(this.state, this.spare, this.compactPlain);
+          this.swap();
+          const s2 = this.state;
+          computeGeometry(s2.n, s2.x, s2.y, s2.z, s2.next, s2.prev, L, this.geo);
+        }
       }
     }
     if (this.state.n > cfg.maxPoints) {
@@ -671,6 +684,19 @@ export class FilamentSimulation {
         this.t,
       );
     }
+  }
+
+  /**
+   * Remeshing of the current (linked) state; new points that land inside the heater (on a chord that crosses
+   * it) are absorbed at once, so no point starts a step inside the wire. True if anything changed.
+   */
+  private remeshPass(): boolean {
+    const s = this.state, cfg = this.config;
+    computeGeometry(s.n, s.x, s.y, s.z, s.next, s.prev, cfg.velocity.boxSize, this.geo);
+    const r = remesh(s, this.geo, this.remeshOpts!, this.ids, this.onTransfer);
+    let changed = r.inserted + r.removed > 0;
+    if (cfg.heaterRadius > 0 && r.inserted > 0) changed = this.absorbInHeater() || changed;
+    return changed;
   }
 
   /** Deletes points inside the heater (r < r_h from the z axis), reporting each; true if any. */
