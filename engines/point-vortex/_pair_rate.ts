@@ -1,16 +1,24 @@
 /**
  * Prints pair interactions per second of the velocity kernels (`deno run engines/point-vortex/_pair_rate.ts`).
  * Pairs per call = N(N − 1)/2. Each kernel is warmed up, then timed in 15 batches of ≥ 100 ms; the best batch
- * (robust to other processes on a shared machine) and the median are printed.
+ * (robust to other processes on a shared machine) and the median are printed. Periodic box: the engine's
+ * WebAssembly kernel, the same Weierstrass-ζ form in TypeScript, and the image series it replaced.
  */
 import { benchCloud } from "./_bench_setup.ts";
 import { velocityPeriodic, velocityPeriodicImageSeries } from "./periodic.ts";
 import { velocityDisk, velocityUnbounded } from "./velocity.ts";
+import { PeriodicKernel } from "./wasm_periodic.ts";
 
+const wasm = PeriodicKernel.load();
 type Kernel = (c: ReturnType<typeof benchCloud>) => number;
 const kernels: [string, Kernel, number[]][] = [
   ["unbounded", (c) => velocityUnbounded(c.n, c.x, c.y, c.g, c.u, c.v), [1000, 4000]],
   ["disk", (c) => velocityDisk(c.n, c.x, c.y, c.g, Math.sqrt(c.n), c.u, c.v), [1000, 4000]],
+  [
+    "periodic-wasm (engine)",
+    (c) => wasm.velocity(c.n, c.x, c.y, c.g, 1.2 * Math.sqrt(c.n), c.u, c.v),
+    [1000, 4000],
+  ],
   ["periodic", (c) => velocityPeriodic(c.n, c.x, c.y, c.g, 1.2 * Math.sqrt(c.n), c.u, c.v), [1000, 4000]],
   [
     "periodic-image-series",
@@ -40,7 +48,7 @@ for (const [name, kernel, sizes] of kernels) {
     const pairs = n * (n - 1) / 2;
     const rate = (ms: number) => (pairs / (ms / 1000)).toExponential(2);
     console.log(
-      `${name.padEnd(21)} ${String(n).padStart(5)}   ${rate(perCall[0]).padStart(12)}  ${
+      `${name.padEnd(23)} ${String(n).padStart(5)}   ${rate(perCall[0]).padStart(12)}  ${
         rate(perCall[7]).padStart(14)
       }` +
         `  ${perCall[0].toFixed(3).padStart(12)}`,
