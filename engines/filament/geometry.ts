@@ -29,42 +29,49 @@
  * // computeGeometry(n, x, y, z, next, prev, 0, g); then g.tx[i], g.cx[i], g.len[i] …
  * ```
  */
+import { type ArrayAllocator, PLAIN } from "./_alloc.ts";
 
 /** Work arrays of the local geometry (length ≥ n; grown by doubling). */
 export class Geometry {
   capacity = 0;
+  /** How the arrays are allocated (SHARED when worker threads read them). */
+  readonly alloc: ArrayAllocator;
   /** Unit tangent. */
-  tx = new Float64Array(0);
-  ty = new Float64Array(0);
-  tz = new Float64Array(0);
+  tx: Float64Array = new Float64Array(0);
+  ty: Float64Array = new Float64Array(0);
+  tz: Float64Array = new Float64Array(0);
   /** Curvature vector s″ (towards the centre of curvature, magnitude 1/R). */
-  cx = new Float64Array(0);
-  cy = new Float64Array(0);
-  cz = new Float64Array(0);
+  cx: Float64Array = new Float64Array(0);
+  cy: Float64Array = new Float64Array(0);
+  cz: Float64Array = new Float64Array(0);
   /** Segment vector from point i to next[i] (minimum image). */
-  dx = new Float64Array(0);
-  dy = new Float64Array(0);
-  dz = new Float64Array(0);
+  dx: Float64Array = new Float64Array(0);
+  dy: Float64Array = new Float64Array(0);
+  dz: Float64Array = new Float64Array(0);
   /** Segment length |d_i|. */
-  len = new Float64Array(0);
+  len: Float64Array = new Float64Array(0);
   /** Fornberg scratch: 5 nodes and 5×3 weights. */
   readonly nodes = new Float64Array(5);
   readonly weights = new Float64Array(15);
+
+  constructor(alloc: ArrayAllocator = PLAIN) {
+    this.alloc = alloc;
+  }
 
   ensure(n: number): void {
     if (n <= this.capacity) return;
     let c = Math.max(16, this.capacity);
     while (c < n) c *= 2;
-    this.tx = new Float64Array(c);
-    this.ty = new Float64Array(c);
-    this.tz = new Float64Array(c);
-    this.cx = new Float64Array(c);
-    this.cy = new Float64Array(c);
-    this.cz = new Float64Array(c);
-    this.dx = new Float64Array(c);
-    this.dy = new Float64Array(c);
-    this.dz = new Float64Array(c);
-    this.len = new Float64Array(c);
+    this.tx = this.alloc.f64(c);
+    this.ty = this.alloc.f64(c);
+    this.tz = this.alloc.f64(c);
+    this.cx = this.alloc.f64(c);
+    this.cy = this.alloc.f64(c);
+    this.cz = this.alloc.f64(c);
+    this.dx = this.alloc.f64(c);
+    this.dy = this.alloc.f64(c);
+    this.dz = this.alloc.f64(c);
+    this.len = this.alloc.f64(c);
     this.capacity = c;
   }
 }

@@ -66,6 +66,7 @@ import type { MarkerTransfer, RemeshOptions } from "./remesh.ts";
 import { compactInto, FilamentState, HIST_LEVELS, HIST_STRIDE, IdCounters, RemovalReason } from "./state.ts";
 import { addLocalTerm } from "./biot_savart.ts";
 import { NearField } from "./near.ts";
+import { SHARED } from "./_alloc.ts";
 import { type AccuracyCheckSettings, AccuracyMonitor } from "./accuracy.ts";
 import type { CompactOptions, RemovedLoop } from "./state.ts";
 import { type VelocityConfig, VelocityField } from "./velocity.ts";
@@ -146,18 +147,22 @@ export class FilamentSimulation {
   /** Last step size. */
   lastDt = 0;
   private cap = 0;
-  private x0 = new Float64Array(0);
-  private y0 = new Float64Array(0);
-  private z0 = new Float64Array(0);
-  private xs = new Float64Array(0);
-  private ys = new Float64Array(0);
-  private zs = new Float64Array(0);
-  private kx = new Float64Array(0);
-  private ky = new Float64Array(0);
-  private kz = new Float64Array(0);
-  private ax = new Float64Array(0);
-  private ay = new Float64Array(0);
-  private az = new Float64Array(0);
+  private x0: Float64Array = new Float64Array(0);
+  private y0: Float64Array = new Float64Array(0);
+  private z0: Float64Array = new Float64Array(0);
+  private xs: Float64Array = new Float64Array(0);
+  private ys: Float64Array = new Float64Array(0);
+  private zs: Float64Array = new Float64Array(0);
+  private kx: Float64Array = new Float64Array(0);
+  private ky: Float64Array = new Float64Array(0);
+  private kz: Float64Array = new Float64Array(0);
+  private ax: Float64Array = new Float64Array(0);
+  private ay: Float64Array = new Float64Array(0);
+  private az: Float64Array = new Float64Array(0);
+  /** Copy of the state's positions on shared memory (`copyPositions`). */
+  private xc: Float64Array = new Float64Array(0);
+  private yc: Float64Array = new Float64Array(0);
+  private zc: Float64Array = new Float64Array(0);
   private relabel = new Uint8Array(0);
 
   /**
@@ -172,6 +177,7 @@ export class FilamentSimulation {
     this.config = config;
     this.emit = emit;
     this.field = new VelocityField(config.velocity);
+    this.near.usePool(this.field.pool);
     const ac = config.accuracyCheck;
     this.accuracy = ac !== undefined && ac.every > 0 ? new AccuracyMonitor(ac) : null;
     const L = config.velocity.boxSize;
@@ -204,19 +210,31 @@ export class FilamentSimulation {
     if (n <= this.cap) return;
     let c = Math.max(64, this.cap);
     while (c < n) c *= 2;
-    this.x0 = new Float64Array(c);
-    this.y0 = new Float64Array(c);
-    this.z0 = new Float64Array(c);
-    this.xs = new Float64Array(c);
-    this.ys = new Float64Array(c);
-    this.zs = new Float64Array(c);
-    this.kx = new Float64Array(c);
-    this.ky = new Float64Array(c);
-    this.kz = new Float64Array(c);
-    this.ax = new Float64Array(c);
-    this.ay = new Float64Array(c);
-    this.az = new Float64Array(c);
+    // On shared memory: the near field's threads read positions and geometry and write velocities.
+    this.x0 = SHARED.f64(c);
+    this.y0 = SHARED.f64(c);
+    this.z0 = SHARED.f64(c);
+    this.xs = SHARED.f64(c);
+    this.ys = SHARED.f64(c);
+    this.zs = SHARED.f64(c);
+    this.xc = SHARED.f64(c);
+    this.yc = SHARED.f64(c);
+    this.zc = SHARED.f64(c);
+    this.kx = SHARED.f64(c);
+    this.ky = SHARED.f64(c);
+    this.kz = SHARED.f64(c);
+    this.ax = SHARED.f64(c);
+    this.ay = SHARED.f64(c);
+    this.az = SHARED.f64(c);
     this.cap = c;
+  }
+
+  /** Copies the state's positions to (xc, yc, zc) on shared memory. */
+  private copyPositions(): void {
+    const s = this.state, n = s.n;
+    this.xc.set(s.x.subarray(0, n));
+    this.yc.set(s.y.subarray(0, n));
+    this.zc.set(s.z.subarray(0, n));
   }
 
   /** The stable step for the current state (without the advective limit): c·h_min²/(κΛ). */
@@ -397,6 +415,7 @@ export class FilamentSimulation {
     for (let i = 0; i < n; i++) kx[i] = ky[i] = kz[i] = 0;
     f.addNonlocal(n, s.x, s.y, s.z, s.prev, kx, ky, kz);
     this.slowEvaluations++;
+    this.copyPositions();
     const cf = v.kappa / (4 * Math.PI);
     // Near field (fast part): Verlet list with a skin of NEAR_SKIN·δ (no pair approaches by more within a step).
     this.near.build(
@@ -410,7 +429,7 @@ export class FilamentSimulation {
       window * this.config.resolution,
       NEAR_SKIN * this.config.resolution,
     );
-    this.near.add(n, s.x, s.y, s.z, g.dx, g.dy, g.dz, -cf, kx, ky, kz);
+    this.near.add(n, this.xc, this.yc, this.zc, g.dx, g.dy, g.dz, -cf, kx, ky, kz);
     this.hHead = (this.hHead + 1) % HIST_LEVELS;
     this.hTimes[this.hHead] = this.t;
     this.hLevels = Math.min(this.hLevels + 1, HIST_LEVELS);
@@ -499,7 +518,7 @@ export class FilamentSimulation {
     this.pushSlowLevel(window);
     const starting = this.hLevels < order;
     // First stage (t_n): the full right-hand side, equal to the classical one.
-    this.fastRhs(s.x, s.y, s.z, this.t, order, kx, ky, kz);
+    this.fastRhs(this.xc, this.yc, this.zc, this.t, order, kx, ky, kz);
     const fast = this.stableStepFrom(f.geo, n);
     let dt = dtMax;
     if (!fixedDt) {
@@ -516,7 +535,10 @@ export class FilamentSimulation {
     const t0 = this.t;
     for (let q = 0; q < m; q++) {
       const tq = t0 + q * h;
-      if (q > 0) this.fastRhs(s.x, s.y, s.z, tq, order, kx, ky, kz);
+      if (q > 0) {
+        this.copyPositions();
+        this.fastRhs(this.xc, this.yc, this.zc, tq, order, kx, ky, kz);
+      }
       this.rk4Step(h, tq, starting ? 0 : order);
     }
     this.lastSubsteps = m;

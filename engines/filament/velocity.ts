@@ -30,6 +30,7 @@ import type { AccuracyMonitor } from "./accuracy.ts";
 import type { NearKernel, SegmentFmm } from "./fmm.ts";
 import { FmmThreads } from "./fmm_threads.ts";
 import { SegmentTree, SHARED } from "./tree.ts";
+import { ThreadPool } from "./thread_pool.ts";
 
 /** Prescribed normal-fluid velocity field. */
 export type NormalFlow =
@@ -62,7 +63,10 @@ export interface VelocityConfig {
   readonly leafSize: number;
   /** Fast multipole settings: expansion order p, opening parameter θ (r_T + b_S < θd), leaf size. */
   readonly fmm: FmmSettings;
-  /** Threads for the FMM inside this realisation (results do not depend on it; default 1). */
+  /**
+   * Threads inside this realisation (FMM, and the near field of multirate steps; results do not depend on it;
+   * default 1).
+   */
   readonly threads?: number;
   /** Periodic cube side, 0 for unbounded. */
   readonly boxSize: number;
@@ -87,14 +91,17 @@ export const FMM_DEFAULTS: FmmSettings = { order: 5, theta: 0.5, leafSize: 64, n
 export class VelocityField {
   readonly config: VelocityConfig;
   /** Geometry of the last evaluation. */
-  readonly geo = new Geometry();
+  readonly geo = new Geometry(SHARED);
   readonly tree = new SegmentTree();
-  private pool: FmmThreads | null = null;
+  /** Worker threads of this field (the FMM's, shared with the multirate near field); started on first use. */
+  readonly pool: ThreadPool;
+  private fmmThreads: FmmThreads | null = null;
   /** Pair interactions (segment–point and cell–point) of the last evaluation. */
   interactions = 0;
 
   constructor(config: VelocityConfig) {
     this.config = config;
+    this.pool = new ThreadPool(config.threads ?? 1);
   }
 
   /** The nonlocal summation method used for n points. */
@@ -116,11 +123,15 @@ export class VelocityField {
 
   /** The FMM of this field (created on first use; its counters describe the last evaluation's own share). */
   get fmm(): SegmentFmm {
-    if (this.pool === null) {
-      this.pool = new FmmThreads(this.config.threads ?? 1, this.config.fmm.order, this.config.fmm.nearKernel);
+    return this.fmmPool().fmm;
+  }
+
+  private fmmPool(): FmmThreads {
+    if (this.fmmThreads === null) {
+      this.fmmThreads = new FmmThreads(this.pool, this.config.fmm.order, this.config.fmm.nearKernel);
       this.tree.useAllocator(SHARED);
     }
-    return this.pool.fmm;
+    return this.fmmThreads;
   }
 
   /** Writes ds/dt of the n points into (vx, vy, vz). */
@@ -182,12 +193,9 @@ export class VelocityField {
     if (method === "fmm") {
       // One code path for any thread count (the sum lands in a zeroed buffer, then is added), so the
       // thread count never changes a bit of the result.
-      if (this.pool === null) {
-        this.pool = new FmmThreads(c.threads ?? 1, c.fmm.order, c.fmm.nearKernel);
-        this.tree.useAllocator(SHARED);
-      }
+      const fmm = this.fmmPool();
       this.tree.build(n, x, y, z, g.dx, g.dy, g.dz, g.len, 0, c.fmm.leafSize);
-      this.interactions = this.pool.velocity(this.tree, n, x, y, z, prev, cf, c.fmm.theta, vx, vy, vz);
+      this.interactions = fmm.velocity(this.tree, n, x, y, z, prev, cf, c.fmm.theta, vx, vy, vz);
     } else if (method === "tree") {
       this.tree.build(n, x, y, z, g.dx, g.dy, g.dz, g.len, L, c.leafSize);
       this.interactions = this.tree.velocity(n, x, y, z, prev, cf, c.theta, vx, vy, vz);
@@ -212,8 +220,7 @@ export class VelocityField {
 
   /** Stops worker threads (if any). */
   close(): void {
-    this.pool?.close();
-    this.pool = null;
+    this.pool.close();
   }
 
   /** The next nonlocal sum by a tree method is checked against the exact sum at sampled points. */

@@ -1,0 +1,34 @@
+/// <reference lib="deno.worker" />
+/**
+ * Worker of a `ThreadPool` (`thread_pool.ts`): runs its share of a task — chunks taken from the shared counter
+ * until none is left, written into shared output arrays — then signals completion.
+ */
+import { SegmentFmm } from "./fmm.ts";
+import { runFmmUnits } from "./fmm_threads.ts";
+import { NearScratch, runNearAdd, runNearBuild } from "./near.ts";
+import { FAILURES, type PoolMessage, WORKERS_DONE } from "./thread_pool.ts";
+
+let fmm: SegmentFmm | null = null;
+let kernel = "";
+const scratch = new NearScratch();
+
+self.onmessage = (ev: MessageEvent<PoolMessage>) => {
+  const { task, control, slot } = ev.data;
+  Atomics.store(control, 2 + slot, 1);
+  try {
+    if (task.kind === "fmm") {
+      if (fmm === null || fmm.p !== task.order || kernel !== task.nearKernel) {
+        fmm = new SegmentFmm(task.order, task.nearKernel);
+        kernel = task.nearKernel;
+      }
+      runFmmUnits(fmm, task, control, slot);
+    } else if (task.kind === "near-add") runNearAdd(task, control);
+    else runNearBuild(task, control, scratch);
+  } catch (e) {
+    Atomics.add(control, FAILURES, 1);
+    throw e;
+  } finally {
+    Atomics.add(control, WORKERS_DONE, 1);
+    Atomics.notify(control, WORKERS_DONE);
+  }
+};
