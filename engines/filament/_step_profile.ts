@@ -12,6 +12,7 @@ import { SegmentTree } from "./tree.ts";
 import { NearField } from "./near.ts";
 import { Reconnector } from "./reconnect.ts";
 import { FmmThreads } from "./fmm_threads.ts";
+import { ThreadPool } from "./thread_pool.ts";
 
 let totals = new Map<string, number>();
 // deno-lint-ignore no-explicit-any
@@ -45,6 +46,7 @@ wrap(SegmentFmm.prototype, "prepare", "fmm prepare (P2M/M2M, radii)");
 wrap(NearField.prototype, "build", "near build");
 wrap(NearField.prototype, "add", "near add");
 wrap(Reconnector.prototype, "run", "reconnect");
+wrap(ThreadPool.prototype, "run", "threaded parts (ThreadPool.run)");
 
 /** Best ms/step per part over the repetitions, per thread count. */
 const best = counts.map(() => new Map<string, number>());
@@ -73,6 +75,15 @@ const same = finals.every((f) =>
   f.length === finals[0].length && f.every((v, i) => Object.is(v, finals[0][i]))
 );
 console.log(`final positions bit-identical across thread counts: ${same}`);
+const wall = best[0].get("step (wall)")!, par = best[0].get("threaded parts (ThreadPool.run)") ?? 0;
+for (const t of counts.slice(1)) {
+  console.log(
+    `Amdahl bound on ${t} threads from the ${counts[0]}-thread split (${
+      (100 * par / wall).toFixed(1)
+    } % in pool tasks): ` +
+      `${(wall / (wall - par + par / t)).toFixed(2)}×`,
+  );
+}
 const labels = [...best[0].keys()].sort((a, b) => best[0].get(b)! - best[0].get(a)!);
 console.log(
   `${"part (best of " + reps + ", ms/step)".padEnd(34)}` +

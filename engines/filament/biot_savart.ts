@@ -66,8 +66,29 @@ export function addLocalTerm(
   vy: Float64Array,
   vz: Float64Array,
 ): void {
+  addLocalTermRange(0, n, prev, tx, ty, tz, cx, cy, cz, len, cf, a0, vx, vy, vz);
+}
+
+/** `addLocalTerm` for points i0 … i1 − 1. */
+export function addLocalTermRange(
+  i0: number,
+  i1: number,
+  prev: Int32Array,
+  tx: Float64Array,
+  ty: Float64Array,
+  tz: Float64Array,
+  cx: Float64Array,
+  cy: Float64Array,
+  cz: Float64Array,
+  len: Float64Array,
+  cf: number,
+  a0: number,
+  vx: Float64Array,
+  vy: Float64Array,
+  vz: Float64Array,
+): void {
   const scale = 2 / (E_QUARTER * a0);
-  for (let i = 0; i < n; i++) {
+  for (let i = i0; i < i1; i++) {
     const beta = cf * Math.log(scale * Math.sqrt(len[i] * len[prev[i]]));
     vx[i] += beta * (ty[i] * cz[i] - tz[i] * cy[i]);
     vy[i] += beta * (tz[i] * cx[i] - tx[i] * cz[i]);

@@ -76,6 +76,12 @@ export class Geometry {
   }
 }
 
+/** The per-point arrays of a `Geometry` (what worker threads receive). */
+export type GeometryArrays = Pick<
+  Geometry,
+  "tx" | "ty" | "tz" | "cx" | "cy" | "cz" | "dx" | "dy" | "dz" | "len"
+>;
+
 /**
  * Fornberg's weights for derivatives 0..2 at z from `np` nodes xs[0..np): out[j·3 + k] is the weight of node j
  * in the k-th derivative.
@@ -120,9 +126,23 @@ export function computeGeometry(
   boxSize: number,
   g: Geometry,
 ): void {
+  segmentVectors(n, x, y, z, next, boxSize, g);
+  tangentsAndCurvature(0, n, next, prev, g, g.nodes, g.weights);
+}
+
+/** First pass of `computeGeometry`: segment vectors and lengths (grows g to n points). */
+export function segmentVectors(
+  n: number,
+  x: Float64Array,
+  y: Float64Array,
+  z: Float64Array,
+  next: Int32Array,
+  boxSize: number,
+  g: Geometry,
+): void {
   g.ensure(n);
   const L = boxSize;
-  const { dx, dy, dz, len, tx, ty, tz, cx, cy, cz, nodes, weights } = g;
+  const { dx, dy, dz, len } = g;
   for (let i = 0; i < n; i++) {
     const j = next[i];
     let ex = x[j] - x[i], ey = y[j] - y[i], ez = z[j] - z[i];
@@ -136,7 +156,23 @@ export function computeGeometry(
     dz[i] = ez;
     len[i] = Math.sqrt(ex * ex + ey * ey + ez * ez);
   }
-  for (let i = 0; i < n; i++) {
+}
+
+/**
+ * Second pass of `computeGeometry` for points i0 … i1 − 1: tangents and curvature vectors from the segment
+ * vectors of g (all points' segments must be done); `nodes` (5) and `weights` (15) are scratch.
+ */
+export function tangentsAndCurvature(
+  i0: number,
+  i1: number,
+  next: Int32Array,
+  prev: Int32Array,
+  g: GeometryArrays,
+  nodes: Float64Array,
+  weights: Float64Array,
+): void {
+  const { dx, dy, dz, len, tx, ty, tz, cx, cy, cz } = g;
+  for (let i = i0; i < i1; i++) {
     const p1 = prev[i], n1 = next[i];
     const p2 = prev[p1], n2 = next[n1];
     let d1x: number, d1y: number, d1z: number, d2x: number, d2y: number, d2z: number;

@@ -157,7 +157,7 @@ export function runNearAdd(t: NearAddTask, control: Int32Array): void {
 }
 
 /** The windowed sum of `NearField.add` for target points i0 … i1 − 1. */
-function nearAddRange(i0: number, i1: number, t: NearAddTask): void {
+export function nearAddRange(i0: number, i1: number, t: NearAddTask): void {
   const { x, y, z, dx, dy, dz, start: st, end: en, seg, cf, vx, vy, vz } = t;
   const L = t.boxSize, iw = 1 / t.radius, outer2 = 4 * t.radius * t.radius;
   for (let i = i0; i < i1; i++) {
@@ -344,7 +344,7 @@ export class NearField {
   /** Runs a task on the pool, or on the calling thread alone without one. */
   private runTask(task: NearBuildTask | NearAddTask, own: (control: Int32Array) => void): void {
     const pool = this.pool;
-    if (pool === null || pool.threads === 1) {
+    if (pool === null) {
       this.solo[0] = 0;
       own(this.solo);
     } else pool.run(task, () => own(pool.control));
@@ -368,7 +368,29 @@ export class NearField {
     vy: Float64Array,
     vz: Float64Array,
   ): void {
-    const task: NearAddTask = {
+    const task = this.addTask(n, x, y, z, dx, dy, dz, cf, vx, vy, vz);
+    if (isShared(x, y, z, dx, dy, dz, vx, vy, vz)) this.runTask(task, (control) => runNearAdd(task, control));
+    else {
+      this.solo[0] = 0;
+      runNearAdd(task, this.solo);
+    }
+  }
+
+  /** The task of `add` (for callers that run the sum inside a task of their own). */
+  addTask(
+    n: number,
+    x: Float64Array,
+    y: Float64Array,
+    z: Float64Array,
+    dx: Float64Array,
+    dy: Float64Array,
+    dz: Float64Array,
+    cf: number,
+    vx: Float64Array,
+    vy: Float64Array,
+    vz: Float64Array,
+  ): NearAddTask {
+    return {
       kind: "near-add",
       n,
       x,
@@ -387,11 +409,6 @@ export class NearField {
       vy,
       vz,
     };
-    if (isShared(x, y, z, dx, dy, dz, vx, vy, vz)) this.runTask(task, (control) => runNearAdd(task, control));
-    else {
-      this.solo[0] = 0;
-      runNearAdd(task, this.solo);
-    }
   }
 
   /**

@@ -6,11 +6,13 @@
 import { SegmentFmm } from "./fmm.ts";
 import { runFmmUnits } from "./fmm_threads.ts";
 import { NearScratch, runNearAdd, runNearBuild } from "./near.ts";
+import { FastRhsScratch, runFastRhs } from "./fast_rhs.ts";
 import { FAILURES, type PoolMessage, WORKERS_DONE } from "./thread_pool.ts";
 
 let fmm: SegmentFmm | null = null;
 let kernel = "";
 const scratch = new NearScratch();
+const fastScratch = new FastRhsScratch();
 
 self.onmessage = (ev: MessageEvent<PoolMessage>) => {
   const { task, control, slot } = ev.data;
@@ -22,7 +24,8 @@ self.onmessage = (ev: MessageEvent<PoolMessage>) => {
         kernel = task.nearKernel;
       }
       runFmmUnits(fmm, task, control, slot);
-    } else if (task.kind === "near-add") runNearAdd(task, control);
+    } else if (task.kind === "fast-rhs") runFastRhs(task, control, fastScratch);
+    else if (task.kind === "near-add") runNearAdd(task, control);
     else runNearBuild(task, control, scratch);
   } catch (e) {
     Atomics.add(control, FAILURES, 1);

@@ -58,13 +58,13 @@
  */
 import { EngineFailure } from "../contract.ts";
 import type { EngineEvent } from "../contract.ts";
-import { computeGeometry, Geometry } from "./geometry.ts";
+import { computeGeometry, Geometry, segmentVectors } from "./geometry.ts";
+import { FastRhsScratch, type FastRhsTask, runFastRhs } from "./fast_rhs.ts";
 import { Reconnector } from "./reconnect.ts";
 import type { ReconnectionRecord, ReconnectOptions } from "./reconnect.ts";
 import { remesh } from "./remesh.ts";
 import type { MarkerTransfer, RemeshOptions } from "./remesh.ts";
 import { compactInto, FilamentState, HIST_LEVELS, HIST_STRIDE, IdCounters, RemovalReason } from "./state.ts";
-import { addLocalTerm } from "./biot_savart.ts";
 import { NearField } from "./near.ts";
 import { SHARED } from "./_alloc.ts";
 import { type AccuracyCheckSettings, AccuracyMonitor } from "./accuracy.ts";
@@ -159,10 +159,6 @@ export class FilamentSimulation {
   private ax: Float64Array = new Float64Array(0);
   private ay: Float64Array = new Float64Array(0);
   private az: Float64Array = new Float64Array(0);
-  /** Copy of the state's positions on shared memory (`copyPositions`). */
-  private xc: Float64Array = new Float64Array(0);
-  private yc: Float64Array = new Float64Array(0);
-  private zc: Float64Array = new Float64Array(0);
   private relabel = new Uint8Array(0);
 
   /**
@@ -217,9 +213,6 @@ export class FilamentSimulation {
     this.xs = SHARED.f64(c);
     this.ys = SHARED.f64(c);
     this.zs = SHARED.f64(c);
-    this.xc = SHARED.f64(c);
-    this.yc = SHARED.f64(c);
-    this.zc = SHARED.f64(c);
     this.kx = SHARED.f64(c);
     this.ky = SHARED.f64(c);
     this.kz = SHARED.f64(c);
@@ -227,14 +220,6 @@ export class FilamentSimulation {
     this.ay = SHARED.f64(c);
     this.az = SHARED.f64(c);
     this.cap = c;
-  }
-
-  /** Copies the state's positions to (xc, yc, zc) on shared memory. */
-  private copyPositions(): void {
-    const s = this.state, n = s.n;
-    this.xc.set(s.x.subarray(0, n));
-    this.yc.set(s.y.subarray(0, n));
-    this.zc.set(s.z.subarray(0, n));
   }
 
   /** The stable step for the current state (without the advective limit): c·h_min²/(κΛ). */
@@ -415,7 +400,6 @@ export class FilamentSimulation {
     for (let i = 0; i < n; i++) kx[i] = ky[i] = kz[i] = 0;
     f.addNonlocal(n, s.x, s.y, s.z, s.prev, kx, ky, kz);
     this.slowEvaluations++;
-    this.copyPositions();
     const cf = v.kappa / (4 * Math.PI);
     // Near field (fast part): Verlet list with a skin of NEAR_SKIN·δ (no pair approaches by more within a step).
     this.near.build(
@@ -429,7 +413,7 @@ export class FilamentSimulation {
       window * this.config.resolution,
       NEAR_SKIN * this.config.resolution,
     );
-    this.near.add(n, this.xc, this.yc, this.zc, g.dx, g.dy, g.dz, -cf, kx, ky, kz);
+    this.near.add(n, s.x, s.y, s.z, g.dx, g.dy, g.dz, -cf, kx, ky, kz);
     this.hHead = (this.hHead + 1) % HIST_LEVELS;
     this.hTimes[this.hHead] = this.t;
     this.hLevels = Math.min(this.hLevels + 1, HIST_LEVELS);
@@ -474,31 +458,49 @@ export class FilamentSimulation {
   ): void {
     const s = this.state, n = s.n, f = this.field, g = f.geo;
     const v = this.config.velocity;
-    computeGeometry(n, px, py, pz, s.next, s.prev, v.boxSize, g);
+    // Segment vectors of all points first (the chunks read their neighbours'), the rest by chunks of points.
+    segmentVectors(n, px, py, pz, s.next, v.boxSize, g);
     this.extrapolationWeights(tau);
     const cf = v.kappa / (4 * Math.PI);
-    const h = s.hist, hc = s.histCount, w = this.hWeights, slot = this.hSlot;
-    const K = HIST_LEVELS;
-    for (let i = 0; i < n; i++) vx[i] = vy[i] = vz[i] = 0;
-    addLocalTerm(n, s.prev, g.tx, g.ty, g.tz, g.cx, g.cy, g.cz, g.len, cf, v.coreRadius, vx, vy, vz);
-    this.near.add(n, px, py, pz, g.dx, g.dy, g.dz, cf, vx, vy, vz);
-    for (let i = 0; i < n; i++) {
-      const o = Math.min(hc[i], order);
-      let sx = 0, sy = 0, sz = 0;
-      const b = i * HIST_STRIDE;
-      for (let j = 0; j < o; j++) {
-        const wj = w[(o - 1) * K + j];
-        const q = b + 3 * slot[j];
-        sx += wj * h[q];
-        sy += wj * h[q + 1];
-        sz += wj * h[q + 2];
-      }
-      vx[i] += sx;
-      vy[i] += sy;
-      vz[i] += sz;
-    }
-    f.finish(n, px, py, vx, vy, vz);
+    const task: FastRhsTask = {
+      kind: "fast-rhs",
+      n,
+      x: px,
+      y: py,
+      z: pz,
+      next: s.next,
+      prev: s.prev,
+      geo: {
+        tx: g.tx,
+        ty: g.ty,
+        tz: g.tz,
+        cx: g.cx,
+        cy: g.cy,
+        cz: g.cz,
+        dx: g.dx,
+        dy: g.dy,
+        dz: g.dz,
+        len: g.len,
+      },
+      cf,
+      a0: v.coreRadius,
+      near: this.near.addTask(n, px, py, pz, g.dx, g.dy, g.dz, cf, vx, vy, vz),
+      hist: s.hist,
+      histCount: s.histCount,
+      weights: this.hWeights,
+      slot: this.hSlot,
+      order,
+      levels: HIST_LEVELS,
+      stride: HIST_STRIDE,
+      friction: { alpha: v.alpha, alphaPrime: v.alphaPrime, normal: v.normal },
+      vx,
+      vy,
+      vz,
+    };
+    const pool = f.pool;
+    pool.run(task, () => runFastRhs(task, pool.control, this.scratch));
   }
+  private readonly scratch = new FastRhsScratch();
 
   /**
    * One multirate step (module doc): one slow evaluation, then RK4 substeps of the fast system. While fewer
@@ -518,7 +520,7 @@ export class FilamentSimulation {
     this.pushSlowLevel(window);
     const starting = this.hLevels < order;
     // First stage (t_n): the full right-hand side, equal to the classical one.
-    this.fastRhs(this.xc, this.yc, this.zc, this.t, order, kx, ky, kz);
+    this.fastRhs(s.x, s.y, s.z, this.t, order, kx, ky, kz);
     const fast = this.stableStepFrom(f.geo, n);
     let dt = dtMax;
     if (!fixedDt) {
@@ -535,10 +537,7 @@ export class FilamentSimulation {
     const t0 = this.t;
     for (let q = 0; q < m; q++) {
       const tq = t0 + q * h;
-      if (q > 0) {
-        this.copyPositions();
-        this.fastRhs(this.xc, this.yc, this.zc, tq, order, kx, ky, kz);
-      }
+      if (q > 0) this.fastRhs(s.x, s.y, s.z, tq, order, kx, ky, kz);
       this.rk4Step(h, tq, starting ? 0 : order);
     }
     this.lastSubsteps = m;

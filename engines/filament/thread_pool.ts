@@ -19,9 +19,10 @@
  */
 import type { FmmTask } from "./fmm_threads.ts";
 import type { NearAddTask, NearBuildTask } from "./near.ts";
+import type { FastRhsTask } from "./fast_rhs.ts";
 
 /** A task the workers know how to run (see `pool_worker.ts`). */
-export type PoolTask = FmmTask | NearAddTask | NearBuildTask;
+export type PoolTask = FmmTask | NearAddTask | NearBuildTask | FastRhsTask;
 
 /** Message to one worker: the task, the pool's control array and the worker's slot (1…threads − 1). */
 export interface PoolMessage {

@@ -240,48 +240,69 @@ export class VelocityField {
     vy: Float64Array,
     vz: Float64Array,
   ): void {
-    const c = this.config;
     const g = this.geo;
-    const nf = c.normal;
-    if (nf.kind === "line-heater") {
-      // External counter-superflow v_s,ext = −(ρ_n/ρ_s) v_n.
-      const k = -nf.normalToSuperRatio * nf.strength;
-      for (let i = 0; i < n; i++) {
-        const r2 = x[i] * x[i] + y[i] * y[i];
-        if (r2 === 0) continue;
-        vx[i] += k * x[i] / r2;
-        vy[i] += k * y[i] / r2;
+    applyFlowAndFriction(0, n, this.config, x, y, g.tx, g.ty, g.tz, vx, vy, vz);
+  }
+}
+
+/** The settings `applyFlowAndFriction` reads. */
+export type FrictionSettings = Pick<VelocityConfig, "alpha" | "alphaPrime" | "normal">;
+
+/**
+ * `VelocityField.finish` for points i0 … i1 − 1 (tangents t): adds the external counter-superflow to the
+ * superfluid velocity in (vx, vy, vz) and applies mutual friction.
+ */
+export function applyFlowAndFriction(
+  i0: number,
+  i1: number,
+  c: FrictionSettings,
+  x: Float64Array,
+  y: Float64Array,
+  tx: Float64Array,
+  ty: Float64Array,
+  tz: Float64Array,
+  vx: Float64Array,
+  vy: Float64Array,
+  vz: Float64Array,
+): void {
+  const nf = c.normal;
+  if (nf.kind === "line-heater") {
+    // External counter-superflow v_s,ext = −(ρ_n/ρ_s) v_n.
+    const k = -nf.normalToSuperRatio * nf.strength;
+    for (let i = i0; i < i1; i++) {
+      const r2 = x[i] * x[i] + y[i] * y[i];
+      if (r2 === 0) continue;
+      vx[i] += k * x[i] / r2;
+      vy[i] += k * y[i] / r2;
+    }
+  }
+  if (c.alpha === 0 && c.alphaPrime === 0) return;
+  const a = c.alpha, ap = c.alphaPrime;
+  let unx = 0, uny = 0, unz = 0;
+  if (nf.kind === "uniform") {
+    unx = nf.velocity[0];
+    uny = nf.velocity[1];
+    unz = nf.velocity[2];
+  }
+  const heater = nf.kind === "line-heater" ? nf.strength : 0;
+  for (let i = i0; i < i1; i++) {
+    let wx = unx, wy = uny, wz = unz;
+    if (heater !== 0) {
+      const r2 = x[i] * x[i] + y[i] * y[i];
+      if (r2 > 0) {
+        wx = heater * x[i] / r2;
+        wy = heater * y[i] / r2;
+        wz = 0;
       }
     }
-    if (c.alpha === 0 && c.alphaPrime === 0) return;
-    const a = c.alpha, ap = c.alphaPrime;
-    const { tx, ty, tz } = g;
-    let unx = 0, uny = 0, unz = 0;
-    if (nf.kind === "uniform") {
-      unx = nf.velocity[0];
-      uny = nf.velocity[1];
-      unz = nf.velocity[2];
-    }
-    const heater = nf.kind === "line-heater" ? nf.strength : 0;
-    for (let i = 0; i < n; i++) {
-      let wx = unx, wy = uny, wz = unz;
-      if (heater !== 0) {
-        const r2 = x[i] * x[i] + y[i] * y[i];
-        if (r2 > 0) {
-          wx = heater * x[i] / r2;
-          wy = heater * y[i] / r2;
-          wz = 0;
-        }
-      }
-      // w = v_n − v_s
-      wx -= vx[i];
-      wy -= vy[i];
-      wz -= vz[i];
-      const sx = ty[i] * wz - tz[i] * wy, sy = tz[i] * wx - tx[i] * wz, sz = tx[i] * wy - ty[i] * wx; // t×w
-      const qx = ty[i] * sz - tz[i] * sy, qy = tz[i] * sx - tx[i] * sz, qz = tx[i] * sy - ty[i] * sx; // t×(t×w)
-      vx[i] += a * sx - ap * qx;
-      vy[i] += a * sy - ap * qy;
-      vz[i] += a * sz - ap * qz;
-    }
+    // w = v_n − v_s
+    wx -= vx[i];
+    wy -= vy[i];
+    wz -= vz[i];
+    const sx = ty[i] * wz - tz[i] * wy, sy = tz[i] * wx - tx[i] * wz, sz = tx[i] * wy - ty[i] * wx; // t×w
+    const qx = ty[i] * sz - tz[i] * sy, qy = tz[i] * sx - tx[i] * sz, qz = tx[i] * sy - ty[i] * sx; // t×(t×w)
+    vx[i] += a * sx - ap * qx;
+    vy[i] += a * sy - ap * qy;
+    vz[i] += a * sz - ap * qz;
   }
 }
