@@ -232,3 +232,45 @@ export function tangentsAndCurvature(
     cz[i] = qz;
   }
 }
+
+/** Tangents and curvature of n points by chunks on worker threads (segment vectors done; shared arrays). */
+export interface GeometryTask {
+  readonly kind: "geometry";
+  readonly n: number;
+  readonly next: Int32Array;
+  readonly prev: Int32Array;
+  readonly geo: GeometryArrays;
+}
+
+/** Runs the chunks of a `GeometryTask` taken from `control[0]` (module doc of `thread_pool.ts`). */
+export function runGeometry(
+  t: GeometryTask,
+  control: Int32Array,
+  nodes: Float64Array,
+  weights: Float64Array,
+): void {
+  for (;;) {
+    const i0 = GEOMETRY_CHUNK * Atomics.add(control, 0, 1);
+    if (i0 >= t.n) break;
+    tangentsAndCurvature(i0, Math.min(t.n, i0 + GEOMETRY_CHUNK), t.next, t.prev, t.geo, nodes, weights);
+  }
+}
+
+/** Points per chunk of a `GeometryTask`. */
+const GEOMETRY_CHUNK = 512;
+
+/** The arrays of g as a plain object (what a task message carries). */
+export function geometryArrays(g: GeometryArrays): GeometryArrays {
+  return {
+    tx: g.tx,
+    ty: g.ty,
+    tz: g.tz,
+    cx: g.cx,
+    cy: g.cy,
+    cz: g.cz,
+    dx: g.dx,
+    dy: g.dy,
+    dz: g.dz,
+    len: g.len,
+  };
+}

@@ -225,6 +225,7 @@ export class NearField {
   private readonly fill = SHARED.i32(1);
   /** Chunk counter when the calling thread works alone. */
   private readonly solo = new Int32Array(1);
+  private chunkBest = SHARED.f64(0);
   private cap = 0;
   private px = SHARED.f64(0);
   private py = SHARED.f64(0);
@@ -342,7 +343,10 @@ export class NearField {
   }
 
   /** Runs a task on the pool, or on the calling thread alone without one. */
-  private runTask(task: NearBuildTask | NearAddTask, own: (control: Int32Array) => void): void {
+  private runTask(
+    task: NearBuildTask | NearAddTask | NearApproachTask,
+    own: (control: Int32Array) => void,
+  ): void {
     const pool = this.pool;
     if (pool === null) {
       this.solo[0] = 0;
@@ -432,9 +436,69 @@ export class NearField {
     minLinks: number,
     dr: number,
   ): number {
-    const st = this.start, en = this.end, seg = this.seg, L = this.boxSize;
+    const chunks = Math.ceil(n / CHUNK);
+    if (this.chunkBest.length < chunks) this.chunkBest = SHARED.f64(2 * chunks);
+    const task: NearApproachTask = {
+      kind: "near-approach",
+      n,
+      x,
+      y,
+      z,
+      vx,
+      vy,
+      vz,
+      loop,
+      index,
+      length,
+      minLinks,
+      dr,
+      start: this.start,
+      end: this.end,
+      seg: this.seg,
+      boxSize: this.boxSize,
+      best: this.chunkBest,
+    };
+    this.runTask(task, (control) => runNearApproach(task, control));
     let best = Infinity;
-    for (let i = 0; i < n; i++) {
+    for (let c = 0; c < chunks; c++) if (this.chunkBest[c] < best) best = this.chunkBest[c];
+    return best;
+  }
+}
+
+/** The bound of `NearField.approachStep` over fixed chunks of targets (for any thread count the same chunks). */
+export interface NearApproachTask {
+  readonly kind: "near-approach";
+  readonly n: number;
+  readonly x: Float64Array;
+  readonly y: Float64Array;
+  readonly z: Float64Array;
+  readonly vx: Float64Array;
+  readonly vy: Float64Array;
+  readonly vz: Float64Array;
+  readonly loop: Int32Array;
+  readonly index: Int32Array;
+  readonly length: Int32Array;
+  readonly minLinks: number;
+  readonly dr: number;
+  readonly start: Int32Array;
+  readonly end: Int32Array;
+  readonly seg: Int32Array;
+  readonly boxSize: number;
+  /** Output: each chunk's smallest bound. */
+  readonly best: Float64Array;
+}
+
+/** Computes the chunk bounds of a `NearApproachTask` for chunks taken from `control[0]`. */
+export function runNearApproach(t: NearApproachTask, control: Int32Array): void {
+  const { n, x, y, z, vx, vy, vz, loop, index, length, minLinks, dr, start: st, end: en, seg } = t;
+  const L = t.boxSize;
+  for (;;) {
+    const c = Atomics.add(control, 0, 1);
+    const i0 = CHUNK * c;
+    if (i0 >= n) break;
+    const i1 = Math.min(n, i0 + CHUNK);
+    let best = Infinity;
+    for (let i = i0; i < i1; i++) {
       for (let q = st[i]; q < en[i]; q++) {
         const j = seg[q];
         if (loop[j] === loop[i]) {
@@ -451,10 +515,10 @@ export class NearField {
           ey -= L * Math.round(ey / L);
           ez -= L * Math.round(ez / L);
         }
-        const t = (dr + Math.sqrt(ex * ex + ey * ey + ez * ez)) / Math.sqrt(w2);
-        if (t < best) best = t;
+        const tt = (dr + Math.sqrt(ex * ex + ey * ey + ez * ez)) / Math.sqrt(w2);
+        if (tt < best) best = tt;
       }
     }
-    return best;
+    t.best[c] = best;
   }
 }

@@ -5,8 +5,9 @@
  */
 import { SegmentFmm } from "./fmm.ts";
 import { runFmmUnits } from "./fmm_threads.ts";
-import { NearScratch, runNearAdd, runNearBuild } from "./near.ts";
+import { NearScratch, runNearAdd, runNearApproach, runNearBuild } from "./near.ts";
 import { FastRhsScratch, runFastRhs } from "./fast_rhs.ts";
+import { runGeometry } from "./geometry.ts";
 import { FAILURES, type PoolMessage, WORKERS_DONE } from "./thread_pool.ts";
 
 let fmm: SegmentFmm | null = null;
@@ -25,7 +26,9 @@ self.onmessage = (ev: MessageEvent<PoolMessage>) => {
       }
       runFmmUnits(fmm, task, control, slot);
     } else if (task.kind === "fast-rhs") runFastRhs(task, control, fastScratch);
+    else if (task.kind === "geometry") runGeometry(task, control, fastScratch.nodes, fastScratch.weights);
     else if (task.kind === "near-add") runNearAdd(task, control);
+    else if (task.kind === "near-approach") runNearApproach(task, control);
     else runNearBuild(task, control, scratch);
   } catch (e) {
     Atomics.add(control, FAILURES, 1);

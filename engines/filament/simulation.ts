@@ -58,7 +58,7 @@
  */
 import { EngineFailure } from "../contract.ts";
 import type { EngineEvent } from "../contract.ts";
-import { computeGeometry, Geometry, segmentVectors } from "./geometry.ts";
+import { Geometry, geometryArrays, type GeometryTask, runGeometry, segmentVectors } from "./geometry.ts";
 import { FastRhsScratch, type FastRhsTask, runFastRhs } from "./fast_rhs.ts";
 import { Reconnector } from "./reconnect.ts";
 import type { ReconnectionRecord, ReconnectOptions } from "./reconnect.ts";
@@ -134,7 +134,7 @@ export class FilamentSimulation {
   /** Sampled errors of the fast nonlocal sum (null when the check is off). */
   readonly accuracy: AccuracyMonitor | null;
   /** Geometry of the state after the last topology pass. */
-  readonly geo = new Geometry();
+  readonly geo = new Geometry(SHARED);
   readonly ids = new IdCounters();
   private readonly reconnector = new Reconnector();
   private readonly emit: (e: EngineEvent) => void;
@@ -222,10 +222,27 @@ export class FilamentSimulation {
     this.cap = c;
   }
 
+  /** `computeGeometry` with the tangents and curvature by chunks on the thread pool (g on shared memory). */
+  private geometry(
+    n: number,
+    x: Float64Array,
+    y: Float64Array,
+    z: Float64Array,
+    next: Int32Array,
+    prev: Int32Array,
+    boxSize: number,
+    g: Geometry,
+  ): void {
+    segmentVectors(n, x, y, z, next, boxSize, g);
+    const task: GeometryTask = { kind: "geometry", n, next, prev, geo: geometryArrays(g) };
+    const pool = this.field.pool;
+    pool.run(task, () => runGeometry(task, pool.control, g.nodes, g.weights));
+  }
+
   /** The stable step for the current state (without the advective limit): c·h_min²/(κΛ). */
   stableStep(): number {
     const s = this.state;
-    computeGeometry(s.n, s.x, s.y, s.z, s.next, s.prev, this.config.velocity.boxSize, this.geo);
+    this.geometry(s.n, s.x, s.y, s.z, s.next, s.prev, this.config.velocity.boxSize, this.geo);
     return this.stableStepFrom(this.geo, s.n);
   }
 
@@ -349,8 +366,10 @@ export class FilamentSimulation {
   /** Slot of level j. */
   private readonly hSlot = new Int32Array(HIST_LEVELS);
   private readonly near = new NearField();
-  private loopIndex = new Int32Array(0);
-  private loopLength = new Int32Array(0);
+  /** Per point (compact state, shared memory): loop number, position in the loop and the loop's length. */
+  private loopIndex: Int32Array = new Int32Array(0);
+  private loopLength: Int32Array = new Int32Array(0);
+  private loopNumber: Int32Array = new Int32Array(0);
 
   /**
    * Longest step for which no listed pair that may reconnect closes in by more than δ_r plus its distance
@@ -359,14 +378,16 @@ export class FilamentSimulation {
   private approachStep(): number {
     const s = this.state, n = s.n;
     if (this.loopIndex.length < n) {
-      this.loopIndex = new Int32Array(this.cap);
-      this.loopLength = new Int32Array(this.cap);
+      this.loopIndex = SHARED.i32(this.cap);
+      this.loopLength = SHARED.i32(this.cap);
+      this.loopNumber = SHARED.i32(this.cap);
     }
     for (let k = 0; k < s.nLoops; k++) {
       const s0 = s.loopStart[k], m = s.loopLen[k];
       for (let q = 0; q < m; q++) {
         this.loopIndex[s0 + q] = q;
         this.loopLength[s0 + q] = m;
+        this.loopNumber[s0 + q] = k;
       }
     }
     return this.near.approachStep(
@@ -377,7 +398,7 @@ export class FilamentSimulation {
       this.kx,
       this.ky,
       this.kz,
-      s.loopOf,
+      this.loopNumber,
       this.loopIndex,
       this.loopLength,
       RECONNECT_MIN_LINKS,
@@ -395,7 +416,7 @@ export class FilamentSimulation {
   private pushSlowLevel(window: number): void {
     const s = this.state, n = s.n, f = this.field, g = f.geo;
     const v = this.config.velocity;
-    computeGeometry(n, s.x, s.y, s.z, s.next, s.prev, v.boxSize, g);
+    this.geometry(n, s.x, s.y, s.z, s.next, s.prev, v.boxSize, g);
     const { kx, ky, kz } = this;
     for (let i = 0; i < n; i++) kx[i] = ky[i] = kz[i] = 0;
     f.addNonlocal(n, s.x, s.y, s.z, s.prev, kx, ky, kz);
@@ -645,7 +666,7 @@ export class FilamentSimulation {
       if (!changed) break;
     }
     const s = this.state;
-    computeGeometry(s.n, s.x, s.y, s.z, s.next, s.prev, L, this.geo);
+    this.geometry(s.n, s.x, s.y, s.z, s.next, s.prev, L, this.geo);
     if (cfg.reconnect && !initial && s.n > 0) {
       if (this.relabel.length < s.n) {
         this.relabel = new Uint8Array(Math.max(s.n, 2 * this.relabel.length));
@@ -686,14 +707,14 @@ export class FilamentSimulation {
           });
         }
         for (const r of this.pending) this.removedLoop(r, RemovalReason.Tiny);
-        computeGeometry(st.n, st.x, st.y, st.z, st.next, st.prev, L, this.geo);
+        this.geometry(st.n, st.x, st.y, st.z, st.next, st.prev, L, this.geo);
         // The swapped connections are as short as the lines were close (down to ~δ_r/10): remesh them now,
         // or the next step's stable step c·h_min²/(κΛ) would shrink with them.
         if (cfg.remesh && this.remeshPass()) {
           compactInto(this.state, this.spare, this.compactPlain);
           this.swap();
           const s2 = this.state;
-          computeGeometry(s2.n, s2.x, s2.y, s2.z, s2.next, s2.prev, L, this.geo);
+          this.geometry(s2.n, s2.x, s2.y, s2.z, s2.next, s2.prev, L, this.geo);
         }
       }
     }
@@ -713,7 +734,7 @@ export class FilamentSimulation {
    */
   private remeshPass(): boolean {
     const s = this.state, cfg = this.config;
-    computeGeometry(s.n, s.x, s.y, s.z, s.next, s.prev, cfg.velocity.boxSize, this.geo);
+    this.geometry(s.n, s.x, s.y, s.z, s.next, s.prev, cfg.velocity.boxSize, this.geo);
     const r = remesh(s, this.geo, this.remeshOpts!, this.ids, this.onTransfer);
     let changed = r.inserted + r.removed > 0;
     if (cfg.heaterRadius > 0 && r.inserted > 0) changed = this.absorbInHeater() || changed;

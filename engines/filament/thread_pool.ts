@@ -18,11 +18,12 @@
  * ```
  */
 import type { FmmTask } from "./fmm_threads.ts";
-import type { NearAddTask, NearBuildTask } from "./near.ts";
+import type { NearAddTask, NearApproachTask, NearBuildTask } from "./near.ts";
 import type { FastRhsTask } from "./fast_rhs.ts";
+import type { GeometryTask } from "./geometry.ts";
 
 /** A task the workers know how to run (see `pool_worker.ts`). */
-export type PoolTask = FmmTask | NearAddTask | NearBuildTask | FastRhsTask;
+export type PoolTask = FmmTask | NearAddTask | NearBuildTask | NearApproachTask | FastRhsTask | GeometryTask;
 
 /** Message to one worker: the task, the pool's control array and the worker's slot (1…threads − 1). */
 export interface PoolMessage {
