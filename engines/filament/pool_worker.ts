@@ -8,12 +8,14 @@ import { runFmmUnits } from "./fmm_threads.ts";
 import { NearScratch, runNearAdd, runNearApproach, runNearBuild } from "./near.ts";
 import { FastRhsScratch, runFastRhs } from "./fast_rhs.ts";
 import { runGeometry } from "./geometry.ts";
+import { PairScratch, runReconnectSearch } from "./reconnect.ts";
 import { FAILURES, type PoolMessage, WORKERS_DONE } from "./thread_pool.ts";
 
 let fmm: SegmentFmm | null = null;
 let kernel = "";
 const scratch = new NearScratch();
 const fastScratch = new FastRhsScratch();
+const pairScratch = new PairScratch();
 
 self.onmessage = (ev: MessageEvent<PoolMessage>) => {
   const { task, control, slot } = ev.data;
@@ -27,6 +29,7 @@ self.onmessage = (ev: MessageEvent<PoolMessage>) => {
       runFmmUnits(fmm, task, control, slot);
     } else if (task.kind === "fast-rhs") runFastRhs(task, control, fastScratch);
     else if (task.kind === "geometry") runGeometry(task, control, fastScratch.nodes, fastScratch.weights);
+    else if (task.kind === "reconnect-search") runReconnectSearch(task, control, pairScratch);
     else if (task.kind === "near-add") runNearAdd(task, control);
     else if (task.kind === "near-approach") runNearApproach(task, control);
     else runNearBuild(task, control, scratch);

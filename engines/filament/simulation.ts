@@ -174,6 +174,7 @@ export class FilamentSimulation {
     this.emit = emit;
     this.field = new VelocityField(config.velocity);
     this.near.usePool(this.field.pool);
+    this.reconnector.usePool(this.field.pool);
     const ac = config.accuracyCheck;
     this.accuracy = ac !== undefined && ac.every > 0 ? new AccuracyMonitor(ac) : null;
     const L = config.velocity.boxSize;

@@ -21,9 +21,17 @@ import type { FmmTask } from "./fmm_threads.ts";
 import type { NearAddTask, NearApproachTask, NearBuildTask } from "./near.ts";
 import type { FastRhsTask } from "./fast_rhs.ts";
 import type { GeometryTask } from "./geometry.ts";
+import type { ReconnectSearchTask } from "./reconnect.ts";
 
 /** A task the workers know how to run (see `pool_worker.ts`). */
-export type PoolTask = FmmTask | NearAddTask | NearBuildTask | NearApproachTask | FastRhsTask | GeometryTask;
+export type PoolTask =
+  | FmmTask
+  | NearAddTask
+  | NearBuildTask
+  | NearApproachTask
+  | FastRhsTask
+  | GeometryTask
+  | ReconnectSearchTask;
 
 /** Message to one worker: the task, the pool's control array and the worker's slot (1…threads − 1). */
 export interface PoolMessage {
