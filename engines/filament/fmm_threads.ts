@@ -61,6 +61,42 @@ export interface FmmTask {
   readonly theta: number;
 }
 
+/** The multipoles and target radii of the leaves (`SegmentFmm.leaves`) for the pool. */
+export interface FmmLeavesTask {
+  readonly kind: "fmm-leaves";
+  readonly order: number;
+  readonly nearKernel: NearKernel;
+  readonly tree: FmmTask["tree"];
+  readonly nCell: number;
+  readonly mult: Float64Array;
+  readonly multR: Float64Array;
+  readonly rT: Float64Array;
+  readonly x: Float64Array;
+  readonly y: Float64Array;
+  readonly z: Float64Array;
+}
+
+/** Cells per chunk of an `FmmLeavesTask`. */
+const LEAF_CHUNK = 16;
+
+/**
+ * Runs the leaf chunks taken from the pool's counter with `fmm` (the calling thread's own FMM, slot 0, or a
+ * worker's copy pointed at the shared expansions).
+ */
+export function runFmmLeaves(fmm: SegmentFmm, task: FmmLeavesTask, control: Int32Array, slot: number): void {
+  if (slot > 0) {
+    fmm.mult = task.mult;
+    fmm.multR = task.multR;
+    fmm.rT = task.rT;
+  }
+  const t = task.tree as unknown as SegmentTree;
+  for (;;) {
+    const c0 = LEAF_CHUNK * Atomics.add(control, NEXT_CHUNK, 1);
+    if (c0 >= task.nCell) break;
+    fmm.leaves(t, c0, Math.min(task.nCell, c0 + LEAF_CHUNK), task.x, task.y, task.z);
+  }
+}
+
 /**
  * Runs FMM work units taken from the pool's counter with `fmm` (the calling thread's own FMM, or a worker's
  * copy pointed at the shared expansions) and records its counts in `stats` at `slot`.
@@ -169,12 +205,29 @@ export class FmmThreads {
     ox.fill(0, 0, n);
     oy.fill(0, 0, n);
     oz.fill(0, 0, n);
-    fmm.prepare(t, sx, sy, sz);
+    const tree = {} as FmmTask["tree"];
+    const pool = this.pool;
+    for (const f of TREE_FIELDS) tree[f] = t[f];
+    fmm.prepare(t, sx, sy, sz, () => {
+      // (called after `prepare` has sized the expansion arrays)
+      const leaves: FmmLeavesTask = {
+        kind: "fmm-leaves",
+        order: fmm.p,
+        nearKernel: this.nearKernel,
+        tree,
+        nCell: t.nCell,
+        mult: fmm.mult,
+        multR: fmm.multR,
+        rT: fmm.rT,
+        x: sx,
+        y: sy,
+        z: sz,
+      };
+      pool.run(leaves, () => runFmmLeaves(fmm, leaves, pool.control, 0));
+    });
     const units = fmm.units(t);
     this.unitBuf.set(units);
     stats.fill(0);
-    const tree = {} as FmmTask["tree"];
-    for (const f of TREE_FIELDS) tree[f] = t[f];
     const task: FmmTask = {
       kind: "fmm",
       order: fmm.p,

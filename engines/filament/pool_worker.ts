@@ -4,7 +4,7 @@
  * until none is left, written into shared output arrays — then signals completion.
  */
 import { SegmentFmm } from "./fmm.ts";
-import { runFmmUnits } from "./fmm_threads.ts";
+import { runFmmLeaves, runFmmUnits } from "./fmm_threads.ts";
 import { NearScratch, runNearAdd, runNearApproach, runNearBuild } from "./near.ts";
 import { FastRhsScratch, runFastRhs } from "./fast_rhs.ts";
 import { runGeometry } from "./geometry.ts";
@@ -21,12 +21,13 @@ self.onmessage = (ev: MessageEvent<PoolMessage>) => {
   const { task, control, slot } = ev.data;
   Atomics.store(control, 2 + slot, 1);
   try {
-    if (task.kind === "fmm") {
+    if (task.kind === "fmm" || task.kind === "fmm-leaves") {
       if (fmm === null || fmm.p !== task.order || kernel !== task.nearKernel) {
         fmm = new SegmentFmm(task.order, task.nearKernel);
         kernel = task.nearKernel;
       }
-      runFmmUnits(fmm, task, control, slot);
+      if (task.kind === "fmm") runFmmUnits(fmm, task, control, slot);
+      else runFmmLeaves(fmm, task, control, slot);
     } else if (task.kind === "fast-rhs") runFastRhs(task, control, fastScratch);
     else if (task.kind === "geometry") runGeometry(task, control, fastScratch.nodes, fastScratch.weights);
     else if (task.kind === "reconnect-search") runReconnectSearch(task, control, pairScratch);

@@ -17,7 +17,7 @@
  * // pool.run(task, () => runChunks(task, pool.control)); … pool.close();
  * ```
  */
-import type { FmmTask } from "./fmm_threads.ts";
+import type { FmmLeavesTask, FmmTask } from "./fmm_threads.ts";
 import type { NearAddTask, NearApproachTask, NearBuildTask } from "./near.ts";
 import type { FastRhsTask } from "./fast_rhs.ts";
 import type { GeometryTask } from "./geometry.ts";
@@ -26,6 +26,7 @@ import type { ReconnectSearchTask } from "./reconnect.ts";
 /** A task the workers know how to run (see `pool_worker.ts`). */
 export type PoolTask =
   | FmmTask
+  | FmmLeavesTask
   | NearAddTask
   | NearBuildTask
   | NearApproachTask
