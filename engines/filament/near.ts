@@ -285,11 +285,17 @@ export class NearField {
     cells.reset(n, nc);
     const head = cells.head;
     // Segment midpoints (minimum image of the segment vector in a periodic box).
-    const { mx, my, mz, px, py, pz, pprev } = this;
-    px.set(x.subarray(0, n));
-    py.set(y.subarray(0, n));
-    pz.set(z.subarray(0, n));
-    pprev.set(prev.subarray(0, n));
+    const { mx, my, mz } = this;
+    // Inputs not on shared memory are copied there for the threads.
+    const shared = isShared(x, y, z, prev);
+    const px = shared ? x : this.px, py = shared ? y : this.py, pz = shared ? z : this.pz;
+    const pprev = shared ? prev : this.pprev;
+    if (!shared) {
+      px.set(x.subarray(0, n));
+      py.set(y.subarray(0, n));
+      pz.set(z.subarray(0, n));
+      pprev.set(prev.subarray(0, n));
+    }
     for (let j = 0; j < n; j++) {
       const k = next[j];
       let ex = x[k] - x[j], ey = y[k] - y[j], ez = z[k] - z[j];
