@@ -47,30 +47,10 @@ export function ringConstant(model: "biot-savart" | "lia"): number {
 }
 
 /**
- * Adds to (vx, vy, vz) the local term (κ/4π) ln(2√(ℓ₋ℓ₊)/(e^{1/4}a₀)) t×c at every point.
+ * Adds to (vx, vy, vz) the local term (κ/4π) ln(2√(ℓ₋ℓ₊)/(e^{1/4}a₀)) t×c at points i0 … i1 − 1.
  * `cf` = κ/4π; t, c, len from `computeGeometry`.
  */
 export function addLocalTerm(
-  n: number,
-  prev: Int32Array,
-  tx: Float64Array,
-  ty: Float64Array,
-  tz: Float64Array,
-  cx: Float64Array,
-  cy: Float64Array,
-  cz: Float64Array,
-  len: Float64Array,
-  cf: number,
-  a0: number,
-  vx: Float64Array,
-  vy: Float64Array,
-  vz: Float64Array,
-): void {
-  addLocalTermRange(0, n, prev, tx, ty, tz, cx, cy, cz, len, cf, a0, vx, vy, vz);
-}
-
-/** `addLocalTerm` for points i0 … i1 − 1. */
-export function addLocalTermRange(
   i0: number,
   i1: number,
   prev: Int32Array,

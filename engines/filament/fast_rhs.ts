@@ -7,7 +7,7 @@
  *
  * References: as in `simulation.ts` (multirate scheme), `biot_savart.ts` (local term), `geometry.ts`.
  */
-import { addLocalTermRange } from "./biot_savart.ts";
+import { addLocalTerm } from "./biot_savart.ts";
 import { type GeometryArrays, tangentsAndCurvature } from "./geometry.ts";
 import { nearAddRange, type NearAddTask } from "./near.ts";
 import { applyFlowAndFriction, type FrictionSettings } from "./velocity.ts";
@@ -61,7 +61,7 @@ export function runFastRhs(t: FastRhsTask, control: Int32Array, scratch: FastRhs
     const i1 = Math.min(n, i0 + CHUNK);
     tangentsAndCurvature(i0, i1, next, prev, g, scratch.nodes, scratch.weights);
     for (let i = i0; i < i1; i++) vx[i] = vy[i] = vz[i] = 0;
-    addLocalTermRange(i0, i1, prev, g.tx, g.ty, g.tz, g.cx, g.cy, g.cz, g.len, t.cf, t.a0, vx, vy, vz);
+    addLocalTerm(i0, i1, prev, g.tx, g.ty, g.tz, g.cx, g.cy, g.cz, g.len, t.cf, t.a0, vx, vy, vz);
     nearAddRange(i0, i1, t.near);
     for (let i = i0; i < i1; i++) {
       const o = Math.min(hc[i], order);

@@ -16,8 +16,8 @@
  * ```ts
  * import { NearField } from "./near.ts";
  * const near = new NearField();
- * // near.build(n, x, y, z, prev, 0, 1.5 * delta, 0.5 * delta);
- * // near.add(n, x, y, z, g.dx, g.dy, g.dz, kappa / (4 * Math.PI), vx, vy, vz);
+ * // near.build(n, x, y, z, next, prev, 0, 1.5 * delta, 0.5 * delta);
+ * // near.add(near.addTask(n, x, y, z, g.dx, g.dy, g.dz, kappa / (4 * Math.PI), vx, vy, vz));
  * ```
  */
 
@@ -362,31 +362,9 @@ export class NearField {
 
   /**
    * Adds cf·Σ_j φ(|x_i − m_j|/r_w) u_j(x_i) over the listed segments j (segment vectors d from the geometry of
-   * the same positions; midpoint m_j = x_j + d_j/2) to (vx, vy, vz). `sign` −1 subtracts. Threads are used
-   * when all arrays are on SharedArrayBuffers (the results do not depend on it).
+   * the same positions; midpoint m_j = x_j + d_j/2) to (vx, vy, vz), cf < 0 subtracting: the task of one such
+   * sum, run by `add` or inside a task of the caller's own.
    */
-  add(
-    n: number,
-    x: Float64Array,
-    y: Float64Array,
-    z: Float64Array,
-    dx: Float64Array,
-    dy: Float64Array,
-    dz: Float64Array,
-    cf: number,
-    vx: Float64Array,
-    vy: Float64Array,
-    vz: Float64Array,
-  ): void {
-    const task = this.addTask(n, x, y, z, dx, dy, dz, cf, vx, vy, vz);
-    if (isShared(x, y, z, dx, dy, dz, vx, vy, vz)) this.runTask(task, (control) => runNearAdd(task, control));
-    else {
-      this.solo[0] = 0;
-      runNearAdd(task, this.solo);
-    }
-  }
-
-  /** The task of `add` (for callers that run the sum inside a task of their own). */
   addTask(
     n: number,
     x: Float64Array,
@@ -419,6 +397,19 @@ export class NearField {
       vy,
       vz,
     };
+  }
+
+  /**
+   * Runs a sum of `addTask`; threads are used when all its arrays are on SharedArrayBuffers (the results do not
+   * depend on it).
+   */
+  add(task: NearAddTask): void {
+    const { x, y, z, dx, dy, dz, vx, vy, vz } = task;
+    if (isShared(x, y, z, dx, dy, dz, vx, vy, vz)) this.runTask(task, (control) => runNearAdd(task, control));
+    else {
+      this.solo[0] = 0;
+      runNearAdd(task, this.solo);
+    }
   }
 
   /**

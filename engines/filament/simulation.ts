@@ -224,18 +224,15 @@ export class FilamentSimulation {
   }
 
   /** `computeGeometry` with the tangents and curvature by chunks on the thread pool (g on shared memory). */
-  private geometry(
-    n: number,
-    x: Float64Array,
-    y: Float64Array,
-    z: Float64Array,
-    next: Int32Array,
-    prev: Int32Array,
-    boxSize: number,
-    g: Geometry,
-  ): void {
-    segmentVectors(n, x, y, z, next, boxSize, g);
-    const task: GeometryTask = { kind: "geometry", n, next, prev, geo: geometryArrays(g) };
+  private geometry(s: FilamentState, boxSize: number, g: Geometry): void {
+    segmentVectors(s.n, s.x, s.y, s.z, s.next, boxSize, g);
+    const task: GeometryTask = {
+      kind: "geometry",
+      n: s.n,
+      next: s.next,
+      prev: s.prev,
+      geo: geometryArrays(g),
+    };
     const pool = this.field.pool;
     pool.run(task, () => runGeometry(task, pool.control, g.nodes, g.weights));
   }
@@ -243,7 +240,7 @@ export class FilamentSimulation {
   /** The stable step for the current state (without the advective limit): c·h_min²/(κΛ). */
   stableStep(): number {
     const s = this.state;
-    this.geometry(s.n, s.x, s.y, s.z, s.next, s.prev, this.config.velocity.boxSize, this.geo);
+    this.geometry(s, this.config.velocity.boxSize, this.geo);
     return this.stableStepFrom(this.geo, s.n);
   }
 
@@ -417,7 +414,7 @@ export class FilamentSimulation {
   private pushSlowLevel(window: number): void {
     const s = this.state, n = s.n, f = this.field, g = f.geo;
     const v = this.config.velocity;
-    this.geometry(n, s.x, s.y, s.z, s.next, s.prev, v.boxSize, g);
+    this.geometry(s, v.boxSize, g);
     const { kx, ky, kz } = this;
     for (let i = 0; i < n; i++) kx[i] = ky[i] = kz[i] = 0;
     f.addNonlocal(n, s.x, s.y, s.z, s.prev, kx, ky, kz);
@@ -435,7 +432,7 @@ export class FilamentSimulation {
       window * this.config.resolution,
       NEAR_SKIN * this.config.resolution,
     );
-    this.near.add(n, s.x, s.y, s.z, g.dx, g.dy, g.dz, -cf, kx, ky, kz);
+    this.near.add(this.near.addTask(n, s.x, s.y, s.z, g.dx, g.dy, g.dz, -cf, kx, ky, kz));
     this.hHead = (this.hHead + 1) % HIST_LEVELS;
     this.hTimes[this.hHead] = this.t;
     this.hLevels = Math.min(this.hLevels + 1, HIST_LEVELS);
@@ -492,18 +489,7 @@ export class FilamentSimulation {
       z: pz,
       next: s.next,
       prev: s.prev,
-      geo: {
-        tx: g.tx,
-        ty: g.ty,
-        tz: g.tz,
-        cx: g.cx,
-        cy: g.cy,
-        cz: g.cz,
-        dx: g.dx,
-        dy: g.dy,
-        dz: g.dz,
-        len: g.len,
-      },
+      geo: geometryArrays(g),
       cf,
       a0: v.coreRadius,
       near: this.near.addTask(n, px, py, pz, g.dx, g.dy, g.dz, cf, vx, vy, vz),
@@ -667,7 +653,7 @@ export class FilamentSimulation {
       if (!changed) break;
     }
     const s = this.state;
-    this.geometry(s.n, s.x, s.y, s.z, s.next, s.prev, L, this.geo);
+    this.geometry(s, L, this.geo);
     if (cfg.reconnect && !initial && s.n > 0) {
       if (this.relabel.length < s.n) {
         this.relabel = new Uint8Array(Math.max(s.n, 2 * this.relabel.length));
@@ -708,14 +694,14 @@ export class FilamentSimulation {
           });
         }
         for (const r of this.pending) this.removedLoop(r, RemovalReason.Tiny);
-        this.geometry(st.n, st.x, st.y, st.z, st.next, st.prev, L, this.geo);
+        this.geometry(st, L, this.geo);
         // The swapped connections are as short as the lines were close (down to ~δ_r/10): remesh them now,
         // or the next step's stable step c·h_min²/(κΛ) would shrink with them.
         if (cfg.remesh && this.remeshPass()) {
           compactInto(this.state, this.spare, this.compactPlain);
           this.swap();
           const s2 = this.state;
-          this.geometry(s2.n, s2.x, s2.y, s2.z, s2.next, s2.prev, L, this.geo);
+          this.geometry(s2, L, this.geo);
         }
       }
     }
@@ -735,7 +721,7 @@ export class FilamentSimulation {
    */
   private remeshPass(): boolean {
     const s = this.state, cfg = this.config;
-    this.geometry(s.n, s.x, s.y, s.z, s.next, s.prev, cfg.velocity.boxSize, this.geo);
+    this.geometry(s, cfg.velocity.boxSize, this.geo);
     const r = remesh(s, this.geo, this.remeshOpts!, this.ids, this.onTransfer);
     let changed = r.inserted + r.removed > 0;
     if (cfg.heaterRadius > 0 && r.inserted > 0) changed = this.absorbInHeater() || changed;

@@ -155,7 +155,7 @@ export class VelocityField {
       addLiaTerm(n, g.tx, g.ty, g.tz, g.cx, g.cy, g.cz, cf, c.coreRadius, vx, vy, vz);
       this.interactions = 0;
     } else {
-      addLocalTerm(n, prev, g.tx, g.ty, g.tz, g.cx, g.cy, g.cz, g.len, cf, c.coreRadius, vx, vy, vz);
+      addLocalTerm(0, n, prev, g.tx, g.ty, g.tz, g.cx, g.cy, g.cz, g.len, cf, c.coreRadius, vx, vy, vz);
       this.addNonlocal(n, x, y, z, prev, vx, vy, vz);
     }
     this.finish(n, x, y, vx, vy, vz);
