@@ -1,4 +1,7 @@
-/** Typed-array allocation, plain or on SharedArrayBuffers (arrays that worker threads read or write). */
+/**
+ * Typed-array allocation, plain or on SharedArrayBuffers (arrays that worker threads read or write).
+ */
+
 /** Allocates typed arrays (plain, or on a SharedArrayBuffer for threads). */
 export interface ArrayAllocator {
   f64(n: number): Float64Array;
