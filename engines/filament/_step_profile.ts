@@ -1,76 +1,99 @@
 /**
- * Where the CPU time of a multirate + FMM step goes (private profiling tool, not part of the suite): wraps the
- * step's parts with timers on one ring tangle and prints the share of each.
- *   deno run -A engines/filament/_step_profile.ts [points] [steps] [threads]
+ * Where the wall time of a multirate + FMM step goes, and what threads gain (private profiling tool, not part
+ * of the suite): wraps the step's parts with timers on one ring tangle and prints ms/step of each, for every
+ * thread count in the same process (alternating, best of `reps` per part), then the ratios to the first count.
+ * The runs must end bit-identical; the script says so.
+ *   deno run -A engines/filament/_step_profile.ts [points] [steps] [threads, e.g. 1,2] [reps]
  */
-import process from "node:process";
 import { tangleSimulation } from "./tree_bench.ts";
-import { INTEGRATOR_DEFAULTS } from "./simulation.ts";
+import { FilamentSimulation, INTEGRATOR_DEFAULTS } from "./simulation.ts";
 import { SegmentFmm } from "./fmm.ts";
 import { SegmentTree } from "./tree.ts";
 import { NearField } from "./near.ts";
 import { Reconnector } from "./reconnect.ts";
 import { FmmThreads } from "./fmm_threads.ts";
+import { ThreadPool } from "./thread_pool.ts";
 
-const totals = new Map<string, number>();
-const counts = new Map<string, number>();
-let depth = 0;
-function cpu(): number {
-  const u = process.cpuUsage();
-  return (u.user + u.system) / 1000;
-}
+let totals = new Map<string, number>();
 // deno-lint-ignore no-explicit-any
 function wrap(proto: any, name: string, label: string): void {
   const f = proto[name];
   proto[name] = function (this: unknown, ...args: unknown[]) {
     const t0 = performance.now();
-    depth++;
     try {
       return f.apply(this, args);
     } finally {
-      depth--;
       totals.set(label, (totals.get(label) ?? 0) + performance.now() - t0);
-      counts.set(label, (counts.get(label) ?? 0) + 1);
     }
   };
 }
 
 const points = Number(Deno.args[0] ?? 20000);
-const steps = Number(Deno.args[1] ?? 20);
-const threads = Number(Deno.args[2] ?? 1);
-const sim = tangleSimulation(points, "fmm", INTEGRATOR_DEFAULTS);
+const steps = Number(Deno.args[1] ?? 6);
+const counts = (Deno.args[2] ?? "1,2").split(",").map(Number);
+const reps = Number(Deno.args[3] ?? 3);
+
 // deno-lint-ignore no-explicit-any
-(sim.field.config as any).threads = threads;
-// warm up
-for (let k = 0; k < 6; k++) sim.advance(1);
-// deno-lint-ignore no-explicit-any
-const S = Object.getPrototypeOf(sim) as any;
+const S = FilamentSimulation.prototype as any;
 wrap(S, "pushSlowLevel", "slow level (all)");
 wrap(S, "fastRhs", "fast rhs (all)");
 wrap(S, "topology", "topology (all)");
-wrap(S, "approachSpeed", "approach speed");
+wrap(S, "approachStep", "approach step");
 wrap(S, "wrapAndGuard", "wrap+guard");
 wrap(SegmentTree.prototype, "build", "tree build");
 wrap(FmmThreads.prototype, "velocity", "fmm total");
 wrap(SegmentFmm.prototype, "prepare", "fmm prepare (P2M/M2M, radii)");
-wrap(SegmentFmm.prototype, "downward", "fmm L2L+L2P");
-wrap(SegmentFmm.prototype, "runUnit", "fmm units (traversal+M2L+P2P+down)");
 wrap(NearField.prototype, "build", "near build");
 wrap(NearField.prototype, "add", "near add");
 wrap(Reconnector.prototype, "run", "reconnect");
-const c0 = cpu(), w0 = performance.now();
-for (let k = 0; k < steps; k++) sim.advance(1);
-const c = cpu() - c0, w = performance.now() - w0;
-console.log(
-  `n = ${sim.state.n}, ${steps} steps, substeps last ${sim.lastSubsteps}, CPU ${c.toFixed(0)} ms, wall ${
-    w.toFixed(0)
-  } ms (${(w / steps).toFixed(0)} ms/step)`,
+wrap(ThreadPool.prototype, "run", "threaded parts (ThreadPool.run)");
+
+/** Best ms/step per part over the repetitions, per thread count. */
+const best = counts.map(() => new Map<string, number>());
+const finals: Float64Array[] = [];
+console.log(`load average before: ${Deno.loadavg().map((v) => v.toFixed(2)).join(" ")}`);
+for (let r = 0; r < reps; r++) {
+  for (let c = 0; c < counts.length; c++) {
+    const sim = tangleSimulation(points, "fmm", INTEGRATOR_DEFAULTS, counts[c]);
+    for (let k = 0; k < 6; k++) sim.advance(1); // warm up (and start the workers)
+    totals = new Map();
+    const w0 = performance.now();
+    for (let k = 0; k < steps; k++) sim.advance(1);
+    totals.set("step (wall)", performance.now() - w0);
+    for (const [k, v] of totals) best[c].set(k, Math.min(best[c].get(k) ?? Infinity, v / steps));
+    if (r === 0) finals[c] = sim.state.x.slice(0, sim.state.n);
+    console.log(
+      `rep ${r + 1}, ${counts[c]} thread(s): n = ${sim.state.n}, ${
+        (totals.get("step (wall)")! / steps).toFixed(1)
+      } ms/step`,
+    );
+    sim.field.close();
+  }
+}
+console.log(`load average after: ${Deno.loadavg().map((v) => v.toFixed(2)).join(" ")}`);
+const same = finals.every((f) =>
+  f.length === finals[0].length && f.every((v, i) => Object.is(v, finals[0][i]))
 );
-for (const [k, v] of [...totals].sort((a, b) => b[1] - a[1])) {
+console.log(`final positions bit-identical across thread counts: ${same}`);
+const wall = best[0].get("step (wall)")!, par = best[0].get("threaded parts (ThreadPool.run)") ?? 0;
+for (const t of counts.slice(1)) {
   console.log(
-    `${k.padEnd(40)} ${(v / steps).toFixed(1).padStart(8)} ms/step ${
-      (100 * v / w).toFixed(1).padStart(5)
-    } %  calls/step ${(counts.get(k)! / steps).toFixed(1)}`,
+    `Amdahl bound on ${t} threads from the ${counts[0]}-thread split (${
+      (100 * par / wall).toFixed(1)
+    } % in pool tasks): ` +
+      `${(wall / (wall - par + par / t)).toFixed(2)}×`,
   );
 }
-sim.field.close();
+const labels = [...best[0].keys()].sort((a, b) => best[0].get(b)! - best[0].get(a)!);
+console.log(
+  `${"part (best of " + reps + ", ms/step)".padEnd(34)}` +
+    counts.map((t) => `${t} thr`.padStart(10)).join("") +
+    counts.slice(1).map((t) => `ratio 1:${t}`.padStart(11)).join(""),
+);
+for (const k of labels) {
+  const v = counts.map((_, c) => best[c].get(k) ?? NaN);
+  console.log(
+    k.padEnd(34) + v.map((x) => x.toFixed(1).padStart(10)).join("") +
+      v.slice(1).map((x) => (v[0] / x).toFixed(2).padStart(11)).join(""),
+  );
+}

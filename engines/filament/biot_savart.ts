@@ -47,11 +47,12 @@ export function ringConstant(model: "biot-savart" | "lia"): number {
 }
 
 /**
- * Adds to (vx, vy, vz) the local term (κ/4π) ln(2√(ℓ₋ℓ₊)/(e^{1/4}a₀)) t×c at every point.
+ * Adds to (vx, vy, vz) the local term (κ/4π) ln(2√(ℓ₋ℓ₊)/(e^{1/4}a₀)) t×c at points i0 … i1 − 1.
  * `cf` = κ/4π; t, c, len from `computeGeometry`.
  */
 export function addLocalTerm(
-  n: number,
+  i0: number,
+  i1: number,
   prev: Int32Array,
   tx: Float64Array,
   ty: Float64Array,
@@ -67,7 +68,7 @@ export function addLocalTerm(
   vz: Float64Array,
 ): void {
   const scale = 2 / (E_QUARTER * a0);
-  for (let i = 0; i < n; i++) {
+  for (let i = i0; i < i1; i++) {
     const beta = cf * Math.log(scale * Math.sqrt(len[i] * len[prev[i]]));
     vx[i] += beta * (ty[i] * cz[i] - tz[i] * cy[i]);
     vy[i] += beta * (tz[i] * cx[i] - tx[i] * cz[i]);

@@ -280,66 +280,76 @@ export class SegmentFmm {
     this.cellCap = c;
   }
 
-  /** Multipoles of every cell (P2M at leaves, M2M upwards; children are numbered after their parent). */
+  /**
+   * Multipoles (P2M, folded) and target radii of the leaves among cells c0 … c1 − 1 (their multipoles must be
+   * zero): each leaf depends only on its own segments and points.
+   */
+  leaves(t: SegmentTree, c0: number, c1: number, x: Float64Array, y: Float64Array, z: Float64Array): void {
+    const K3 = 3 * this.mi.size;
+    const M = this.mult, rT = this.rT;
+    const { gu, gw } = this;
+    const p2m = this.k.p2m;
+    for (let c = c0; c < c1; c++) {
+      if (t.nchild[c] !== 0) continue;
+      const b = c * K3;
+      const X = t.gx[c], Y = t.gy[c], Z = t.gz[c];
+      const s0 = t.start[c], s1 = s0 + t.count[c];
+      for (let k = s0; k < s1; k++) {
+        const ex = t.sdx[k], ey = t.sdy[k], ez = t.sdz[k];
+        const hx = X - t.smx[k], hy = Y - t.smy[k], hz = Z - t.smz[k];
+        for (let q = 0; q < gu.length; q++) {
+          const u = gu[q], w = gw[q];
+          p2m(hx - u * ex, hy - u * ey, hz - u * ez, w * ex, w * ey, w * ez, M, b);
+        }
+      }
+      this.k.fold(M, b, this.multR, 3 * this.reducedSize * c);
+      let r2 = 0;
+      for (let k = s0; k < s1; k++) {
+        const i = t.perm[k];
+        const q = (x[i] - X) ** 2 + (y[i] - Y) ** 2 + (z[i] - Z) ** 2;
+        if (q > r2) r2 = q;
+      }
+      rT[c] = Math.sqrt(r2);
+    }
+  }
+
+  /** Multipoles of the cells above the leaves (M2M upwards; children are numbered after their parent). */
   private upward(t: SegmentTree): void {
     const K = this.mi.size, K3 = 3 * K;
     const M = this.mult, mono = this.mono, mi = this.mi;
-    const { gu, gw } = this;
-    const p2m = this.k.p2m;
-    M.fill(0, 0, t.nCell * K3);
+    const { shT, shS, shD, shC } = this;
     for (let c = t.nCell - 1; c >= 0; c--) {
+      if (t.nchild[c] === 0) continue;
       const b = c * K3;
       const X = t.gx[c], Y = t.gy[c], Z = t.gz[c];
-      if (t.nchild[c] === 0) {
-        const s0 = t.start[c], s1 = s0 + t.count[c];
-        for (let k = s0; k < s1; k++) {
-          const ex = t.sdx[k], ey = t.sdy[k], ez = t.sdz[k];
-          const hx = X - t.smx[k], hy = Y - t.smy[k], hz = Z - t.smz[k];
-          for (let q = 0; q < gu.length; q++) {
-            const u = gu[q], w = gw[q];
-            p2m(hx - u * ex, hy - u * ey, hz - u * ez, w * ex, w * ey, w * ez, M, b);
-          }
-        }
-      } else {
-        const f = t.child0[c], nc = t.nchild[c];
-        const { shT, shS, shD, shC } = this;
-        for (let ch = f; ch < f + nc; ch++) {
-          const cb = ch * K3;
-          mi.monomials(X - t.gx[ch], Y - t.gy[ch], Z - t.gz[ch], mono);
-          for (let e = 0; e < shT.length; e++) {
-            const w = shC[e] * mono[shD[e]];
-            const tt = b + shT[e], ss = cb + shS[e];
-            M[tt] += w * M[ss];
-            M[tt + K] += w * M[ss + K];
-            M[tt + 2 * K] += w * M[ss + 2 * K];
-          }
+      const f = t.child0[c], nc = t.nchild[c];
+      for (let ch = f; ch < f + nc; ch++) {
+        const cb = ch * K3;
+        mi.monomials(X - t.gx[ch], Y - t.gy[ch], Z - t.gz[ch], mono);
+        for (let e = 0; e < shT.length; e++) {
+          const w = shC[e] * mono[shD[e]];
+          const tt = b + shT[e], ss = cb + shS[e];
+          M[tt] += w * M[ss];
+          M[tt + K] += w * M[ss + K];
+          M[tt + 2 * K] += w * M[ss + 2 * K];
         }
       }
       this.k.fold(M, b, this.multR, 3 * this.reducedSize * c);
     }
   }
 
-  /** Target radius about X_c of the points whose segments the cell holds. */
-  private targetRadii(t: SegmentTree, x: Float64Array, y: Float64Array, z: Float64Array): void {
+  /** Target radius about X_c of the points whose segments the cell holds, above the leaves. */
+  private targetRadii(t: SegmentTree): void {
     const rT = this.rT;
     for (let c = t.nCell - 1; c >= 0; c--) {
+      if (t.nchild[c] === 0) continue;
       const X = t.gx[c], Y = t.gy[c], Z = t.gz[c];
-      let r2 = 0;
-      if (t.nchild[c] === 0) {
-        for (let k = t.start[c]; k < t.start[c] + t.count[c]; k++) {
-          const i = t.perm[k];
-          const q = (x[i] - X) ** 2 + (y[i] - Y) ** 2 + (z[i] - Z) ** 2;
-          if (q > r2) r2 = q;
-        }
-        rT[c] = Math.sqrt(r2);
-      } else {
-        let r = 0;
-        for (let ch = t.child0[c]; ch < t.child0[c] + t.nchild[c]; ch++) {
-          const q = rT[ch] + Math.hypot(t.gx[ch] - X, t.gy[ch] - Y, t.gz[ch] - Z);
-          if (q > r) r = q;
-        }
-        rT[c] = r;
+      let r = 0;
+      for (let ch = t.child0[c]; ch < t.child0[c] + t.nchild[c]; ch++) {
+        const q = rT[ch] + Math.hypot(t.gx[ch] - X, t.gy[ch] - Y, t.gz[ch] - Z);
+        if (q > r) r = q;
       }
+      rT[c] = r;
     }
   }
 
@@ -377,10 +387,20 @@ export class SegmentFmm {
   }
 
   /** Multipoles (P2M, M2M), target radii, cleared local expansions and counters: the serial first pass. */
-  prepare(t: SegmentTree, x: Float64Array, y: Float64Array, z: Float64Array): void {
+  prepare(
+    t: SegmentTree,
+    x: Float64Array,
+    y: Float64Array,
+    z: Float64Array,
+    runLeaves: (() => void) | null = null,
+  ): void {
     this.ensure(t.nCell);
+    this.mult.fill(0, 0, t.nCell * 3 * this.mi.size);
+    // Leaves first (each on its own: `runLeaves` may share them out between threads), then the cells above.
+    if (runLeaves === null) this.leaves(t, 0, t.nCell, x, y, z);
+    else runLeaves();
     this.upward(t);
-    this.targetRadii(t, x, y, z);
+    this.targetRadii(t);
     this.loc.fill(0, 0, t.nCell * 3 * this.mi.size);
     this.m2lCount = 0;
     this.p2pPairs = 0;

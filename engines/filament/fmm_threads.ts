@@ -1,12 +1,8 @@
 /**
  * Threads inside one realisation for the FMM (`fmm.ts`): the serial pass (multipoles, radii) runs on the
- * calling thread, then the work units (`SegmentFmm.units`) are shared out dynamically between the calling
- * thread and `threads − 1` module workers (`fmm_worker.ts`) through an atomic counter on shared memory. Every
- * point's velocity is computed by exactly one unit, in the same order whoever runs it, so results are
- * bit-identical for any number of threads.
- *
- * The calling thread blocks with `Atomics.wait` until the workers are done (allowed in workers and in Deno's
- * main thread). Workers are started on first use and stopped by `close()`.
+ * calling thread, then the work units (`SegmentFmm.units`) are shared out dynamically between the threads of a
+ * `ThreadPool` (`thread_pool.ts`). Every point's velocity is computed by exactly one unit, in the same order
+ * whoever runs it, so results are bit-identical for any number of threads.
  *
  * References: ECMAScript shared memory and atomics (ECMA-262 §25.4); Deno module workers.
  *
@@ -19,6 +15,7 @@
  */
 import { type NearKernel, SegmentFmm } from "./fmm.ts";
 import { type SegmentTree, SHARED } from "./tree.ts";
+import { NEXT_CHUNK, ThreadPool } from "./thread_pool.ts";
 
 /** Tree fields the workers read. */
 export const TREE_FIELDS = [
@@ -40,7 +37,7 @@ export const TREE_FIELDS = [
   "sdz",
 ] as const;
 
-/** One evaluation's message to a worker (typed arrays on SharedArrayBuffers). */
+/** One evaluation's task for the pool (typed arrays on SharedArrayBuffers). */
 export interface FmmTask {
   readonly kind: "fmm";
   readonly order: number;
@@ -58,21 +55,89 @@ export interface FmmTask {
   readonly vz: Float64Array;
   readonly units: Int32Array;
   readonly nUnits: number;
-  /** [next unit, workers done, failures, started flag of worker 1, 2, …]. */
-  readonly control: Int32Array;
-  /** Per worker: M2L count, segment pairs. */
+  /** Per thread slot: M2L count, segment pairs. */
   readonly stats: Float64Array;
-  readonly slot: number;
   readonly cf: number;
   readonly theta: number;
 }
 
-/** The calling thread's share of an FMM evaluation plus its worker pool (see module doc). */
+/** The multipoles and target radii of the leaves (`SegmentFmm.leaves`) for the pool. */
+export interface FmmLeavesTask {
+  readonly kind: "fmm-leaves";
+  readonly order: number;
+  readonly nearKernel: NearKernel;
+  readonly tree: FmmTask["tree"];
+  readonly nCell: number;
+  readonly mult: Float64Array;
+  readonly multR: Float64Array;
+  readonly rT: Float64Array;
+  readonly x: Float64Array;
+  readonly y: Float64Array;
+  readonly z: Float64Array;
+}
+
+/** Cells per chunk of an `FmmLeavesTask`. */
+const LEAF_CHUNK = 16;
+
+/**
+ * Runs the leaf chunks taken from the pool's counter with `fmm` (the calling thread's own FMM, slot 0, or a
+ * worker's copy pointed at the shared expansions).
+ */
+export function runFmmLeaves(fmm: SegmentFmm, task: FmmLeavesTask, control: Int32Array, slot: number): void {
+  if (slot > 0) {
+    fmm.mult = task.mult;
+    fmm.multR = task.multR;
+    fmm.rT = task.rT;
+  }
+  const t = task.tree as unknown as SegmentTree;
+  for (;;) {
+    const c0 = LEAF_CHUNK * Atomics.add(control, NEXT_CHUNK, 1);
+    if (c0 >= task.nCell) break;
+    fmm.leaves(t, c0, Math.min(task.nCell, c0 + LEAF_CHUNK), task.x, task.y, task.z);
+  }
+}
+
+/**
+ * Runs FMM work units taken from the pool's counter with `fmm` (the calling thread's own FMM, or a worker's
+ * copy pointed at the shared expansions) and records its counts in `stats` at `slot`.
+ */
+export function runFmmUnits(fmm: SegmentFmm, task: FmmTask, control: Int32Array, slot: number): void {
+  if (slot > 0) {
+    fmm.multR = task.multR;
+    fmm.loc = task.loc;
+    fmm.rT = task.rT;
+    fmm.m2lCount = 0;
+    fmm.p2pPairs = 0;
+  }
+  const t = task.tree as unknown as SegmentTree;
+  for (;;) {
+    const u = Atomics.add(control, NEXT_CHUNK, 1);
+    if (u >= task.nUnits) break;
+    fmm.runUnit(
+      t,
+      task.units[u],
+      task.x,
+      task.y,
+      task.z,
+      task.prev,
+      task.cf,
+      task.theta,
+      task.vx,
+      task.vy,
+      task.vz,
+    );
+  }
+  if (slot > 0) {
+    task.stats[2 * slot] = fmm.m2lCount;
+    task.stats[2 * slot + 1] = fmm.p2pPairs;
+  }
+}
+
+/** The calling thread's share of an FMM evaluation on a thread pool (see module doc). */
 export class FmmThreads {
-  readonly threads: number;
+  readonly pool: ThreadPool;
   readonly fmm: SegmentFmm;
   readonly nearKernel: NearKernel;
-  private workers: Worker[] = [];
   private cap = 0;
   private sx = SHARED.f64(0);
   private sy = SHARED.f64(0);
@@ -82,16 +147,20 @@ export class FmmThreads {
   private oy = SHARED.f64(0);
   private oz = SHARED.f64(0);
   private unitBuf = SHARED.i32(0);
-  private readonly control: Int32Array;
   private readonly stats: Float64Array;
 
-  constructor(threads: number, order: number, nearKernel: NearKernel = "f64") {
-    this.threads = Math.max(1, Math.floor(threads));
+  /** FMM of the given order on `pool` (a pool of that many threads is created when a number is given). */
+  constructor(pool: ThreadPool | number, order: number, nearKernel: NearKernel = "f64") {
+    this.pool = typeof pool === "number" ? new ThreadPool(pool) : pool;
     this.nearKernel = nearKernel;
     this.fmm = new SegmentFmm(order, nearKernel);
     this.fmm.alloc = SHARED;
-    this.stats = SHARED.f64(2 * this.threads);
-    this.control = SHARED.i32(3 + this.threads);
+    this.stats = SHARED.f64(2 * this.pool.threads);
+  }
+
+  /** Threads of the pool. */
+  get threads(): number {
+    return this.pool.threads;
   }
 
   private ensure(n: number, nCell: number): void {
@@ -107,9 +176,6 @@ export class FmmThreads {
       this.cap = c;
     }
     if (this.unitBuf.length < nCell) this.unitBuf = SHARED.i32(Math.max(256, 2 * nCell));
-    while (this.workers.length < this.threads - 1) {
-      this.workers.push(new Worker(new URL("./fmm_worker.ts", import.meta.url).href, { type: "module" }));
-    }
   }
 
   /**
@@ -131,7 +197,7 @@ export class FmmThreads {
   ): number {
     if (n === 0) return 0;
     this.ensure(n, t.nCell);
-    const { sx, sy, sz, sprev, ox, oy, oz, fmm, control, stats } = this;
+    const { sx, sy, sz, sprev, ox, oy, oz, fmm, stats } = this;
     sx.set(x.subarray(0, n));
     sy.set(y.subarray(0, n));
     sz.set(z.subarray(0, n));
@@ -139,73 +205,63 @@ export class FmmThreads {
     ox.fill(0, 0, n);
     oy.fill(0, 0, n);
     oz.fill(0, 0, n);
-    fmm.prepare(t, sx, sy, sz);
-    const units = fmm.units(t);
-    this.unitBuf.set(units);
-    const nUnits = units.length;
-    for (let k = 0; k < control.length; k++) Atomics.store(control, k, 0);
-    stats.fill(0);
     const tree = {} as FmmTask["tree"];
+    const pool = this.pool;
     for (const f of TREE_FIELDS) tree[f] = t[f];
-    const w = this.workers.length;
-    for (let k = 0; k < w; k++) {
-      const task: FmmTask = {
-        kind: "fmm",
+    fmm.prepare(t, sx, sy, sz, () => {
+      // (called after `prepare` has sized the expansion arrays)
+      const leaves: FmmLeavesTask = {
+        kind: "fmm-leaves",
         order: fmm.p,
         nearKernel: this.nearKernel,
         tree,
+        nCell: t.nCell,
+        mult: fmm.mult,
         multR: fmm.multR,
-        loc: fmm.loc,
         rT: fmm.rT,
         x: sx,
         y: sy,
         z: sz,
-        prev: sprev,
-        vx: ox,
-        vy: oy,
-        vz: oz,
-        units: this.unitBuf,
-        nUnits,
-        control,
-        stats,
-        slot: k + 1,
-        cf,
-        theta,
       };
-      this.workers[k].postMessage(task);
-    }
-    for (;;) {
-      const u = Atomics.add(control, 0, 1);
-      if (u >= nUnits) break;
-      fmm.runUnit(t, this.unitBuf[u], sx, sy, sz, sprev, cf, theta, ox, oy, oz);
-    }
-    const t0 = performance.now();
-    for (;;) {
-      const done = Atomics.load(control, 1);
-      if (done >= w) break;
-      Atomics.wait(control, 1, done, 1000);
-      for (let k = 1; k <= w; k++) {
-        if (Atomics.load(control, 2 + k) === 0 && performance.now() - t0 > 30000) {
-          throw new Error(
-            `FMM worker thread ${k} did not start within 30 s (engines/filament/fmm_worker.ts)`,
-          );
-        }
-      }
-    }
-    if (Atomics.load(control, 2) > 0) throw new Error("an FMM worker thread failed (see its error output)");
+      pool.run(leaves, () => runFmmLeaves(fmm, leaves, pool.control, 0));
+    });
+    const units = fmm.units(t);
+    this.unitBuf.set(units);
+    stats.fill(0);
+    const task: FmmTask = {
+      kind: "fmm",
+      order: fmm.p,
+      nearKernel: this.nearKernel,
+      tree,
+      multR: fmm.multR,
+      loc: fmm.loc,
+      rT: fmm.rT,
+      x: sx,
+      y: sy,
+      z: sz,
+      prev: sprev,
+      vx: ox,
+      vy: oy,
+      vz: oz,
+      units: this.unitBuf,
+      nUnits: units.length,
+      stats,
+      cf,
+      theta,
+    };
+    this.pool.run(task, () => runFmmUnits(fmm, task, this.pool.control, 0));
     for (let i = 0; i < n; i++) {
       vx[i] += ox[i];
       vy[i] += oy[i];
       vz[i] += oz[i];
     }
     let inter = fmm.m2lCount + fmm.p2pPairs;
-    for (let k = 1; k <= w; k++) inter += stats[2 * k] + stats[2 * k + 1];
+    for (let k = 1; k < this.pool.threads; k++) inter += stats[2 * k] + stats[2 * k + 1];
     return inter;
   }
 
-  /** Stops the workers. */
+  /** Stops the pool's workers. */
   close(): void {
-    for (const w of this.workers) w.terminate();
-    this.workers = [];
+    this.pool.close();
   }
 }

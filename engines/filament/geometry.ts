@@ -29,45 +29,58 @@
  * // computeGeometry(n, x, y, z, next, prev, 0, g); then g.tx[i], g.cx[i], g.len[i] …
  * ```
  */
+import { type ArrayAllocator, PLAIN } from "./_alloc.ts";
 
 /** Work arrays of the local geometry (length ≥ n; grown by doubling). */
 export class Geometry {
   capacity = 0;
+  /** How the arrays are allocated (SHARED when worker threads read them). */
+  readonly alloc: ArrayAllocator;
   /** Unit tangent. */
-  tx = new Float64Array(0);
-  ty = new Float64Array(0);
-  tz = new Float64Array(0);
+  tx: Float64Array = new Float64Array(0);
+  ty: Float64Array = new Float64Array(0);
+  tz: Float64Array = new Float64Array(0);
   /** Curvature vector s″ (towards the centre of curvature, magnitude 1/R). */
-  cx = new Float64Array(0);
-  cy = new Float64Array(0);
-  cz = new Float64Array(0);
+  cx: Float64Array = new Float64Array(0);
+  cy: Float64Array = new Float64Array(0);
+  cz: Float64Array = new Float64Array(0);
   /** Segment vector from point i to next[i] (minimum image). */
-  dx = new Float64Array(0);
-  dy = new Float64Array(0);
-  dz = new Float64Array(0);
+  dx: Float64Array = new Float64Array(0);
+  dy: Float64Array = new Float64Array(0);
+  dz: Float64Array = new Float64Array(0);
   /** Segment length |d_i|. */
-  len = new Float64Array(0);
+  len: Float64Array = new Float64Array(0);
   /** Fornberg scratch: 5 nodes and 5×3 weights. */
   readonly nodes = new Float64Array(5);
   readonly weights = new Float64Array(15);
+
+  constructor(alloc: ArrayAllocator = PLAIN) {
+    this.alloc = alloc;
+  }
 
   ensure(n: number): void {
     if (n <= this.capacity) return;
     let c = Math.max(16, this.capacity);
     while (c < n) c *= 2;
-    this.tx = new Float64Array(c);
-    this.ty = new Float64Array(c);
-    this.tz = new Float64Array(c);
-    this.cx = new Float64Array(c);
-    this.cy = new Float64Array(c);
-    this.cz = new Float64Array(c);
-    this.dx = new Float64Array(c);
-    this.dy = new Float64Array(c);
-    this.dz = new Float64Array(c);
-    this.len = new Float64Array(c);
+    this.tx = this.alloc.f64(c);
+    this.ty = this.alloc.f64(c);
+    this.tz = this.alloc.f64(c);
+    this.cx = this.alloc.f64(c);
+    this.cy = this.alloc.f64(c);
+    this.cz = this.alloc.f64(c);
+    this.dx = this.alloc.f64(c);
+    this.dy = this.alloc.f64(c);
+    this.dz = this.alloc.f64(c);
+    this.len = this.alloc.f64(c);
     this.capacity = c;
   }
 }
+
+/** The per-point arrays of a `Geometry` (what worker threads receive). */
+export type GeometryArrays = Pick<
+  Geometry,
+  "tx" | "ty" | "tz" | "cx" | "cy" | "cz" | "dx" | "dy" | "dz" | "len"
+>;
 
 /**
  * Fornberg's weights for derivatives 0..2 at z from `np` nodes xs[0..np): out[j·3 + k] is the weight of node j
@@ -113,9 +126,23 @@ export function computeGeometry(
   boxSize: number,
   g: Geometry,
 ): void {
+  segmentVectors(n, x, y, z, next, boxSize, g);
+  tangentsAndCurvature(0, n, next, prev, g, g.nodes, g.weights);
+}
+
+/** First pass of `computeGeometry`: segment vectors and lengths (grows g to n points). */
+export function segmentVectors(
+  n: number,
+  x: Float64Array,
+  y: Float64Array,
+  z: Float64Array,
+  next: Int32Array,
+  boxSize: number,
+  g: Geometry,
+): void {
   g.ensure(n);
   const L = boxSize;
-  const { dx, dy, dz, len, tx, ty, tz, cx, cy, cz, nodes, weights } = g;
+  const { dx, dy, dz, len } = g;
   for (let i = 0; i < n; i++) {
     const j = next[i];
     let ex = x[j] - x[i], ey = y[j] - y[i], ez = z[j] - z[i];
@@ -129,7 +156,23 @@ export function computeGeometry(
     dz[i] = ez;
     len[i] = Math.sqrt(ex * ex + ey * ey + ez * ez);
   }
-  for (let i = 0; i < n; i++) {
+}
+
+/**
+ * Second pass of `computeGeometry` for points i0 … i1 − 1: tangents and curvature vectors from the segment
+ * vectors of g (all points' segments must be done); `nodes` (5) and `weights` (15) are scratch.
+ */
+export function tangentsAndCurvature(
+  i0: number,
+  i1: number,
+  next: Int32Array,
+  prev: Int32Array,
+  g: GeometryArrays,
+  nodes: Float64Array,
+  weights: Float64Array,
+): void {
+  const { dx, dy, dz, len, tx, ty, tz, cx, cy, cz } = g;
+  for (let i = i0; i < i1; i++) {
     const p1 = prev[i], n1 = next[i];
     const p2 = prev[p1], n2 = next[n1];
     let d1x: number, d1y: number, d1z: number, d2x: number, d2y: number, d2z: number;
@@ -188,4 +231,46 @@ export function computeGeometry(
     cy[i] = qy;
     cz[i] = qz;
   }
+}
+
+/** Tangents and curvature of n points by chunks on worker threads (segment vectors done; shared arrays). */
+export interface GeometryTask {
+  readonly kind: "geometry";
+  readonly n: number;
+  readonly next: Int32Array;
+  readonly prev: Int32Array;
+  readonly geo: GeometryArrays;
+}
+
+/** Runs the chunks of a `GeometryTask` taken from `control[0]` (module doc of `thread_pool.ts`). */
+export function runGeometry(
+  t: GeometryTask,
+  control: Int32Array,
+  nodes: Float64Array,
+  weights: Float64Array,
+): void {
+  for (;;) {
+    const i0 = GEOMETRY_CHUNK * Atomics.add(control, 0, 1);
+    if (i0 >= t.n) break;
+    tangentsAndCurvature(i0, Math.min(t.n, i0 + GEOMETRY_CHUNK), t.next, t.prev, t.geo, nodes, weights);
+  }
+}
+
+/** Points per chunk of a `GeometryTask`. */
+const GEOMETRY_CHUNK = 512;
+
+/** The arrays of g as a plain object (what a task message carries). */
+export function geometryArrays(g: GeometryArrays): GeometryArrays {
+  return {
+    tx: g.tx,
+    ty: g.ty,
+    tz: g.tz,
+    cx: g.cx,
+    cy: g.cy,
+    cz: g.cz,
+    dx: g.dx,
+    dy: g.dy,
+    dz: g.dz,
+    len: g.len,
+  };
 }

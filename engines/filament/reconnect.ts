@@ -31,7 +31,9 @@
  */
 import type { Geometry } from "./geometry.ts";
 import type { FilamentState } from "./state.ts";
-import { CellHash } from "./_cell_hash.ts";
+import { CellHash, cellSlot } from "./_cell_hash.ts";
+import { SHARED } from "./_alloc.ts";
+import type { ThreadPool } from "./thread_pool.ts";
 
 export interface ReconnectOptions {
   /** Reconnection distance δ_r (length). */
@@ -71,45 +73,52 @@ function dist(s: FilamentState, a: number, b: number, L: number): number {
 /** Cell-list reconnection finder with reusable work arrays. */
 export class Reconnector {
   private cap = 0;
-  private cellNext = new Int32Array(0);
-  private loopPos = new Int32Array(0);
-  private loopIdx = new Int32Array(0);
+  private cellNext = SHARED.i32(0);
+  private loopPos = SHARED.i32(0);
+  private loopIdx = SHARED.i32(0);
+  /** Point count of each point's loop. */
+  private loopSize = SHARED.i32(0);
   private used = new Uint8Array(0);
   private readonly cells = new CellHash();
   private pairCap = 0;
-  private pa = new Int32Array(0);
-  private pb = new Int32Array(0);
-  private pd = new Float64Array(0);
+  private pa = SHARED.i32(0);
+  private pb = SHARED.i32(0);
+  private pd = SHARED.f64(0);
   private nPairs = 0;
+  private pool: ThreadPool | null = null;
+  private readonly fill = SHARED.i32(1);
+  private readonly solo = new Int32Array(1);
+  private readonly scratch = new PairScratch();
+
+  constructor() {
+    this.cells.alloc = SHARED;
+  }
+
+  /** Shares the candidate search with the pool's threads (null: the calling thread only). */
+  usePool(pool: ThreadPool | null): void {
+    this.pool = pool;
+  }
 
   private ensure(n: number): void {
     if (n > this.cap) {
       let c = Math.max(64, this.cap);
       while (c < n) c *= 2;
-      this.cellNext = new Int32Array(c);
-      this.loopPos = new Int32Array(c);
-      this.loopIdx = new Int32Array(c);
+      this.cellNext = SHARED.i32(c);
+      this.loopPos = SHARED.i32(c);
+      this.loopIdx = SHARED.i32(c);
+      this.loopSize = SHARED.i32(c);
       this.used = new Uint8Array(c);
       this.cap = c;
     }
   }
 
-  private addPair(a: number, b: number, d: number): void {
-    if (this.nPairs >= this.pairCap) {
-      const c = Math.max(64, 2 * this.pairCap);
-      const na = new Int32Array(c), nb = new Int32Array(c), nd = new Float64Array(c);
-      na.set(this.pa.subarray(0, this.nPairs));
-      nb.set(this.pb.subarray(0, this.nPairs));
-      nd.set(this.pd.subarray(0, this.nPairs));
-      this.pa = na;
-      this.pb = nb;
-      this.pd = nd;
-      this.pairCap = c;
-    }
-    this.pa[this.nPairs] = a;
-    this.pb[this.nPairs] = b;
-    this.pd[this.nPairs] = d;
-    this.nPairs++;
+  /** Grows the pair arrays to hold c pairs (keeping none). */
+  private ensurePairs(c: number): void {
+    if (c <= this.pairCap) return;
+    this.pa = SHARED.i32(c);
+    this.pb = SHARED.i32(c);
+    this.pd = SHARED.f64(c);
+    this.pairCap = c;
   }
 
   /**
@@ -135,6 +144,7 @@ export class Reconnector {
       for (let q = 0; q < state.loopLen[k]; q++) {
         this.loopPos[s0 + q] = q;
         this.loopIdx[s0 + q] = k;
+        this.loopSize[s0 + q] = state.loopLen[k];
       }
     }
     // Cell list. Periodic: nc cells per side of size L/nc ≥ δ_r; unbounded: cells of size δ_r, hashed.
@@ -149,35 +159,40 @@ export class Reconnector {
       cellNext[i] = hHead[h];
       hHead[h] = i;
     }
-    this.nPairs = 0;
-    const span = nc > 0 && nc < 3 ? 0 : 1; // tiny periodic boxes: one cell holds everything
-    for (let i = 0; i < n; i++) {
-      const ix = Math.floor(x[i] / cs), iy = Math.floor(y[i] / cs), iz = Math.floor(z[i] / cs);
-      for (let a = -span; a <= span; a++) {
-        for (let b = -span; b <= span; b++) {
-          for (let c = -span; c <= span; c++) {
-            const h = cells.slot(ix + a, iy + b, iz + c, false);
-            if (h < 0) continue;
-            for (let j = hHead[h]; j >= 0; j = cellNext[j]) {
-              if (j <= i) continue;
-              let dx = x[j] - x[i], dy = y[j] - y[i], dz = z[j] - z[i];
-              if (L > 0) {
-                dx -= L * Math.round(dx / L);
-                dy -= L * Math.round(dy / L);
-                dz -= L * Math.round(dz / L);
-              }
-              const d2 = dx * dx + dy * dy + dz * dz;
-              if (d2 >= dr2) continue;
-              if (this.loopIdx[i] === this.loopIdx[j]) {
-                const len = state.loopLen[this.loopIdx[i]];
-                const dd = Math.abs(this.loopPos[i] - this.loopPos[j]);
-                if (Math.min(dd, len - dd) < 4) continue;
-              }
-              this.addPair(i, j, Math.sqrt(d2));
-            }
-          }
-        }
-      }
+    this.ensurePairs(Math.max(64, n >> 3));
+    for (;;) {
+      const task: ReconnectSearchTask = {
+        kind: "reconnect-search",
+        n,
+        x,
+        y,
+        z,
+        loopIdx: this.loopIdx,
+        loopPos: this.loopPos,
+        loopSize: this.loopSize,
+        head: hHead,
+        keys: cells.keys,
+        mask: cells.mask,
+        nc,
+        cs,
+        span: nc > 0 && nc < 3 ? 0 : 1, // tiny periodic boxes: one cell holds everything
+        cellNext,
+        boxSize: L,
+        dr2,
+        pa: this.pa,
+        pb: this.pb,
+        pd: this.pd,
+        fill: this.fill,
+      };
+      this.fill[0] = 0;
+      const pool = this.pool;
+      if (pool === null) {
+        this.solo[0] = 0;
+        runReconnectSearch(task, this.solo, this.scratch);
+      } else pool.run(task, () => runReconnectSearch(task, pool.control, this.scratch));
+      this.nPairs = this.fill[0];
+      if (this.nPairs <= this.pairCap) break;
+      this.ensurePairs(Math.ceil(1.5 * this.nPairs));
     }
     if (nc > 0 && nc < 3) this.dedupePairs();
     if (this.nPairs === 0) return 0;
@@ -298,5 +313,98 @@ export class Reconnector {
       w++;
     }
     this.nPairs = w;
+  }
+}
+
+/** Target points per chunk of the candidate search. */
+const CHUNK = 512;
+
+/** The candidate-pair search of one reconnection pass for the pool (typed arrays on SharedArrayBuffers). */
+export interface ReconnectSearchTask {
+  readonly kind: "reconnect-search";
+  readonly n: number;
+  readonly x: Float64Array;
+  readonly y: Float64Array;
+  readonly z: Float64Array;
+  readonly loopIdx: Int32Array;
+  readonly loopPos: Int32Array;
+  readonly loopSize: Int32Array;
+  /** Cell table (`CellHash`) of the points: heads, keys, size − 1, cells per side, cell side, cell reach. */
+  readonly head: Int32Array;
+  readonly keys: Float64Array;
+  readonly mask: number;
+  readonly nc: number;
+  readonly cs: number;
+  readonly span: number;
+  readonly cellNext: Int32Array;
+  readonly boxSize: number;
+  readonly dr2: number;
+  /** Output pairs (i < j, distance), in no particular order (`Reconnector.run` sorts them). */
+  readonly pa: Int32Array;
+  readonly pb: Int32Array;
+  readonly pd: Float64Array;
+  /** [pairs reserved so far]; above pa.length the pairs did not fit (the search is repeated, larger). */
+  readonly fill: Int32Array;
+}
+
+/** A thread's private pair buffer for `runReconnectSearch`. */
+export class PairScratch {
+  j = new Int32Array(256);
+  d = new Float64Array(256);
+}
+
+/** Finds the candidate pairs (i, j > i) of the target chunks taken from `control[0]`. */
+export function runReconnectSearch(t: ReconnectSearchTask, control: Int32Array, scratch: PairScratch): void {
+  const { n, x, y, z, loopIdx, loopPos, loopSize, head, keys, mask, nc, cs, span, cellNext, dr2 } = t;
+  const L = t.boxSize;
+  for (;;) {
+    const i0 = CHUNK * Atomics.add(control, 0, 1);
+    if (i0 >= n) break;
+    const i1 = Math.min(n, i0 + CHUNK);
+    let count = 0;
+    for (let i = i0; i < i1; i++) {
+      const ix = Math.floor(x[i] / cs), iy = Math.floor(y[i] / cs), iz = Math.floor(z[i] / cs);
+      for (let a = -span; a <= span; a++) {
+        for (let b = -span; b <= span; b++) {
+          for (let c = -span; c <= span; c++) {
+            const h = cellSlot(head, keys, mask, nc, ix + a, iy + b, iz + c);
+            if (h < 0) continue;
+            for (let j = head[h]; j >= 0; j = cellNext[j]) {
+              if (j <= i) continue;
+              let dx = x[j] - x[i], dy = y[j] - y[i], dz = z[j] - z[i];
+              if (L > 0) {
+                dx -= L * Math.round(dx / L);
+                dy -= L * Math.round(dy / L);
+                dz -= L * Math.round(dz / L);
+              }
+              const d2 = dx * dx + dy * dy + dz * dz;
+              if (d2 >= dr2) continue;
+              if (loopIdx[i] === loopIdx[j]) {
+                const dd = Math.abs(loopPos[i] - loopPos[j]);
+                if (Math.min(dd, loopSize[i] - dd) < 4) continue;
+              }
+              if (2 * count + 2 > scratch.j.length) {
+                const gj = new Int32Array(2 * scratch.j.length), gd = new Float64Array(2 * scratch.d.length);
+                gj.set(scratch.j);
+                gd.set(scratch.d);
+                scratch.j = gj;
+                scratch.d = gd;
+              }
+              scratch.j[2 * count] = i;
+              scratch.j[2 * count + 1] = j;
+              scratch.d[count++] = Math.sqrt(d2);
+            }
+          }
+        }
+      }
+    }
+    if (count === 0) continue;
+    const base = Atomics.add(t.fill, 0, count);
+    if (base + count > t.pa.length) continue; // does not fit: the caller grows the arrays and repeats
+    for (let k = 0; k < count; k++) {
+      t.pa[base + k] = scratch.j[2 * k];
+      t.pb[base + k] = scratch.j[2 * k + 1];
+      t.pd[base + k] = scratch.d[k];
+    }
   }
 }

@@ -58,14 +58,15 @@
  */
 import { EngineFailure } from "../contract.ts";
 import type { EngineEvent } from "../contract.ts";
-import { computeGeometry, Geometry } from "./geometry.ts";
+import { Geometry, geometryArrays, type GeometryTask, runGeometry, segmentVectors } from "./geometry.ts";
+import { FastRhsScratch, type FastRhsTask, runFastRhs } from "./fast_rhs.ts";
 import { Reconnector } from "./reconnect.ts";
 import type { ReconnectionRecord, ReconnectOptions } from "./reconnect.ts";
 import { remesh } from "./remesh.ts";
 import type { MarkerTransfer, RemeshOptions } from "./remesh.ts";
 import { compactInto, FilamentState, HIST_LEVELS, HIST_STRIDE, IdCounters, RemovalReason } from "./state.ts";
-import { addLocalTerm } from "./biot_savart.ts";
 import { NearField } from "./near.ts";
+import { SHARED } from "./_alloc.ts";
 import { type AccuracyCheckSettings, AccuracyMonitor } from "./accuracy.ts";
 import type { CompactOptions, RemovedLoop } from "./state.ts";
 import { type VelocityConfig, VelocityField } from "./velocity.ts";
@@ -133,7 +134,7 @@ export class FilamentSimulation {
   /** Sampled errors of the fast nonlocal sum (null when the check is off). */
   readonly accuracy: AccuracyMonitor | null;
   /** Geometry of the state after the last topology pass. */
-  readonly geo = new Geometry();
+  readonly geo = new Geometry(SHARED);
   readonly ids = new IdCounters();
   private readonly reconnector = new Reconnector();
   private readonly emit: (e: EngineEvent) => void;
@@ -146,18 +147,18 @@ export class FilamentSimulation {
   /** Last step size. */
   lastDt = 0;
   private cap = 0;
-  private x0 = new Float64Array(0);
-  private y0 = new Float64Array(0);
-  private z0 = new Float64Array(0);
-  private xs = new Float64Array(0);
-  private ys = new Float64Array(0);
-  private zs = new Float64Array(0);
-  private kx = new Float64Array(0);
-  private ky = new Float64Array(0);
-  private kz = new Float64Array(0);
-  private ax = new Float64Array(0);
-  private ay = new Float64Array(0);
-  private az = new Float64Array(0);
+  private x0: Float64Array = new Float64Array(0);
+  private y0: Float64Array = new Float64Array(0);
+  private z0: Float64Array = new Float64Array(0);
+  private xs: Float64Array = new Float64Array(0);
+  private ys: Float64Array = new Float64Array(0);
+  private zs: Float64Array = new Float64Array(0);
+  private kx: Float64Array = new Float64Array(0);
+  private ky: Float64Array = new Float64Array(0);
+  private kz: Float64Array = new Float64Array(0);
+  private ax: Float64Array = new Float64Array(0);
+  private ay: Float64Array = new Float64Array(0);
+  private az: Float64Array = new Float64Array(0);
   private relabel = new Uint8Array(0);
 
   /**
@@ -172,6 +173,8 @@ export class FilamentSimulation {
     this.config = config;
     this.emit = emit;
     this.field = new VelocityField(config.velocity);
+    this.near.usePool(this.field.pool);
+    this.reconnector.usePool(this.field.pool);
     const ac = config.accuracyCheck;
     this.accuracy = ac !== undefined && ac.every > 0 ? new AccuracyMonitor(ac) : null;
     const L = config.velocity.boxSize;
@@ -204,25 +207,40 @@ export class FilamentSimulation {
     if (n <= this.cap) return;
     let c = Math.max(64, this.cap);
     while (c < n) c *= 2;
-    this.x0 = new Float64Array(c);
-    this.y0 = new Float64Array(c);
-    this.z0 = new Float64Array(c);
-    this.xs = new Float64Array(c);
-    this.ys = new Float64Array(c);
-    this.zs = new Float64Array(c);
-    this.kx = new Float64Array(c);
-    this.ky = new Float64Array(c);
-    this.kz = new Float64Array(c);
-    this.ax = new Float64Array(c);
-    this.ay = new Float64Array(c);
-    this.az = new Float64Array(c);
+    // On shared memory: the near field's threads read positions and geometry and write velocities.
+    this.x0 = SHARED.f64(c);
+    this.y0 = SHARED.f64(c);
+    this.z0 = SHARED.f64(c);
+    this.xs = SHARED.f64(c);
+    this.ys = SHARED.f64(c);
+    this.zs = SHARED.f64(c);
+    this.kx = SHARED.f64(c);
+    this.ky = SHARED.f64(c);
+    this.kz = SHARED.f64(c);
+    this.ax = SHARED.f64(c);
+    this.ay = SHARED.f64(c);
+    this.az = SHARED.f64(c);
     this.cap = c;
+  }
+
+  /** `computeGeometry` with the tangents and curvature by chunks on the thread pool (g on shared memory). */
+  private geometry(s: FilamentState, boxSize: number, g: Geometry): void {
+    segmentVectors(s.n, s.x, s.y, s.z, s.next, boxSize, g);
+    const task: GeometryTask = {
+      kind: "geometry",
+      n: s.n,
+      next: s.next,
+      prev: s.prev,
+      geo: geometryArrays(g),
+    };
+    const pool = this.field.pool;
+    pool.run(task, () => runGeometry(task, pool.control, g.nodes, g.weights));
   }
 
   /** The stable step for the current state (without the advective limit): c·h_min²/(κΛ). */
   stableStep(): number {
     const s = this.state;
-    computeGeometry(s.n, s.x, s.y, s.z, s.next, s.prev, this.config.velocity.boxSize, this.geo);
+    this.geometry(s, this.config.velocity.boxSize, this.geo);
     return this.stableStepFrom(this.geo, s.n);
   }
 
@@ -346,8 +364,10 @@ export class FilamentSimulation {
   /** Slot of level j. */
   private readonly hSlot = new Int32Array(HIST_LEVELS);
   private readonly near = new NearField();
-  private loopIndex = new Int32Array(0);
-  private loopLength = new Int32Array(0);
+  /** Per point (compact state, shared memory): loop number, position in the loop and the loop's length. */
+  private loopIndex: Int32Array = new Int32Array(0);
+  private loopLength: Int32Array = new Int32Array(0);
+  private loopNumber: Int32Array = new Int32Array(0);
 
   /**
    * Longest step for which no listed pair that may reconnect closes in by more than δ_r plus its distance
@@ -356,14 +376,16 @@ export class FilamentSimulation {
   private approachStep(): number {
     const s = this.state, n = s.n;
     if (this.loopIndex.length < n) {
-      this.loopIndex = new Int32Array(this.cap);
-      this.loopLength = new Int32Array(this.cap);
+      this.loopIndex = SHARED.i32(this.cap);
+      this.loopLength = SHARED.i32(this.cap);
+      this.loopNumber = SHARED.i32(this.cap);
     }
     for (let k = 0; k < s.nLoops; k++) {
       const s0 = s.loopStart[k], m = s.loopLen[k];
       for (let q = 0; q < m; q++) {
         this.loopIndex[s0 + q] = q;
         this.loopLength[s0 + q] = m;
+        this.loopNumber[s0 + q] = k;
       }
     }
     return this.near.approachStep(
@@ -374,7 +396,7 @@ export class FilamentSimulation {
       this.kx,
       this.ky,
       this.kz,
-      s.loopOf,
+      this.loopNumber,
       this.loopIndex,
       this.loopLength,
       RECONNECT_MIN_LINKS,
@@ -392,7 +414,7 @@ export class FilamentSimulation {
   private pushSlowLevel(window: number): void {
     const s = this.state, n = s.n, f = this.field, g = f.geo;
     const v = this.config.velocity;
-    computeGeometry(n, s.x, s.y, s.z, s.next, s.prev, v.boxSize, g);
+    this.geometry(s, v.boxSize, g);
     const { kx, ky, kz } = this;
     for (let i = 0; i < n; i++) kx[i] = ky[i] = kz[i] = 0;
     f.addNonlocal(n, s.x, s.y, s.z, s.prev, kx, ky, kz);
@@ -410,7 +432,7 @@ export class FilamentSimulation {
       window * this.config.resolution,
       NEAR_SKIN * this.config.resolution,
     );
-    this.near.add(n, s.x, s.y, s.z, g.dx, g.dy, g.dz, -cf, kx, ky, kz);
+    this.near.add(this.near.addTask(n, s.x, s.y, s.z, g.dx, g.dy, g.dz, -cf, kx, ky, kz));
     this.hHead = (this.hHead + 1) % HIST_LEVELS;
     this.hTimes[this.hHead] = this.t;
     this.hLevels = Math.min(this.hLevels + 1, HIST_LEVELS);
@@ -455,31 +477,38 @@ export class FilamentSimulation {
   ): void {
     const s = this.state, n = s.n, f = this.field, g = f.geo;
     const v = this.config.velocity;
-    computeGeometry(n, px, py, pz, s.next, s.prev, v.boxSize, g);
+    // Segment vectors of all points first (the chunks read their neighbours'), the rest by chunks of points.
+    segmentVectors(n, px, py, pz, s.next, v.boxSize, g);
     this.extrapolationWeights(tau);
     const cf = v.kappa / (4 * Math.PI);
-    const h = s.hist, hc = s.histCount, w = this.hWeights, slot = this.hSlot;
-    const K = HIST_LEVELS;
-    for (let i = 0; i < n; i++) vx[i] = vy[i] = vz[i] = 0;
-    addLocalTerm(n, s.prev, g.tx, g.ty, g.tz, g.cx, g.cy, g.cz, g.len, cf, v.coreRadius, vx, vy, vz);
-    this.near.add(n, px, py, pz, g.dx, g.dy, g.dz, cf, vx, vy, vz);
-    for (let i = 0; i < n; i++) {
-      const o = Math.min(hc[i], order);
-      let sx = 0, sy = 0, sz = 0;
-      const b = i * HIST_STRIDE;
-      for (let j = 0; j < o; j++) {
-        const wj = w[(o - 1) * K + j];
-        const q = b + 3 * slot[j];
-        sx += wj * h[q];
-        sy += wj * h[q + 1];
-        sz += wj * h[q + 2];
-      }
-      vx[i] += sx;
-      vy[i] += sy;
-      vz[i] += sz;
-    }
-    f.finish(n, px, py, vx, vy, vz);
+    const task: FastRhsTask = {
+      kind: "fast-rhs",
+      n,
+      x: px,
+      y: py,
+      z: pz,
+      next: s.next,
+      prev: s.prev,
+      geo: geometryArrays(g),
+      cf,
+      a0: v.coreRadius,
+      near: this.near.addTask(n, px, py, pz, g.dx, g.dy, g.dz, cf, vx, vy, vz),
+      hist: s.hist,
+      histCount: s.histCount,
+      weights: this.hWeights,
+      slot: this.hSlot,
+      order,
+      levels: HIST_LEVELS,
+      stride: HIST_STRIDE,
+      friction: { alpha: v.alpha, alphaPrime: v.alphaPrime, normal: v.normal },
+      vx,
+      vy,
+      vz,
+    };
+    const pool = f.pool;
+    pool.run(task, () => runFastRhs(task, pool.control, this.scratch));
   }
+  private readonly scratch = new FastRhsScratch();
 
   /**
    * One multirate step (module doc): one slow evaluation, then RK4 substeps of the fast system. While fewer
@@ -624,7 +653,7 @@ export class FilamentSimulation {
       if (!changed) break;
     }
     const s = this.state;
-    computeGeometry(s.n, s.x, s.y, s.z, s.next, s.prev, L, this.geo);
+    this.geometry(s, L, this.geo);
     if (cfg.reconnect && !initial && s.n > 0) {
       if (this.relabel.length < s.n) {
         this.relabel = new Uint8Array(Math.max(s.n, 2 * this.relabel.length));
@@ -665,14 +694,14 @@ export class FilamentSimulation {
           });
         }
         for (const r of this.pending) this.removedLoop(r, RemovalReason.Tiny);
-        computeGeometry(st.n, st.x, st.y, st.z, st.next, st.prev, L, this.geo);
+        this.geometry(st, L, this.geo);
         // The swapped connections are as short as the lines were close (down to ~δ_r/10): remesh them now,
         // or the next step's stable step c·h_min²/(κΛ) would shrink with them.
         if (cfg.remesh && this.remeshPass()) {
           compactInto(this.state, this.spare, this.compactPlain);
           this.swap();
           const s2 = this.state;
-          computeGeometry(s2.n, s2.x, s2.y, s2.z, s2.next, s2.prev, L, this.geo);
+          this.geometry(s2, L, this.geo);
         }
       }
     }
@@ -692,7 +721,7 @@ export class FilamentSimulation {
    */
   private remeshPass(): boolean {
     const s = this.state, cfg = this.config;
-    computeGeometry(s.n, s.x, s.y, s.z, s.next, s.prev, cfg.velocity.boxSize, this.geo);
+    this.geometry(s, cfg.velocity.boxSize, this.geo);
     const r = remesh(s, this.geo, this.remeshOpts!, this.ids, this.onTransfer);
     let changed = r.inserted + r.removed > 0;
     if (cfg.heaterRadius > 0 && r.inserted > 0) changed = this.absorbInHeater() || changed;

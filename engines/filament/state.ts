@@ -43,11 +43,11 @@ export class FilamentState {
   /** Number of slots in use (points, compact state) or slots touched (during topology edits). */
   n = 0;
   capacity = 0;
-  x = new Float64Array(0);
-  y = new Float64Array(0);
-  z = new Float64Array(0);
-  next = new Int32Array(0);
-  prev = new Int32Array(0);
+  x: Float64Array = new Float64Array(0);
+  y: Float64Array = new Float64Array(0);
+  z: Float64Array = new Float64Array(0);
+  next: Int32Array = new Int32Array(0);
+  prev: Int32Array = new Int32Array(0);
   /** Persistent point id (markers keep theirs for life; other points get new ids when created). */
   id = new Int32Array(0);
   /** 1 for Lagrangian markers. */
@@ -64,8 +64,8 @@ export class FilamentState {
    * Integrator memory per point (multirate stepping, `simulation.ts`): HIST_STRIDE slots of past slow
    * velocities, and how many of the newest levels are valid for this point.
    */
-  hist = new Float64Array(0);
-  histCount = new Uint8Array(0);
+  hist: Float64Array = new Float64Array(0);
+  histCount: Uint8Array = new Uint8Array(0);
 
   nLoops = 0;
   loopCapacity = 0;
@@ -83,17 +83,23 @@ export class FilamentState {
     if (cap <= this.capacity) return;
     let c = Math.max(16, this.capacity);
     while (c < cap) c *= 2;
+    // Positions, links and integrator memory on shared memory: the multirate step's worker threads read them.
     const f = (a: Float64Array) => {
-      const b = new Float64Array(c);
+      const b = new Float64Array(new SharedArrayBuffer(8 * c));
       b.set(a.subarray(0, this.n));
       return b;
     };
-    const i = (a: Int32Array) => {
+    const i = (a: Int32Array): Int32Array<ArrayBuffer> => {
       const b = new Int32Array(c);
       b.set(a.subarray(0, this.n));
       return b;
     };
-    const u = (a: Uint8Array) => {
+    const si = (a: Int32Array): Int32Array => {
+      const b = new Int32Array(new SharedArrayBuffer(4 * c));
+      b.set(a.subarray(0, this.n));
+      return b;
+    };
+    const u = (a: Uint8Array): Uint8Array<ArrayBuffer> => {
       const b = new Uint8Array(c);
       b.set(a.subarray(0, this.n));
       return b;
@@ -101,8 +107,8 @@ export class FilamentState {
     this.x = f(this.x);
     this.y = f(this.y);
     this.z = f(this.z);
-    this.next = i(this.next);
-    this.prev = i(this.prev);
+    this.next = si(this.next);
+    this.prev = si(this.prev);
     this.id = i(this.id);
     this.marker = u(this.marker);
     this.loopOf = i(this.loopOf);
@@ -110,10 +116,12 @@ export class FilamentState {
     this.imx = i(this.imx);
     this.imy = i(this.imy);
     this.imz = i(this.imz);
-    const h = new Float64Array(c * HIST_STRIDE);
+    const h = new Float64Array(new SharedArrayBuffer(8 * c * HIST_STRIDE));
     h.set(this.hist.subarray(0, this.n * HIST_STRIDE));
     this.hist = h;
-    this.histCount = u(this.histCount);
+    const hc = new Uint8Array(new SharedArrayBuffer(c));
+    hc.set(this.histCount.subarray(0, this.n));
+    this.histCount = hc;
     this.capacity = c;
   }
 

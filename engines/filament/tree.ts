@@ -47,6 +47,9 @@
  * // tree.velocity(n, x, y, z, prev, kappa / (4 * Math.PI), 0.4, vx, vy, vz);
  * ```
  */
+import { type ArrayAllocator, PLAIN } from "./_alloc.ts";
+
+export { type ArrayAllocator, PLAIN, SHARED } from "./_alloc.ts";
 
 const MAX_DEPTH = 40;
 
@@ -83,21 +86,6 @@ function addQuad(
   qd[qb + 16] += p22 * ey;
   qd[qb + 17] += p22 * ez;
 }
-
-/** Allocates typed arrays (plain, or on a SharedArrayBuffer for threads). */
-export interface ArrayAllocator {
-  f64(n: number): Float64Array;
-  i32(n: number): Int32Array;
-}
-
-/** Plain allocation. */
-export const PLAIN: ArrayAllocator = { f64: (n) => new Float64Array(n), i32: (n) => new Int32Array(n) };
-
-/** Allocation on SharedArrayBuffers (arrays that worker threads read or write). */
-export const SHARED: ArrayAllocator = {
-  f64: (n) => new Float64Array(new SharedArrayBuffer(8 * n)),
-  i32: (n) => new Int32Array(new SharedArrayBuffer(4 * n)),
-};
 
 /** Octree over segments with monopole, dipole and quadrupole moments (see module doc). */
 export class SegmentTree {

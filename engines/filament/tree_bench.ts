@@ -32,6 +32,7 @@ export function tangleSimulation(
   points: number,
   summation: "direct" | "tree" | "fmm",
   integrator: IntegratorConfig = { kind: "rk4" },
+  threads = 1,
 ): FilamentSimulation {
   const rings = Math.max(1, Math.round(points / 84));
   const cloud = ringCloud(
@@ -41,7 +42,7 @@ export function tangleSimulation(
     RandomStream.fromState([2024, 12, 1, 7]),
   );
   return new FilamentSimulation(
-    simConfig(0.1, { maxPoints: 1e7, integrator }, { summation, leafSize: 16, theta: 0.4 }),
+    simConfig(0.1, { maxPoints: 1e7, integrator }, { summation, leafSize: 16, theta: 0.4, threads }),
     cloud.loops,
     () => {},
   );

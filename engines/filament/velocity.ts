@@ -30,6 +30,7 @@ import type { AccuracyMonitor } from "./accuracy.ts";
 import type { NearKernel, SegmentFmm } from "./fmm.ts";
 import { FmmThreads } from "./fmm_threads.ts";
 import { SegmentTree, SHARED } from "./tree.ts";
+import { ThreadPool } from "./thread_pool.ts";
 
 /** Prescribed normal-fluid velocity field. */
 export type NormalFlow =
@@ -62,7 +63,10 @@ export interface VelocityConfig {
   readonly leafSize: number;
   /** Fast multipole settings: expansion order p, opening parameter θ (r_T + b_S < θd), leaf size. */
   readonly fmm: FmmSettings;
-  /** Threads for the FMM inside this realisation (results do not depend on it; default 1). */
+  /**
+   * Threads inside this realisation (FMM, and the near field of multirate steps; results do not depend on it;
+   * default 1).
+   */
   readonly threads?: number;
   /** Periodic cube side, 0 for unbounded. */
   readonly boxSize: number;
@@ -87,14 +91,17 @@ export const FMM_DEFAULTS: FmmSettings = { order: 5, theta: 0.5, leafSize: 64, n
 export class VelocityField {
   readonly config: VelocityConfig;
   /** Geometry of the last evaluation. */
-  readonly geo = new Geometry();
+  readonly geo = new Geometry(SHARED);
   readonly tree = new SegmentTree();
-  private pool: FmmThreads | null = null;
+  /** Worker threads of this field (the FMM's, shared with the multirate near field); started on first use. */
+  readonly pool: ThreadPool;
+  private fmmThreads: FmmThreads | null = null;
   /** Pair interactions (segment–point and cell–point) of the last evaluation. */
   interactions = 0;
 
   constructor(config: VelocityConfig) {
     this.config = config;
+    this.pool = new ThreadPool(config.threads ?? 1);
   }
 
   /** The nonlocal summation method used for n points. */
@@ -116,11 +123,15 @@ export class VelocityField {
 
   /** The FMM of this field (created on first use; its counters describe the last evaluation's own share). */
   get fmm(): SegmentFmm {
-    if (this.pool === null) {
-      this.pool = new FmmThreads(this.config.threads ?? 1, this.config.fmm.order, this.config.fmm.nearKernel);
+    return this.fmmPool().fmm;
+  }
+
+  private fmmPool(): FmmThreads {
+    if (this.fmmThreads === null) {
+      this.fmmThreads = new FmmThreads(this.pool, this.config.fmm.order, this.config.fmm.nearKernel);
       this.tree.useAllocator(SHARED);
     }
-    return this.pool.fmm;
+    return this.fmmThreads;
   }
 
   /** Writes ds/dt of the n points into (vx, vy, vz). */
@@ -144,7 +155,7 @@ export class VelocityField {
       addLiaTerm(n, g.tx, g.ty, g.tz, g.cx, g.cy, g.cz, cf, c.coreRadius, vx, vy, vz);
       this.interactions = 0;
     } else {
-      addLocalTerm(n, prev, g.tx, g.ty, g.tz, g.cx, g.cy, g.cz, g.len, cf, c.coreRadius, vx, vy, vz);
+      addLocalTerm(0, n, prev, g.tx, g.ty, g.tz, g.cx, g.cy, g.cz, g.len, cf, c.coreRadius, vx, vy, vz);
       this.addNonlocal(n, x, y, z, prev, vx, vy, vz);
     }
     this.finish(n, x, y, vx, vy, vz);
@@ -182,12 +193,9 @@ export class VelocityField {
     if (method === "fmm") {
       // One code path for any thread count (the sum lands in a zeroed buffer, then is added), so the
       // thread count never changes a bit of the result.
-      if (this.pool === null) {
-        this.pool = new FmmThreads(c.threads ?? 1, c.fmm.order, c.fmm.nearKernel);
-        this.tree.useAllocator(SHARED);
-      }
+      const fmm = this.fmmPool();
       this.tree.build(n, x, y, z, g.dx, g.dy, g.dz, g.len, 0, c.fmm.leafSize);
-      this.interactions = this.pool.velocity(this.tree, n, x, y, z, prev, cf, c.fmm.theta, vx, vy, vz);
+      this.interactions = fmm.velocity(this.tree, n, x, y, z, prev, cf, c.fmm.theta, vx, vy, vz);
     } else if (method === "tree") {
       this.tree.build(n, x, y, z, g.dx, g.dy, g.dz, g.len, L, c.leafSize);
       this.interactions = this.tree.velocity(n, x, y, z, prev, cf, c.theta, vx, vy, vz);
@@ -212,8 +220,7 @@ export class VelocityField {
 
   /** Stops worker threads (if any). */
   close(): void {
-    this.pool?.close();
-    this.pool = null;
+    this.pool.close();
   }
 
   /** The next nonlocal sum by a tree method is checked against the exact sum at sampled points. */
@@ -233,48 +240,69 @@ export class VelocityField {
     vy: Float64Array,
     vz: Float64Array,
   ): void {
-    const c = this.config;
     const g = this.geo;
-    const nf = c.normal;
-    if (nf.kind === "line-heater") {
-      // External counter-superflow v_s,ext = −(ρ_n/ρ_s) v_n.
-      const k = -nf.normalToSuperRatio * nf.strength;
-      for (let i = 0; i < n; i++) {
-        const r2 = x[i] * x[i] + y[i] * y[i];
-        if (r2 === 0) continue;
-        vx[i] += k * x[i] / r2;
-        vy[i] += k * y[i] / r2;
+    applyFlowAndFriction(0, n, this.config, x, y, g.tx, g.ty, g.tz, vx, vy, vz);
+  }
+}
+
+/** The settings `applyFlowAndFriction` reads. */
+export type FrictionSettings = Pick<VelocityConfig, "alpha" | "alphaPrime" | "normal">;
+
+/**
+ * `VelocityField.finish` for points i0 … i1 − 1 (tangents t): adds the external counter-superflow to the
+ * superfluid velocity in (vx, vy, vz) and applies mutual friction.
+ */
+export function applyFlowAndFriction(
+  i0: number,
+  i1: number,
+  c: FrictionSettings,
+  x: Float64Array,
+  y: Float64Array,
+  tx: Float64Array,
+  ty: Float64Array,
+  tz: Float64Array,
+  vx: Float64Array,
+  vy: Float64Array,
+  vz: Float64Array,
+): void {
+  const nf = c.normal;
+  if (nf.kind === "line-heater") {
+    // External counter-superflow v_s,ext = −(ρ_n/ρ_s) v_n.
+    const k = -nf.normalToSuperRatio * nf.strength;
+    for (let i = i0; i < i1; i++) {
+      const r2 = x[i] * x[i] + y[i] * y[i];
+      if (r2 === 0) continue;
+      vx[i] += k * x[i] / r2;
+      vy[i] += k * y[i] / r2;
+    }
+  }
+  if (c.alpha === 0 && c.alphaPrime === 0) return;
+  const a = c.alpha, ap = c.alphaPrime;
+  let unx = 0, uny = 0, unz = 0;
+  if (nf.kind === "uniform") {
+    unx = nf.velocity[0];
+    uny = nf.velocity[1];
+    unz = nf.velocity[2];
+  }
+  const heater = nf.kind === "line-heater" ? nf.strength : 0;
+  for (let i = i0; i < i1; i++) {
+    let wx = unx, wy = uny, wz = unz;
+    if (heater !== 0) {
+      const r2 = x[i] * x[i] + y[i] * y[i];
+      if (r2 > 0) {
+        wx = heater * x[i] / r2;
+        wy = heater * y[i] / r2;
+        wz = 0;
       }
     }
-    if (c.alpha === 0 && c.alphaPrime === 0) return;
-    const a = c.alpha, ap = c.alphaPrime;
-    const { tx, ty, tz } = g;
-    let unx = 0, uny = 0, unz = 0;
-    if (nf.kind === "uniform") {
-      unx = nf.velocity[0];
-      uny = nf.velocity[1];
-      unz = nf.velocity[2];
-    }
-    const heater = nf.kind === "line-heater" ? nf.strength : 0;
-    for (let i = 0; i < n; i++) {
-      let wx = unx, wy = uny, wz = unz;
-      if (heater !== 0) {
-        const r2 = x[i] * x[i] + y[i] * y[i];
-        if (r2 > 0) {
-          wx = heater * x[i] / r2;
-          wy = heater * y[i] / r2;
-          wz = 0;
-        }
-      }
-      // w = v_n − v_s
-      wx -= vx[i];
-      wy -= vy[i];
-      wz -= vz[i];
-      const sx = ty[i] * wz - tz[i] * wy, sy = tz[i] * wx - tx[i] * wz, sz = tx[i] * wy - ty[i] * wx; // t×w
-      const qx = ty[i] * sz - tz[i] * sy, qy = tz[i] * sx - tx[i] * sz, qz = tx[i] * sy - ty[i] * sx; // t×(t×w)
-      vx[i] += a * sx - ap * qx;
-      vy[i] += a * sy - ap * qy;
-      vz[i] += a * sz - ap * qz;
-    }
+    // w = v_n − v_s
+    wx -= vx[i];
+    wy -= vy[i];
+    wz -= vz[i];
+    const sx = ty[i] * wz - tz[i] * wy, sy = tz[i] * wx - tx[i] * wz, sz = tx[i] * wy - ty[i] * wx; // t×w
+    const qx = ty[i] * sz - tz[i] * sy, qy = tz[i] * sx - tx[i] * sz, qz = tx[i] * sy - ty[i] * sx; // t×(t×w)
+    vx[i] += a * sx - ap * qx;
+    vy[i] += a * sy - ap * qy;
+    vz[i] += a * sz - ap * qz;
   }
 }
