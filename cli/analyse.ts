@@ -305,9 +305,12 @@ function evText(e: EvaporationEstimate | null, scale = 1): string {
 /** One line on evaporation and losses, or null when not computed. */
 function evaporationText(e: EvaporationAnalysis, units?: UnitLabels): string | null {
   if (e.status !== "ok") return e.status === "error" ? `evaporation: error: ${e.reason}` : null;
-  const lost = e.lostFraction?.value !== null && e.lostFraction
-    ? `; lost by the end: ${evText(e.lostFraction, 100)} % of the ${
-      e.objects === "loops" ? "line length (negative: it grew)" : "vortices"
+  const lf = e.lostFraction;
+  // A negative loss of line length means the tangle grew (e.g. driven by a normal flow): say so only then.
+  const grew = lf !== null && lf.value !== null && Math.min(lf.value, lf.interval?.lower ?? lf.value) < 0;
+  const lost = lf?.value !== null && lf
+    ? `; lost by the end: ${evText(lf, 100)} % of the ${
+      e.objects === "loops" ? `line length${grew ? " (negative: it grew)" : ""}` : "vortices"
     }`
     : "";
   const half = e.tHalf?.value !== null && e.tHalf
