@@ -7,6 +7,22 @@
 import { type ArrayAllocator, PLAIN } from "./_alloc.ts";
 
 /**
+ * A cell table as the worker threads see it (typed arrays on SharedArrayBuffers): `CellHash` heads, keys, size − 1
+ * and cells per side, the cell side cs, the cell reach span (cells searched on each side), the per-point list
+ * links, and the periodic box side (0: unbounded).
+ */
+export interface CellTableView {
+  readonly head: Int32Array;
+  readonly keys: Float64Array;
+  readonly mask: number;
+  readonly nc: number;
+  readonly cs: number;
+  readonly span: number;
+  readonly cellNext: Int32Array;
+  readonly boxSize: number;
+}
+
+/**
  * Slot of cell (ix, iy, iz) in a table (head, keys, mask = size − 1, nc): the slot holding it, or, if absent,
  * the empty slot where it would go, as −2 − slot (a plain function, so worker threads can search a shared
  * table).

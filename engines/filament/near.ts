@@ -21,7 +21,7 @@
  * ```
  */
 
-import { CellHash, cellSlot } from "./_cell_hash.ts";
+import { CellHash, cellSlot, type CellTableView } from "./_cell_hash.ts";
 import { SHARED } from "./_alloc.ts";
 import type { ThreadPool } from "./thread_pool.ts";
 
@@ -37,7 +37,7 @@ export function nearWindow(q: number): number {
 const CHUNK = 256;
 
 /** The pair-list search of one build for the pool (typed arrays on SharedArrayBuffers). */
-export interface NearBuildTask {
+export interface NearBuildTask extends CellTableView {
   readonly kind: "near-build";
   readonly n: number;
   readonly x: Float64Array;
@@ -48,15 +48,6 @@ export interface NearBuildTask {
   readonly mx: Float64Array;
   readonly my: Float64Array;
   readonly mz: Float64Array;
-  /** Cell table (`CellHash`): heads, keys, size − 1, cells per side; cs the cell side, span the cell reach. */
-  readonly head: Int32Array;
-  readonly keys: Float64Array;
-  readonly mask: number;
-  readonly nc: number;
-  readonly cs: number;
-  readonly span: number;
-  readonly cellNext: Int32Array;
-  readonly boxSize: number;
   readonly R2: number;
   readonly start: Int32Array;
   readonly end: Int32Array;

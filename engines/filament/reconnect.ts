@@ -31,7 +31,7 @@
  */
 import type { Geometry } from "./geometry.ts";
 import type { FilamentState } from "./state.ts";
-import { CellHash, cellSlot } from "./_cell_hash.ts";
+import { CellHash, cellSlot, type CellTableView } from "./_cell_hash.ts";
 import { SHARED } from "./_alloc.ts";
 import type { ThreadPool } from "./thread_pool.ts";
 
@@ -320,7 +320,7 @@ export class Reconnector {
 const CHUNK = 512;
 
 /** The candidate-pair search of one reconnection pass for the pool (typed arrays on SharedArrayBuffers). */
-export interface ReconnectSearchTask {
+export interface ReconnectSearchTask extends CellTableView {
   readonly kind: "reconnect-search";
   readonly n: number;
   readonly x: Float64Array;
@@ -329,15 +329,6 @@ export interface ReconnectSearchTask {
   readonly loopIdx: Int32Array;
   readonly loopPos: Int32Array;
   readonly loopSize: Int32Array;
-  /** Cell table (`CellHash`) of the points: heads, keys, size − 1, cells per side, cell side, cell reach. */
-  readonly head: Int32Array;
-  readonly keys: Float64Array;
-  readonly mask: number;
-  readonly nc: number;
-  readonly cs: number;
-  readonly span: number;
-  readonly cellNext: Int32Array;
-  readonly boxSize: number;
   readonly dr2: number;
   /** Output pairs (i < j, distance), in no particular order (`Reconnector.run` sorts them). */
   readonly pa: Int32Array;
