@@ -56,6 +56,36 @@ export interface SliceReport {
 }
 
 /**
+ * Creates a new shard with its schema and study record under a temporary name and renames it into place, so a
+ * `collect` running meanwhile never sees a shard without tables (it would refuse it as "not a shard"). An
+ * existing shard (a resumed task) is left as it is; a temporary file left by a killed task is replaced.
+ */
+function createShard(study: NormalizedStudy, opts: SliceOptions): void {
+  try {
+    Deno.statSync(opts.shardPath);
+    return;
+  } catch (e) {
+    if (!(e instanceof Deno.errors.NotFound)) throw e;
+  }
+  const part = `${opts.shardPath}.part`;
+  for (const f of [part, `${part}-journal`, `${part}-wal`, `${part}-shm`]) {
+    try {
+      Deno.removeSync(f);
+    } catch {
+      // not there
+    }
+  }
+  const store = StudyStore.open(part, { command: "run-slice", lock: false });
+  try {
+    store.db.exec("PRAGMA journal_mode = DELETE");
+    recordStudy(store, study, opts.provenance);
+  } finally {
+    store.close();
+  }
+  Deno.renameSync(part, opts.shardPath);
+}
+
+/**
  * Runs the realisations with the given keys into the shard database (created if needed).
  * @throws ExecutorError when a key is not part of the study (the slice does not belong to it).
  */
@@ -76,6 +106,7 @@ export async function executeSlice(
     return r;
   });
   // A shard has exactly one writer, its array task; shards may live on a network file system without locks.
+  createShard(study, opts);
   const store = StudyStore.open(opts.shardPath, { command: "run-slice", lock: false });
   try {
     try {

@@ -81,3 +81,29 @@ Deno.test("executeSlice: a key that is not part of the study is refused before a
     "is not part of study cluster-small",
   );
 });
+
+Deno.test("executeSlice: a new shard is built under a temporary name and renamed whole; a killed task's leftover is replaced", async () => {
+  const { dir, studyPath } = studyInTempDir();
+  const study = await loadNormalizedForTest(studyPath);
+  const shardPath = `${dir}/shard-7-1.sqlite`;
+  // A temporary file left by a task killed while creating its shard is replaced.
+  Deno.writeTextFileSync(`${shardPath}.part`, "left by a killed task");
+  let seen = [] as string[];
+  const report = await executeSlice(study, [planStudy(study)[0].key], {
+    shardPath,
+    provenance: TEST_PROVENANCE,
+    onFinished: () => {
+      // What a `collect` running now would open: the shard already holds its schema and study record.
+      const s = StudyStore.open(shardPath, { command: "test", lock: false });
+      try {
+        seen = (s.db.prepare("SELECT study_hash FROM studies").all() as { study_hash: string }[])
+          .map((r) => r.study_hash);
+      } finally {
+        s.close();
+      }
+    },
+  });
+  assertEquals(report.completed, 1);
+  assertEquals(seen, [study.hash]);
+  assertThrows(() => Deno.statSync(`${shardPath}.part`), Deno.errors.NotFound);
+});
